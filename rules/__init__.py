@@ -1,0 +1,1 @@
+"""Data package: shipped inside the wheel, read through importlib.resources."""

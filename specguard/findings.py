@@ -1,0 +1,86 @@
+"""The finding: the one shape every stage reports problems in.
+
+Built-in findings that are not rules (file, YAML, schema, unit, reference and
+waiver problems, internal errors) use the reserved ids in :data:`BUILTIN_IDS`.
+Rule findings use the ids of the rule pack in ``rules/``.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Literal
+
+Severity = Literal["error", "warning", "info"]
+
+SEVERITY_ORDER: dict[str, int] = {"info": 0, "warning": 1, "error": 2}
+
+# Reserved ids of the built-in findings, with a one-line meaning each.
+BUILTIN_IDS: dict[str, str] = {
+    "input-unreadable": "an input path is missing, unreadable or not a regular file (exit 2)",
+    "text-encoding": "the file is not valid UTF-8 text, or holds forbidden characters",
+    "yaml-syntax": "the YAML text cannot be parsed",
+    "yaml-structure": "the document has the wrong shape (empty, several documents, root not a mapping, directive, undefined alias)",
+    "yaml-limit": "a size, depth, alias or node budget of the loader was exceeded",
+    "yaml-tag": "an explicit YAML tag was used; specs carry plain values only",
+    "yaml-key": "a mapping key is duplicated or is not a string",
+    "number-invalid": "a number is not finite, out of range or ambiguous",
+    "schema-violation": "the spec does not match the published schema",
+    "unit-invalid": "a dimensional value has a missing, unknown or wrong unit",
+    "reference-invalid": "a library reference cannot be resolved safely",
+    "waiver-invalid": "a waiver is malformed, expired, unused or not allowed",
+    "rule-not-applicable": "a rule could not be applied because the spec lacks what it needs",
+    "internal-error": "specguard itself failed; please report it (exit 3)",
+}
+
+
+@dataclass(frozen=True, slots=True)
+class Location:
+    """A place in a file: repo-relative posix path, 1-based line and column
+    (counted in code points), optional end, and the document path as a tuple
+    of keys and indices (``("motor", "terminal_inductance")``)."""
+
+    file: str
+    line: int = 1
+    column: int = 1
+    end_line: int | None = None
+    end_column: int | None = None
+    path: tuple[str | int, ...] = ()
+
+    @property
+    def pointer(self) -> str:
+        """The document path as a JSON Pointer (RFC 6901)."""
+        if not self.path:
+            return ""
+        parts = (str(p).replace("~", "~0").replace("/", "~1") for p in self.path)
+        return "/" + "/".join(parts)
+
+
+@dataclass(frozen=True, slots=True)
+class Finding:
+    rule: str
+    severity: Severity
+    message: str
+    location: Location
+    related: tuple[Location, ...] = ()
+    operating_point: str | None = None
+    # (figure name, SI value, SI unit) triples behind the message
+    figures: tuple[tuple[str, float, str], ...] = ()
+    remedies: tuple[str, ...] = ()
+    help: str = ""
+    waived: str | None = None  # the waiver's justification when waived
+    meta: tuple[tuple[str, str], ...] = field(default=())
+
+    def sort_key(self) -> tuple:
+        loc = self.location
+        return (loc.file, loc.line, loc.column, self.rule, self.operating_point or "", self.message)
+
+
+def dotted(path: tuple[str | int, ...]) -> str:
+    """A document path for messages: ``operating_points[2].speed``."""
+    out = ""
+    for part in path:
+        if isinstance(part, int):
+            out += f"[{part}]"
+        else:
+            out += f".{part}" if out else str(part)
+    return out

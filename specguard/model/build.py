@@ -1,0 +1,261 @@
+"""Build the typed, frozen model from plain data, with every problem located.
+
+pydantic runs strict (no ``"5"`` for 5, no ``true`` for 1, no NaN), so that the
+model and the published JSON Schema accept the same documents. Errors become
+findings: unit problems are ``unit-invalid``, everything else
+``schema-violation``. An unknown key points at the key itself with a
+"did you mean" suggestion; a missing key points at its parent mapping.
+"""
+
+from __future__ import annotations
+
+import difflib
+import types
+import typing
+from collections.abc import Callable
+from typing import Any
+
+from pydantic import BaseModel, ValidationError
+
+from ..findings import Finding, Location, dotted
+from .spec import Spec
+
+Locate = Callable[..., tuple[Location, tuple[Location, ...]]]
+
+_KIND = {
+    "string_type": "a string",
+    "int_type": "an integer",
+    "float_type": "a number",
+    "bool_type": "true or false",
+    "dict_type": "a mapping",
+    "model_type": "a mapping",
+    "model_attributes_type": "a mapping",
+    "tuple_type": "a list",
+    "list_type": "a list",
+}
+
+_YAML11_BOOLEANS = {"yes", "no", "on", "off", "y", "n", "Yes", "No", "On", "Off", "YES", "NO"}
+
+
+def _type_name(value: Any) -> str:
+    if value is None:
+        return "null"
+    if isinstance(value, bool):
+        return "a boolean"
+    if isinstance(value, int):
+        return "an integer"
+    if isinstance(value, float):
+        return "a number"
+    if isinstance(value, str):
+        return "a string"
+    if isinstance(value, dict):
+        return "a mapping"
+    if isinstance(value, list):
+        return "a list"
+    return type(value).__name__
+
+
+def _lookup(data: Any, path: tuple) -> tuple[bool, Any]:
+    node = data
+    for part in path:
+        if isinstance(node, dict) and isinstance(part, str) and part in node:
+            node = node[part]
+        elif isinstance(node, list) and isinstance(part, int) and 0 <= part < len(node):
+            node = node[part]
+        else:
+            return False, None
+    return True, node
+
+
+def _unwrap(annotation: Any) -> list[Any]:
+    """The concrete classes inside Optional/Union/tuple/Annotated."""
+    origin = typing.get_origin(annotation)
+    if origin is typing.Annotated:
+        return _unwrap(typing.get_args(annotation)[0])
+    if origin in (typing.Union, types.UnionType, tuple, list):
+        out: list[Any] = []
+        for arg in typing.get_args(annotation):
+            if arg is not Ellipsis:
+                out.extend(_unwrap(arg))
+        return out
+    return [annotation]
+
+
+def model_at(path: tuple) -> type[BaseModel] | None:
+    """The model class that describes the mapping at ``path`` (indices skipped)."""
+    current: type[BaseModel] | None = Spec
+    for part in path:
+        if current is None:
+            return None
+        if isinstance(part, int):
+            continue
+        field = current.model_fields.get(part)
+        if field is None:
+            return None
+        models = [c for c in _unwrap(field.annotation) if isinstance(c, type) and issubclass(c, BaseModel)]
+        current = models[0] if models else None
+    return current
+
+
+def _field_path(loc: tuple) -> tuple:
+    # pydantic inserts no union member names for Optional fields, but a
+    # function-validator tag may appear; keep only keys and indices we know.
+    return tuple(p for p in loc if isinstance(p, (str, int)))
+
+
+def _error_to_finding(err: dict, data: dict, locate: Locate) -> Finding:
+    path = _field_path(err.get("loc", ()))
+    kind = err.get("type", "")
+    where = dotted(path) or "spec"
+    exists, value = _lookup(data, path)
+
+    if kind == "unit_invalid":
+        loc, rel = locate(path)
+        return Finding("unit-invalid", "error", f"{where}: {err['ctx']['message']}", loc, rel)
+    if kind == "extra_forbidden":
+        parent = model_at(path[:-1])
+        known = list(parent.model_fields) if parent else []
+        key = str(path[-1]) if path else ""
+        hint = difflib.get_close_matches(key, known, n=1, cutoff=0.6)
+        message = f"{where}: unknown key '{key}'"
+        if hint:
+            message += f"; did you mean '{hint[0]}'?"
+        elif known:
+            message += f" (allowed here: {', '.join(known)})"
+        loc, rel = locate(path, key=True)
+        return Finding("schema-violation", "error", message, loc, rel)
+    if kind == "missing":
+        parent_where = dotted(path[:-1]) or "the top level"
+        loc, rel = locate(path[:-1])
+        message = f"{parent_where}: missing required key '{path[-1]}'"
+        return Finding("schema-violation", "error", message, loc, rel)
+
+    loc, rel = locate(path)
+    if kind == "value_range":
+        message = f"{where}: {err['ctx']['message']}"
+    elif kind == "literal_error":
+        expected = err.get("ctx", {}).get("expected", "")
+        message = f"{where}: {value!r} is not allowed; expected one of {expected}"
+    elif kind in _KIND:
+        message = f"{where}: expected {_KIND[kind]}, got {_type_name(value) if exists else 'nothing'}"
+        if kind == "bool_type" and isinstance(value, str) and value in _YAML11_BOOLEANS:
+            message += " (YAML 1.2 booleans are true and false only)"
+        elif kind in ("int_type", "float_type") and isinstance(value, str) and ":" in value:
+            message += " (YAML 1.2 reads 1:30 as text, not as a sexagesimal number)"
+        elif kind in ("int_type", "float_type") and isinstance(value, str):
+            message += " (write numbers without quotes)"
+        elif kind == "int_type" and isinstance(value, float):
+            message += " (write a whole number without a decimal point)"
+    elif kind in ("greater_than", "greater_than_equal", "less_than", "less_than_equal"):
+        message = f"{where}: {value!r} {err['msg'].replace('Input should be ', 'should be ')}"
+    elif kind in ("too_short", "too_long"):
+        message = f"{where}: {err['msg'].replace('Tuple', 'list').replace('List', 'list')}"
+    elif kind == "string_pattern_mismatch":
+        pattern = err.get("ctx", {}).get("pattern", "")
+        message = f"{where}: {value!r} does not have the expected form ({_pattern_hint(pattern)})"
+    elif kind in ("string_too_long", "string_too_short"):
+        message = f"{where}: {err['msg'].replace('String', 'text')}"
+    elif kind == "value_error":
+        message = f"{where}: {err['msg'].replace('Value error, ', '')}"
+    else:
+        message = f"{where}: {err.get('msg', 'invalid value')}"
+    return Finding("schema-violation", "error", message, loc, rel)
+
+
+def _pattern_hint(pattern: str) -> str:
+    if pattern.startswith("^https://"):
+        return "an https:// link"
+    if "\\d{4}" in pattern:
+        return "a date YYYY-MM-DD"
+    if pattern.startswith("^[a-z][a-z0-9-]"):
+        return "a rule id in lower case with hyphens"
+    if pattern.startswith("^[A-Za-z0-9]"):
+        return "letters, digits, '.', '_' and '-', starting with a letter or digit"
+    return f"pattern {pattern}"
+
+
+def build(data: dict, locate: Locate) -> tuple[Spec | None, list[Finding]]:
+    """Validate ``data`` into a :class:`Spec`; return it (or None) and the findings."""
+    try:
+        spec = Spec.model_validate(data)
+    except ValidationError as exc:
+        findings = [_error_to_finding(err, data, locate) for err in exc.errors(include_url=False)]
+        return None, findings
+    findings = consistency(spec, locate)
+    return (None if any(f.severity == "error" for f in findings) else spec), findings
+
+
+DC_SCHEMES = ("bipolar", "unipolar-single", "unipolar-phase-shifted")
+THREE_PHASE_SCHEMES = ("six-step-chop-one", "six-step-chop-both", "sinusoidal", "space-vector")
+
+
+def consistency(spec: Spec, locate: Locate) -> list[Finding]:
+    """Cross-field rules of the format that a per-field schema cannot state."""
+    out: list[Finding] = []
+
+    def bad(path: tuple, message: str) -> None:
+        loc, rel = locate(path)
+        out.append(Finding("schema-violation", "error", f"{dotted(path)}: {message}", loc, rel))
+
+    motor, stage = spec.motor, spec.stage
+    scheme = stage.pwm.scheme
+    if motor.type == "brushed-dc":
+        if scheme not in DC_SCHEMES:
+            bad(("stage", "pwm", "scheme"),
+                f"'{scheme}' drives a three-phase motor; a brushed DC motor takes one of "
+                + ", ".join(DC_SCHEMES))
+        if motor.torque_constant.current != "dc":
+            bad(("motor", "torque_constant", "current"),
+                "a brushed DC motor's torque constant refers to its dc current (write 'dc')")
+        if motor.back_emf_constant.voltage != "terminal":
+            bad(("motor", "back_emf_constant", "voltage"),
+                "a brushed DC motor's back-EMF constant is a terminal voltage (write 'terminal')")
+    else:
+        if scheme not in THREE_PHASE_SCHEMES:
+            bad(("stage", "pwm", "scheme"),
+                f"'{scheme}' drives an H-bridge; a three-phase motor takes one of "
+                + ", ".join(THREE_PHASE_SCHEMES))
+        if motor.pole_pairs is None:
+            bad(("motor",), "a three-phase motor needs 'pole_pairs'")
+        if motor.torque_constant.current == "dc":
+            bad(("motor", "torque_constant", "current"),
+                "a three-phase motor's torque constant refers to phase-rms, phase-peak or block current")
+        if motor.back_emf_constant.voltage == "terminal":
+            bad(("motor", "back_emf_constant", "voltage"),
+                "a three-phase motor's back-EMF constant is line-to-line or phase, peak or rms")
+    if motor.terminal_inductance is None and motor.inductance_vs_frequency is None:
+        bad(("motor",), "give 'terminal_inductance' or a measured 'inductance_vs_frequency' table")
+    table = motor.inductance_vs_frequency or ()
+    for i in range(1, len(table)):
+        if not table[i].frequency > table[i - 1].frequency:
+            bad(("motor", "inductance_vs_frequency", i, "frequency"),
+                "table rows must be in strictly ascending frequency")
+            break
+    if (motor.d_axis_inductance is None) != (motor.q_axis_inductance is None):
+        bad(("motor",), "give both 'd_axis_inductance' and 'q_axis_inductance', or neither")
+    supply = stage.supply
+    if supply.range is not None:
+        low, high = supply.range
+        if not low < high:
+            bad(("stage", "supply", "range"), "the range must be [lowest, highest] with lowest < highest")
+        elif not low <= supply.voltage <= high:
+            bad(("stage", "supply", "voltage"), "the nominal voltage lies outside the declared range")
+    if stage.overvoltage_trip is not None and stage.overvoltage_trip <= supply.voltage:
+        bad(("stage", "overvoltage_trip"), "the over-voltage trip must be above the supply voltage")
+    if spec.chokes is not None:
+        expected = "per-lead" if motor.type == "brushed-dc" else "per-phase"
+        if spec.chokes.placement != expected:
+            bad(("chokes", "placement"), f"a {motor.type} motor takes chokes '{expected}'")
+        top = 2 if motor.type == "brushed-dc" else 3
+        if spec.chokes.count > top:
+            bad(("chokes", "count"), f"at most {top} chokes fit a {motor.type} motor")
+    seen: dict[str, int] = {}
+    for i, point in enumerate(spec.operating_points):
+        if point.name in seen:
+            bad(("operating_points", i, "name"),
+                f"operating point name '{point.name}' is used twice (first at index {seen[point.name]})")
+        seen.setdefault(point.name, i)
+    for i, waiver in enumerate(spec.waivers):
+        if waiver.at is not None and waiver.at not in seen:
+            bad(("waivers", i, "at"), f"no operating point is named '{waiver.at}'")
+    return out

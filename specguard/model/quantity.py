@@ -1,0 +1,101 @@
+"""Dimensional fields for the pydantic model.
+
+A dimensional field takes a string ``"value unit"`` and holds its SI value as a
+float once the model is built. Each field declares its dimension; the unit table
+is :mod:`specguard.model.units`. The JSON Schema of such a field is a string
+with a pattern built from the accepted units, plus ``x-dimension`` and
+``x-si-unit`` so that editors and readers see what is expected.
+"""
+
+from __future__ import annotations
+
+import re
+from functools import lru_cache
+from typing import Annotated, Any
+
+from pydantic import AfterValidator, BeforeValidator, WithJsonSchema
+from pydantic_core import PydanticCustomError
+
+from . import units
+
+_NUMBER = r"[+-]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]+)?"
+
+
+@lru_cache(maxsize=None)
+def unit_pattern(dimension: str) -> str:
+    """An anchored regular expression for the accepted spellings (both micro signs)."""
+    spellings: set[str] = set()
+    for unit in units.accepted_units(dimension):
+        spellings.add(unit)
+        if unit.startswith("u") and len(unit) > 1:
+            spellings.add("\u00b5" + unit[1:])
+            spellings.add("\u03bc" + unit[1:])
+    alternatives = "|".join(re.escape(s) for s in sorted(spellings, key=lambda s: (-len(s), s)))
+    return f"^{_NUMBER} ?(?:{alternatives})$"
+
+
+def _parser(dimension: str):
+    def parse(value: Any) -> float:
+        try:
+            return units.parse_quantity(value, dimension)
+        except units.UnitError as exc:
+            raise PydanticCustomError("unit_invalid", "{message}", {"message": exc.message}) from None
+
+    return parse
+
+
+def _range_check(dimension: str, gt: float | None, ge: float | None, le: float | None):
+    def check(value: float) -> float:
+        def shown(limit: float) -> str:
+            return units.format_si(limit, dimension)
+
+        if gt is not None and not value > gt:
+            raise PydanticCustomError(
+                "value_range", "{message}", {"message": f"must be greater than {shown(gt)}"}
+            )
+        if ge is not None and not value >= ge:
+            raise PydanticCustomError(
+                "value_range", "{message}", {"message": f"must be at least {shown(ge)}"}
+            )
+        if le is not None and not value <= le:
+            raise PydanticCustomError(
+                "value_range", "{message}", {"message": f"must be at most {shown(le)}"}
+            )
+        return value
+
+    return check
+
+
+def Quantity(
+    dimension: str,
+    description: str,
+    *,
+    gt: float | None = None,
+    ge: float | None = None,
+    le: float | None = None,
+) -> Any:
+    """An ``Annotated[float, ...]`` type for a dimensional field.
+
+    ``gt``/``ge``/``le`` are SI bounds checked after conversion (the schema
+    cannot express them on a string; they appear as ``x-si-minimum`` etc.).
+    """
+    dim = units.DIMENSIONS[dimension]
+    schema: dict[str, Any] = {
+        "type": "string",
+        "pattern": unit_pattern(dimension),
+        "x-dimension": dimension,
+        "x-si-unit": dim.si_unit,
+        "examples": [dim.example],
+    }
+    if gt is not None:
+        schema["x-si-exclusive-minimum"] = gt
+    if ge is not None:
+        schema["x-si-minimum"] = ge
+    if le is not None:
+        schema["x-si-maximum"] = le
+    return Annotated[
+        float,
+        BeforeValidator(_parser(dimension)),
+        AfterValidator(_range_check(dimension, gt, ge, le)),
+        WithJsonSchema(schema),
+    ]

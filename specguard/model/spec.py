@@ -1,0 +1,391 @@
+"""Spec format v1: the pydantic model, the single source of truth.
+
+The JSON Schema in ``schemas/spec-v1.schema.json`` and the format reference in
+``docs/format.md`` are generated from these classes (``python -m
+specguard.model.generate``); tests fail when the committed files differ from a
+fresh generation.
+
+Every dimensional value is a string with its unit and is held here in SI:
+volts, amperes, ohms, henries, hertz, seconds, kelvin (absolute temperatures
+and differences alike), rad/s, N*m, N*m/A, V*s/rad, kg*m^2, K/W, farads.
+"""
+
+import datetime as _dt
+from typing import Annotated, Literal
+
+from pydantic import BaseModel, BeforeValidator, ConfigDict, Field, StringConstraints, field_validator
+
+from .quantity import Quantity
+
+_CONFIG = ConfigDict(
+    strict=True,
+    extra="forbid",
+    frozen=True,
+    allow_inf_nan=False,
+    hide_input_in_errors=True,
+    populate_by_name=False,
+)
+
+
+class _Model(BaseModel):
+    model_config = _CONFIG
+
+
+def _as_tuple(value: object) -> object:
+    # YAML sequences arrive as lists; the frozen model holds tuples. Strict
+    # validation of the items still applies.
+    return tuple(value) if isinstance(value, list) else value
+
+
+AsTuple = BeforeValidator(_as_tuple)
+
+
+Name = Annotated[
+    str,
+    StringConstraints(min_length=1, max_length=64, pattern=r"^[A-Za-z0-9][A-Za-z0-9_.\-]*$"),
+]
+Text = Annotated[str, StringConstraints(max_length=2000)]
+ShortText = Annotated[str, StringConstraints(min_length=1, max_length=200)]
+Url = Annotated[str, StringConstraints(max_length=500, pattern=r"^https://[^\s]+$")]
+
+# Dimensional field types (SI value after conversion).
+Voltage = Quantity("voltage", "voltage", gt=0)
+Current = Quantity("current", "current", gt=0)
+Resistance = Quantity("resistance", "resistance", gt=0)
+ResistanceOrZero = Quantity("resistance", "resistance", ge=0)
+Inductance = Quantity("inductance", "inductance", gt=0)
+InductanceOrZero = Quantity("inductance", "inductance", ge=0)
+Frequency = Quantity("frequency", "frequency", gt=0)
+Duration = Quantity("time", "duration", gt=0)
+DurationOrZero = Quantity("time", "duration", ge=0)
+# Absolute temperatures: above absolute zero and below 1000 degC (plausibility).
+Temperature = Quantity("temperature", "absolute temperature", gt=0, le=1273.15)
+CurrentOrZero = Quantity("current", "current", ge=0)
+TorqueConstantValue = Quantity("torque_constant", "torque constant", gt=0)
+BackEmfConstantValue = Quantity("back_emf_constant", "back-EMF constant", gt=0)
+ThermalResistance = Quantity("thermal_resistance", "thermal resistance", gt=0)
+PositiveSpeed = Quantity("speed", "speed", gt=0)
+Speed = Quantity("speed", "speed", ge=0)
+Torque = Quantity("torque", "torque", ge=0)
+PositiveInertia = Quantity("inertia", "inertia", gt=0)
+Inertia = Quantity("inertia", "inertia", ge=0)
+Capacitance = Quantity("capacitance", "capacitance", gt=0)
+Length = Quantity("length", "length", gt=0)
+
+
+# --------------------------------------------------------------------- axis
+class Axis(_Model):
+    """Identity of the drive axis this spec describes."""
+
+    name: Name = Field(description="short identifier of the axis, unique in the repository")
+    description: Text | None = Field(None, description="what the axis does, in plain words")
+    tags: Annotated[tuple[Name, ...], AsTuple] = Field(
+        (), max_length=20, description="free labels a team's rules can select on (e.g. medical)"
+    )
+
+
+# -------------------------------------------------------------------- motor
+class TerminalResistance(_Model):
+    """Terminal resistance with the winding temperature it was measured at."""
+
+    value: Resistance = Field(
+        description="terminal resistance (line-to-line for three-phase motors)"
+    )
+    at: Temperature = Field(description="winding temperature at which the value holds")
+
+
+class TerminalInductance(_Model):
+    """Catalogue terminal inductance and the frequency it was measured at."""
+
+    value: Inductance = Field(
+        description="terminal inductance (line-to-line for three-phase motors)"
+    )
+    measured_at: Frequency = Field(description="measurement frequency of the value")
+
+
+class InductancePoint(_Model):
+    """One row of a measured inductance-versus-frequency table (series model)."""
+
+    frequency: Frequency = Field(description="measurement frequency")
+    inductance: Inductance = Field(description="terminal inductance at that frequency")
+    series_resistance: Resistance | None = Field(None, description="series resistance at that frequency (optional)")
+
+
+class TorqueConstant(_Model):
+    """Torque constant with the current convention it refers to."""
+
+    value: TorqueConstantValue = Field(
+        description="torque per ampere"
+    )
+    current: Literal["dc", "phase-rms", "phase-peak", "block"] = Field(
+        description=(
+            "which current the constant refers to: dc (brushed DC motor), phase-rms or "
+            "phase-peak (sinusoidal phase current), block (six-step block current)"
+        )
+    )
+
+
+class BackEmfConstant(_Model):
+    """Back-EMF constant with the voltage convention it refers to."""
+
+    value: BackEmfConstantValue = Field(
+        description="back-EMF voltage per unit of mechanical speed"
+    )
+    voltage: Literal[
+        "terminal", "line-to-line-peak", "line-to-line-rms", "phase-peak", "phase-rms"
+    ] = Field(
+        description=(
+            "which voltage the constant gives: terminal (brushed DC motor), or the "
+            "line-to-line or phase voltage of a three-phase motor, peak or rms"
+        )
+    )
+
+
+class Thermal(_Model):
+    """Two-node thermal data of the motor (winding and housing)."""
+
+    winding_to_housing: ThermalResistance = Field(
+        description="thermal resistance from winding to housing"
+    )
+    housing_to_ambient: ThermalResistance = Field(
+        description="thermal resistance from housing to ambient, under the stated mounting"
+    )
+    winding_time_constant: Duration | None = Field(
+        None, description="thermal time constant of the winding"
+    )
+    motor_time_constant: Duration | None = Field(
+        None, description="thermal time constant of the whole motor (housing)"
+    )
+    max_winding_temperature: Temperature | None = Field(
+        None, description="permitted winding temperature (preferred over the class)"
+    )
+    insulation_class: Literal[
+        "Y", "A", "E", "B", "F", "H", "N", "R", "90", "105", "120", "130", "155", "180", "200",
+        "220", "250"
+    ] | None = Field(
+        None,
+        description=(
+            "insulation thermal class (IEC 60085) by letter or temperature in degC, as a "
+            "string; used for the limit when no maximum winding temperature is given"
+        ),
+    )
+
+
+class Motor(_Model):
+    """The motor's electrical, mechanical and thermal data."""
+
+    type: Literal["brushed-dc", "three-phase"] = Field(description="motor type")
+    winding: Literal["iron-core", "coreless", "slotless"] = Field(
+        description="winding construction"
+    )
+    datasheet: Url | None = Field(None, description="link to the datasheet (https only)")
+    terminal_resistance: TerminalResistance
+    terminal_inductance: TerminalInductance | None = Field(
+        None, description="catalogue inductance (required unless a measured table is given)"
+    )
+    inductance_vs_frequency: Annotated[tuple[InductancePoint, ...], AsTuple] | None = Field(
+        None,
+        min_length=2,
+        max_length=64,
+        description="measured inductance-versus-frequency table, ascending frequency",
+    )
+    d_axis_inductance: Inductance | None = Field(
+        None, description="per-phase d-axis inductance of a salient three-phase motor"
+    )
+    q_axis_inductance: Inductance | None = Field(
+        None, description="per-phase q-axis inductance of a salient three-phase motor"
+    )
+    torque_constant: TorqueConstant
+    back_emf_constant: BackEmfConstant
+    rated_current: Current = Field(description="continuous (rated) current")
+    peak_current: Current | None = Field(None, description="permitted peak current")
+    no_load_current: CurrentOrZero | None = Field(
+        None, description="no-load (friction) current, added to the torque current"
+    )
+    pole_pairs: int | None = Field(
+        None, ge=1, le=200, description="number of pole pairs (three-phase motors)"
+    )
+    max_speed: PositiveSpeed | None = Field(
+        None, description="permitted maximum speed"
+    )
+    rotor_inertia: PositiveInertia | None = Field(
+        None, description="rotor moment of inertia"
+    )
+    thermal: Thermal | None = Field(None, description="thermal data")
+
+
+# -------------------------------------------------------------------- stage
+class Supply(_Model):
+    """The DC supply of the power stage."""
+
+    voltage: Voltage = Field(description="nominal DC bus voltage")
+    range: Annotated[tuple[Voltage, Voltage], AsTuple] | None = Field(
+        None, description="lowest and highest bus voltage in operation [min, max]"
+    )
+    absorbs_braking_energy: bool | None = Field(
+        None, description="whether the supply can take current back (battery, regenerative supply)"
+    )
+
+
+class Pwm(_Model):
+    """PWM settings."""
+
+    frequency: Frequency = Field(description="PWM frequency, as declared by frequency_is")
+    frequency_is: Literal["leg", "ripple"] | None = Field(
+        None,
+        description=(
+            "leg: switching frequency of each half-bridge leg (carrier); ripple: the "
+            "effective frequency of the current ripple seen by the motor"
+        ),
+    )
+    scheme: Literal[
+        "bipolar",
+        "unipolar-single",
+        "unipolar-phase-shifted",
+        "six-step-chop-one",
+        "six-step-chop-both",
+        "sinusoidal",
+        "space-vector",
+    ] = Field(description="PWM scheme or commutation")
+    freewheeling: Literal["synchronous", "diode"] | None = Field(
+        None, description="how the off-time current flows: synchronous switches or diodes only"
+    )
+    max_duty: float = Field(
+        gt=0.5, le=1.0, description="highest duty cycle the stage can produce (0.5 < d <= 1)"
+    )
+    dead_time: DurationOrZero | None = Field(None, description="dead time per switching edge")
+    min_pulse: Duration | None = Field(None, description="shortest pulse the stage can produce")
+    timer_clock: Frequency | None = Field(None, description="clock of the PWM timer")
+    alignment: Literal["center", "edge"] | None = Field(None, description="carrier alignment")
+
+
+class CurrentLimits(_Model):
+    """Current limits of the power stage."""
+
+    continuous: Current = Field(description="continuous output current")
+    peak: Current | None = Field(None, description="peak output current")
+
+
+class CurrentLoop(_Model):
+    """The current controller."""
+
+    bandwidth: Frequency = Field(description="closed-loop current bandwidth")
+    sampling: Literal["single-update", "double-update"] = Field(
+        description="current sampled and duty updated once or twice per PWM period"
+    )
+
+
+class Stage(_Model):
+    """The power stage: supply, PWM and protection."""
+
+    supply: Supply
+    pwm: Pwm
+    switch_resistance: ResistanceOrZero | None = Field(
+        None, description="on-resistance of one conducting switch"
+    )
+    output_inductance: InductanceOrZero | None = Field(
+        None, description="built-in output inductance per lead or phase"
+    )
+    current_limit: CurrentLimits | None = None
+    current_loop: CurrentLoop | None = None
+    bus_capacitance: Capacitance | None = Field(
+        None, description="DC bus capacitance"
+    )
+    overvoltage_trip: Voltage | None = Field(None, description="bus over-voltage trip level")
+    max_supply_voltage: Voltage | None = Field(None, description="highest rated supply voltage")
+
+
+# ------------------------------------------------------------- chokes, cable
+class Chokes(_Model):
+    """External series chokes between stage and motor."""
+
+    inductance: Inductance = Field(description="inductance of one choke at the operating current")
+    placement: Literal["per-lead", "per-phase"] = Field(
+        description="one choke in each motor lead (DC) or in each phase (three-phase)"
+    )
+    count: int = Field(ge=1, le=3, description="number of chokes fitted")
+    resistance: ResistanceOrZero | None = Field(None, description="DC resistance of one choke")
+    saturation_current: Current | None = Field(None, description="saturation current of one choke")
+    rated_current: Current | None = Field(None, description="thermal (rms) current rating")
+
+
+class Cable(_Model):
+    """Motor cable."""
+
+    length: Length | None = Field(
+        None, description="cable length"
+    )
+    resistance: ResistanceOrZero = Field(description="resistance of one conductor")
+
+
+class Load(_Model):
+    """The mechanical load."""
+
+    inertia: Inertia = Field(
+        description="load inertia referred to the motor shaft"
+    )
+
+
+# ---------------------------------------------------------- operating points
+class OperatingPoint(_Model):
+    """A steady operating point the axis must reach."""
+
+    name: Name = Field(description="name of the operating point, unique in the spec")
+    speed: Speed = Field(description="motor speed")
+    torque: Torque = Field(description="motor torque")
+    ambient: Temperature = Field(description="ambient temperature")
+
+
+class ProfileSegment(_Model):
+    """One segment of a cyclic motion profile."""
+
+    duration: Duration = Field(description="duration of the segment")
+    speed: Speed = Field(description="motor speed during the segment")
+    torque: Torque = Field(description="motor torque during the segment")
+
+
+class Profile(_Model):
+    """A cyclic motion profile, repeated without end (for the thermal transient)."""
+
+    ambient: Temperature = Field(description="ambient temperature during the profile")
+    segments: Annotated[tuple[ProfileSegment, ...], AsTuple] = Field(min_length=1, max_length=200)
+
+
+class Waiver(_Model):
+    """An accepted finding, reviewed like any change."""
+
+    rule: Annotated[str, StringConstraints(pattern=r"^[a-z][a-z0-9-]{1,63}$")] = Field(
+        description="id of the rule waived"
+    )
+    at: Name | None = Field(None, description="operating point the waiver covers")
+    path: Annotated[str, StringConstraints(max_length=200)] | None = Field(
+        None, description="document path the waiver covers, e.g. /stage/pwm/frequency"
+    )
+    reason: ShortText = Field(description="why the finding is accepted")
+    approved_by: ShortText = Field(description="who approved the waiver")
+    expires: Annotated[str, StringConstraints(pattern=r"^\d{4}-\d{2}-\d{2}$")] = Field(
+        description="expiry date, ISO 8601 (YYYY-MM-DD)"
+    )
+
+    @field_validator("expires")
+    @classmethod
+    def _real_date(cls, value: str) -> str:
+        _dt.date.fromisoformat(value)  # raises ValueError on 2027-02-30
+        return value
+
+
+# --------------------------------------------------------------------- spec
+class Spec(_Model):
+    """One drive axis."""
+
+    format: Literal[1] = Field(description="spec format version")
+    axis: Axis
+    motor: Motor
+    stage: Stage
+    chokes: Chokes | None = None
+    cable: Cable | None = None
+    load: Load | None = None
+    operating_points: Annotated[tuple[OperatingPoint, ...], AsTuple] = Field(min_length=1, max_length=500)
+    profile: Profile | None = None
+    waivers: Annotated[tuple[Waiver, ...], AsTuple] = Field((), max_length=200)
+    notes: Text | None = Field(None, description="free text for the reader")

@@ -1,0 +1,1 @@
+"""Reporters: pure functions of an immutable, sorted report."""

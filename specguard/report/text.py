@@ -1,0 +1,59 @@
+"""Text output: one line per finding, ``path:line:column: severity: message [rule]``."""
+
+from __future__ import annotations
+
+import os
+import sys
+from typing import TextIO
+
+from .safe import escape_controls
+
+_COLOURS = {"error": "\x1b[31m", "warning": "\x1b[33m", "info": "\x1b[36m"}
+_RESET = "\x1b[0m"
+
+
+def use_colour(stream: TextIO, requested: bool | None = None) -> bool:
+    """Colour only on a terminal, never when NO_COLOR is set (https://no-color.org)."""
+    if requested is not None:
+        return requested
+    if os.environ.get("NO_COLOR"):
+        return False
+    return bool(getattr(stream, "isatty", lambda: False)())
+
+
+def finding_line(finding, colour: bool = False) -> str:
+    loc = finding.location
+    severity = finding.severity
+    if colour:
+        severity = f"{_COLOURS[severity]}{severity}{_RESET}"
+    waived = " (waived)" if finding.waived is not None else ""
+    message = escape_controls(finding.message)
+    return f"{escape_controls(loc.file)}:{loc.line}:{loc.column}: {severity}: {message} [{finding.rule}]{waived}"
+
+
+def render(report, colour: bool = False) -> str:
+    lines: list[str] = []
+    for result in report.files:
+        if result.input_error is not None:
+            lines.append(f"{escape_controls(result.file)}: error: cannot read input: {result.input_error} [input-unreadable]")
+    for finding in report.findings:
+        lines.append(finding_line(finding, colour))
+        for rel in finding.related:
+            lines.append(f"    {escape_controls(rel.file)}:{rel.line}:{rel.column}: related location")
+        for remedy in finding.remedies:
+            lines.append(f"    fix: {escape_controls(remedy)}")
+    lines.append(summary(report))
+    return "\n".join(lines) + "\n"
+
+
+def summary(report) -> str:
+    counts = report.counts()
+    files = len(report.files)
+    parts = [
+        f"{counts['error']} error{'s' if counts['error'] != 1 else ''}",
+        f"{counts['warning']} warning{'s' if counts['warning'] != 1 else ''}",
+        f"{counts['info']} info",
+    ]
+    unread = len(report.input_errors)
+    tail = f", {unread} unreadable" if unread else ""
+    return f"specguard: {', '.join(parts)} in {files} file{'s' if files != 1 else ''}{tail}"
