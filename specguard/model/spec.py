@@ -40,6 +40,17 @@ def _as_tuple(value: object) -> object:
 AsTuple = BeforeValidator(_as_tuple)
 
 
+def _integral(value: object) -> object:
+    # JSON Schema's "integer" accepts 4.0; so does the model, to keep one policy
+    # at both layers (RELIABILITY.md F11). 4.5 and true stay errors.
+    if isinstance(value, float) and value.is_integer():
+        return int(value)
+    return value
+
+
+Integer = Annotated[int, BeforeValidator(_integral)]
+
+
 Name = Annotated[
     str,
     StringConstraints(min_length=1, max_length=64, pattern=r"^[A-Za-z0-9][A-Za-z0-9_.\-]*$"),
@@ -202,7 +213,7 @@ class Motor(_Model):
     no_load_current: CurrentOrZero | None = Field(
         None, description="no-load (friction) current, added to the torque current"
     )
-    pole_pairs: int | None = Field(
+    pole_pairs: Integer | None = Field(
         None, ge=1, le=200, description="number of pole pairs (three-phase motors)"
     )
     max_speed: PositiveSpeed | None = Field(
@@ -303,7 +314,7 @@ class Chokes(_Model):
     placement: Literal["per-lead", "per-phase"] = Field(
         description="one choke in each motor lead (DC) or in each phase (three-phase)"
     )
-    count: int = Field(ge=1, le=3, description="number of chokes fitted")
+    count: Integer = Field(ge=1, le=3, description="number of chokes fitted")
     resistance: ResistanceOrZero | None = Field(None, description="DC resistance of one choke")
     saturation_current: Current | None = Field(None, description="saturation current of one choke")
     rated_current: Current | None = Field(None, description="thermal (rms) current rating")

@@ -1,0 +1,7 @@
+"""``python -m specguard``."""
+
+import sys
+
+from .cli import main
+
+sys.exit(main())

@@ -1,0 +1,122 @@
+"""The published JSON Schema and the format reference, generated from the model.
+
+The pydantic model (:mod:`specguard.model.spec`) is the single source of truth.
+``python -m specguard.schema`` rewrites ``schemas/spec-v1.schema.json`` and
+``docs/format.md``; a test fails when the committed files differ from a fresh
+generation.
+
+At check time the model itself validates (strict pydantic, which accepts the
+same documents as this schema; a test holds the two to that). Importing
+jsonschema costs about 140 ms on the 2-core machine, more than a whole check of
+one file, so it stays off the check path (see DEVELOPERS.md).
+"""
+
+from __future__ import annotations
+
+import json
+from typing import Any
+
+SPEC_SCHEMA_ID = "urn:specguard:schema:spec:v1"
+SPEC_SCHEMA_FILE = "spec-v1.schema.json"
+DIALECT = "https://json-schema.org/draft/2020-12/schema"
+
+
+def spec_schema() -> dict[str, Any]:
+    from pydantic.json_schema import GenerateJsonSchema
+
+    from ..model.spec import Spec
+
+    class _Generator(GenerateJsonSchema):
+        def generate(self, schema, mode="validation"):
+            out = super().generate(schema, mode=mode)
+            head = {"$schema": DIALECT, "$id": SPEC_SCHEMA_ID}
+            return {**head, **out}
+
+    return Spec.model_json_schema(schema_generator=_Generator)
+
+
+def dumps(schema: dict[str, Any]) -> str:
+    return json.dumps(schema, indent=2, ensure_ascii=False, sort_keys=False) + "\n"
+
+
+# ------------------------------------------------------------ format reference
+def _resolve(schema: dict, node: dict) -> dict:
+    ref = node.get("$ref")
+    if ref:
+        return schema["$defs"][ref.split("/")[-1]]
+    return node
+
+
+def _non_null(node: dict) -> dict:
+    options = node.get("anyOf")
+    if options:
+        rest = [o for o in options if o.get("type") != "null"]
+        if len(rest) == 1:
+            merged = dict(rest[0])
+            for key in ("description", "default"):
+                if key in node:
+                    merged[key] = node[key]
+            return merged
+    return node
+
+
+def _kind(schema: dict, node: dict) -> tuple[str, dict | None]:
+    node = _non_null(node)
+    if "$ref" in node:
+        target = _resolve(schema, node)
+        return f"mapping ({node['$ref'].split('/')[-1]})", target
+    if "x-dimension" in node:
+        return f"{node['x-dimension'].replace('_', ' ')} [{node['x-si-unit']}], e.g. \"{node['examples'][0]}\"", None
+    if "enum" in node:
+        return "one of " + ", ".join(f"`{v}`" for v in node["enum"]), None
+    if "const" in node:
+        return f"`{node['const']}`", None
+    t = node.get("type")
+    if t == "array":
+        if "prefixItems" in node:
+            inner = [_kind(schema, i)[0] for i in node["prefixItems"]]
+            return f"list [{', '.join(inner)}]", None
+        item_kind, target = _kind(schema, node.get("items", {}))
+        return f"list of {item_kind}", target
+    if t == "string" and "pattern" in node:
+        return "text", None
+    return str(t or "value"), None
+
+
+def format_reference() -> str:
+    """The field-by-field reference of spec format v1 (Markdown)."""
+    schema = spec_schema()
+    lines = [
+        "# Spec format v1: field reference",
+        "",
+        "Generated from the model by `python -m specguard.schema`; do not edit by hand.",
+        "Every dimensional value is a string with its unit (see [units.md](units.md));",
+        "the unit column gives the SI unit the value is converted to.",
+        "",
+    ]
+    seen: set[str] = set()
+    queue: list[tuple[str, dict]] = [("Spec (top level)", schema)]
+    while queue:
+        title, node = queue.pop(0)
+        lines.append(f"## {title}")
+        lines.append("")
+        if node.get("description"):
+            lines.append(node["description"])
+            lines.append("")
+        lines.append("| key | required | type and unit | meaning |")
+        lines.append("|---|---|---|---|")
+        required = set(node.get("required", ()))
+        for key, prop in node.get("properties", {}).items():
+            kind, target = _kind(schema, prop)
+            meaning = _non_null(prop).get("description") or prop.get("description") or ""
+            if not meaning and target is not None:
+                meaning = target.get("description", "")
+            lines.append(f"| `{key}` | {'yes' if key in required else 'no'} | {kind} | {meaning} |")
+            ref = _non_null(prop).get("$ref") or _non_null(prop).get("items", {}).get("$ref")
+            if ref:
+                name = ref.split("/")[-1]
+                if name not in seen:
+                    seen.add(name)
+                    queue.append((name, schema["$defs"][name]))
+        lines.append("")
+    return "\n".join(lines)
