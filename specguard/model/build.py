@@ -179,7 +179,17 @@ def build(data: dict, locate: Locate) -> tuple[Spec | None, list[Finding]]:
     try:
         spec = Spec.model_validate(data)
     except ValidationError as exc:
-        findings = [_error_to_finding(err, data, locate) for err in exc.errors(include_url=False)]
+        errors = exc.errors(include_url=False)
+        # pydantic reports a list as too short when its items failed; the item
+        # errors say what is wrong, so drop that echo.
+        item_paths = {_field_path(e.get("loc", ()))[:-1] for e in errors}
+        errors = [
+            e for e in errors
+            if not (e.get("type") == "too_short" and any(
+                p[: len(_field_path(e["loc"]))] == _field_path(e["loc"]) and len(p) > len(_field_path(e["loc"]))
+                for p in item_paths))
+        ]
+        findings = [_error_to_finding(err, data, locate) for err in errors]
         return None, findings
     findings = consistency(spec, locate)
     return (None if any(f.severity == "error" for f in findings) else spec), findings
