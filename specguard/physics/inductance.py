@@ -1,0 +1,142 @@
+"""Inductance (and series resistance) at the ripple frequency.
+
+PHYSICS.md §5.2-5.3.  A measured table ``L(f)`` is interpolated piecewise linearly in
+``(ln f, ln L)`` (a power law between points) and held at its end values outside the
+table, with a flag.  Without a table, the catalogue value is derated by a
+configurable factor: an estimate, common practice with no published source.
+"""
+
+from __future__ import annotations
+
+from typing import NamedTuple
+
+import numpy as np
+
+from specguard.physics._num import is_scalar
+
+__all__ = [
+    "DEFAULT_DERATING_FACTOR",
+    "TableValue",
+    "loglog_interpolate",
+    "inductance_at_frequency",
+    "series_resistance_at_frequency",
+    "table_non_monotonic",
+    "inductance_derated",
+    "inductance_estimate_range",
+    "inductance_from_measured_ripple",
+]
+
+# "Roughly one third of the 1 kHz catalogue value at tens of kHz": practitioner
+# folklore, no published source found (PHYSICS.md §5.3, §10.1).  Configurable.
+DEFAULT_DERATING_FACTOR = 1.0 / 3.0
+
+
+class TableValue(NamedTuple):
+    """Interpolated value and whether the query lay outside the table."""
+
+    value: object  # float or ndarray, in the unit of the table values
+    extrapolated: object  # bool or ndarray of bool
+
+
+def _table(frequencies, values):
+    f = np.asarray(frequencies, dtype=float)
+    v = np.asarray(values, dtype=float)
+    if f.ndim != 1 or f.shape != v.shape or f.size == 0:
+        raise ValueError("table needs equal-length 1-D frequency and value sequences")
+    if np.any(f <= 0.0) or np.any(v <= 0.0):
+        raise ValueError("log-log interpolation needs positive frequencies and values")
+    order = np.argsort(f)
+    f = f[order]
+    v = v[order]
+    if np.any(np.diff(f) == 0.0):
+        raise ValueError("duplicate frequency in table")
+    return f, v
+
+
+def loglog_interpolate(frequency, table_frequencies, table_values) -> TableValue:
+    """Power-law interpolation of a positive table, held at the ends.
+
+    Parameters: frequency [Hz] query (float or array); table_frequencies [Hz];
+    table_values [any positive unit].
+
+    ``y(f) = y_i (f/f_i)^k_i``, ``k_i = ln(y_{i+1}/y_i) / ln(f_{i+1}/f_i)``; outside
+    ``[f_1, f_n]`` the end value is held (a falling slope is never extrapolated towards
+    zero) and ``extrapolated`` is True.  Source: PHYSICS.md §5.2 [D].
+    """
+    f, v = _table(table_frequencies, table_values)
+    scalar = is_scalar(frequency)
+    query = np.asarray(frequency, dtype=float)
+    ln_f = np.log(f)
+    ln_v = np.log(v)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        ln_q = np.log(query)
+    # np.interp holds the end values outside the table: exactly the rule above.
+    value = np.exp(np.interp(ln_q, ln_f, ln_v))
+    extrapolated = (query < f[0]) | (query > f[-1])
+    if scalar:
+        return TableValue(float(value), bool(extrapolated))
+    return TableValue(value, extrapolated)
+
+
+def inductance_at_frequency(frequency, table_frequencies, table_inductances) -> TableValue:
+    """Effective inductance at a frequency from a measured ``L(f)`` table [H].
+
+    Parameters: frequency [Hz] (use the ripple frequency ``f_r``, not the leg
+    frequency); table_frequencies [Hz]; table_inductances [H] (series-model LCR
+    readings).  Returns :class:`TableValue` (value [H], extrapolated flag).
+    Source: PHYSICS.md §5.2 [D].
+    """
+    return loglog_interpolate(frequency, table_frequencies, table_inductances)
+
+
+def series_resistance_at_frequency(frequency, table_frequencies, table_resistances) -> TableValue:
+    """Series resistance ``R_s(f)`` from a measured table [Ohm] (same rule as L(f)).
+
+    Source: PHYSICS.md §5.2 and §5.5 [D].
+    """
+    return loglog_interpolate(frequency, table_frequencies, table_resistances)
+
+
+def table_non_monotonic(table_frequencies, table_inductances) -> bool:
+    """True if the inductance rises anywhere with frequency [bool].
+
+    Below self-resonance a measured ``L(f)`` is expected non-increasing; a rise
+    suggests a measurement near resonance or a unit slip (warn).
+    Source: PHYSICS.md §5.2 [D].
+    """
+    _, v = _table(table_frequencies, table_inductances)
+    return bool(np.any(np.diff(v) > 0.0))
+
+
+def inductance_derated(catalogue_inductance, derating_factor=DEFAULT_DERATING_FACTOR):
+    """ESTIMATE of the effective inductance at tens of kHz without ``L(f)`` data [H].
+
+    Parameters: catalogue_inductance [H] (typically a ~1 kHz LCR reading);
+    derating_factor [-] default 1/3.
+
+    ``L_eff ~ k L_cat``.  Common practice, no published source (PHYSICS.md §5.3 [H],
+    §10.1): label every result that uses it "estimated (no L(f) data)" and report
+    the ripple as a range over :func:`inductance_estimate_range`.
+    """
+    return derating_factor * catalogue_inductance
+
+
+def inductance_estimate_range(catalogue_inductance, derating_factor=DEFAULT_DERATING_FACTOR):
+    """(low, high) inductance [H] = ``(k L_cat, L_cat)`` for a ripple range estimate.
+
+    The ripple at the low end is the pessimistic estimate.  Common practice, no
+    published source (PHYSICS.md §5.3 [H]).
+    """
+    return inductance_derated(catalogue_inductance, derating_factor), 1.0 * catalogue_inductance
+
+
+def inductance_from_measured_ripple(
+    high_voltage, average_voltage, duty, period, ripple_peak_to_peak
+):
+    """Effective loop inductance from a measured ripple [H].
+
+    Parameters: high_voltage [V] ``V1``; average_voltage [V] load average;
+    duty [-]; period [s] ripple period; ripple_peak_to_peak [A] measured.
+    ``L_eff = (V1 - V_avg) D T_r / dI`` (linear regime).  Source: PHYSICS.md §5.2 [D].
+    """
+    return (high_voltage - average_voltage) * duty * period / ripple_peak_to_peak
