@@ -51,19 +51,8 @@ class Remedy:
 __all__ = ["FIGURE_DEFS", "REMEDIES", "FigureDef", "FigureSet", "Remedy", "compute", "remedy"]
 
 
-def compute(spec, settings=None) -> FigureSet:  # implemented in .compute
-    from .compute import compute as _compute
+# Bound eagerly, after FigureSet and Remedy exist: the submodule ``compute`` would
+# otherwise shadow the function of the same name once imported.
+from .compute import FigureSettings, compute, remedy  # noqa: E402
 
-    return _compute(spec, settings)
-
-
-def remedy(name: str, spec, figures: FigureSet, *, point: str | None, limit: float) -> Remedy | None:
-    """Compute one remedy (see REMEDIES) for ``point`` (None: the axis worst case).
-
-    ``limit`` is the rule's threshold the remedy must bring the figure to (e.g.
-    0.2 for a ripple of 20 % of rated current; a frequency in Hz for the
-    audible rule). Returns None when the remedy does not apply to the spec.
-    """
-    from .compute import remedy as _remedy
-
-    return _remedy(name, spec, figures, point=point, limit=limit)
+__all__ += ["FigureSettings"]

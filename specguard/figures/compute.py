@@ -1,0 +1,738 @@
+"""Compute the named figures of a spec from the model (SI) by calling the physics.
+
+This module is the one adapter between :mod:`specguard.model` and
+:mod:`specguard.physics`: it picks the right inductance, resistance, frequency and
+convention for the spec's topology, then calls physics functions vectorised over
+the operating points. It contains no formula of its own beyond sums of series
+elements and the conversions between conventions the spec declares.
+
+Topologies:
+- ``dc``: brushed DC motor on an H-bridge (bipolar, unipolar single-leg,
+  unipolar phase-shifted). Loop: motor terminal values + chokes in the leads
+  (+ the stage's output inductance in both leads); resistance: hot winding + two
+  conducting switches + chokes + both cable conductors.
+- ``six-step``: two phases in series (terminal values), chopped like an H-bridge
+  (chop one switch = unipolar single-leg, chop both = bipolar).
+- ``sinusoidal``: SPWM or SVPWM on a star-equivalent phase (L_tt/2, R_tt/2), dq
+  steady state with i_d = 0.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from .. import physics as P
+from ..model.spec import Spec
+from ..model.units import format_si
+from . import FigureSet, Remedy
+
+SQRT2 = math.sqrt(2.0)
+SQRT3 = math.sqrt(3.0)
+KELVIN_20C = 293.15
+
+
+@dataclass(frozen=True)
+class FigureSettings:
+    """Modelling choices that are common practice rather than physics (configurable)."""
+
+    # Effective inductance at tens of kHz as a fraction of a ~1 kHz catalogue value
+    # when no measured table exists: common practice, no published source
+    # (PHYSICS.md §5.3 [H]); the result is labelled an estimate.
+    inductance_derating: float = P.inductance.DEFAULT_DERATING_FACTOR
+    # Ripple limit used for the supply window (PHYSICS.md §7.4 [H]: 10-20 %).
+    ripple_limit_ratio: float = 0.2
+    # Lowest acceptable modulation, for the supply window (PHYSICS.md §4.6 [H]).
+    modulation_floor: float = 0.2
+    # Practice reserve on the minimum supply (PHYSICS.md §4.5 [H]: 10-20 %).
+    reserve_fraction: float = 0.1
+    # Phase margin for the delay-limited loop bandwidth (PHYSICS.md §7.3).
+    phase_margin_deg: float = 45.0
+
+
+_DC_SCHEMES = {
+    "bipolar": P.hbridge.BIPOLAR,
+    "unipolar-single": P.hbridge.UNIPOLAR_SINGLE,
+    "unipolar-phase-shifted": P.hbridge.UNIPOLAR_PHASE_SHIFTED,
+    # six-step chopping behaves like the H-bridge scheme with the same load levels
+    "six-step-chop-one": P.hbridge.UNIPOLAR_SINGLE,
+    "six-step-chop-both": P.hbridge.BIPOLAR,
+}
+_STRATEGIES = {"sinusoidal": P.threephase.SPWM, "space-vector": P.threephase.SVPWM}
+
+# Back-EMF conventions -> factor to the peak phase voltage per rad/s.
+_TO_PHASE_PEAK = {
+    "line-to-line-peak": 1.0 / SQRT3,
+    "line-to-line-rms": SQRT2 / SQRT3,
+    "phase-peak": 1.0,
+    "phase-rms": SQRT2,
+}
+
+
+@dataclass
+class _Axis:
+    """Axis-level quantities chosen once per spec."""
+
+    topology: str
+    scheme: str  # physics scheme name (H-bridge) or strategy (three-phase)
+    f_leg: float
+    f_ripple: float
+    ambiguous: bool
+    inductance: float  # loop (dc, six-step) or phase (sinusoidal), at f_r, possibly derated
+    inductance_catalogue: float
+    resistance_hot: float  # loop (dc, six-step) or phase (sinusoidal) incl. series elements
+    motor_resistance_hot: float  # motor part only (terminal or phase)
+    series_resistance: float  # everything but the motor in the current path
+    loss_resistance_20: float  # copper loss = I^2 * this at 20 degC (I: dc/block/phase rms)
+    temperature_limit: float | None
+    dead_time: float
+    max_duty: float
+    notes: dict[str, str] = field(default_factory=dict)
+    missing: dict[str, str] = field(default_factory=dict)
+    flags: dict[str, bool] = field(default_factory=dict)
+
+
+def _hot(resistance: float, at: float, limit: float | None) -> float:
+    """Winding resistance at the temperature limit (conservative for voltage)."""
+    if limit is None:
+        return resistance
+    return float(P.thermal.resistance_at_temperature(resistance, at, limit))
+
+
+def _temperature_limit(spec: Spec) -> tuple[float | None, str | None]:
+    thermal = spec.motor.thermal
+    if thermal is None:
+        return None, "the spec has no motor.thermal data"
+    if thermal.max_winding_temperature is not None:
+        return thermal.max_winding_temperature, None
+    if thermal.insulation_class is not None:
+        return P.thermal.winding_temperature_limit(thermal.insulation_class), None
+    return None, "motor.thermal gives neither max_winding_temperature nor insulation_class"
+
+
+def _motor_inductance(spec: Spec, f_ripple: float, settings: FigureSettings, ax_notes, flags):
+    """Terminal inductance at the ripple frequency and its catalogue value."""
+    motor = spec.motor
+    table = motor.inductance_vs_frequency
+    flags["inductance_extrapolated"] = False
+    flags["inductance_table_rising"] = False
+    if table:
+        freqs = [row.frequency for row in table]
+        values = [row.inductance for row in table]
+        result = P.inductance.inductance_at_frequency(f_ripple, freqs, values)
+        flags["inductance_estimated"] = False
+        flags["inductance_extrapolated"] = bool(result.extrapolated)
+        flags["inductance_table_rising"] = bool(P.inductance.table_non_monotonic(freqs, values))
+        ax_notes["loop_inductance"] = "motor inductance interpolated (log-log) in the measured table"
+        catalogue = motor.terminal_inductance.value if motor.terminal_inductance else values[0]
+        return float(result.value), float(catalogue)
+    assert motor.terminal_inductance is not None  # the model guarantees one of the two
+    catalogue = motor.terminal_inductance.value
+    if motor.terminal_inductance.measured_at >= f_ripple:
+        flags["inductance_estimated"] = False
+        ax_notes["loop_inductance"] = "catalogue inductance measured at or above the ripple frequency"
+        return catalogue, catalogue
+    flags["inductance_estimated"] = True
+    ax_notes["loop_inductance"] = (
+        f"estimate: catalogue value x {settings.inductance_derating:.3g} "
+        "(no measured inductance table; common practice, no published source)"
+    )
+    return float(P.inductance.inductance_derated(catalogue, settings.inductance_derating)), catalogue
+
+
+def _axis(spec: Spec, settings: FigureSettings) -> _Axis:
+    motor, stage, pwm = spec.motor, spec.stage, spec.stage.pwm
+    notes: dict[str, str] = {}
+    missing: dict[str, str] = {}
+    flags: dict[str, bool] = {}
+    if motor.type == "brushed-dc":
+        topology = "dc"
+    elif pwm.scheme.startswith("six-step"):
+        topology = "six-step"
+    else:
+        topology = "sinusoidal"
+    scheme = _DC_SCHEMES.get(pwm.scheme) or _STRATEGIES[pwm.scheme]
+
+    # Which frequency the spec declares. A phase-shifted scheme without the
+    # declaration is ambiguous; the conservative reading (the lower ripple
+    # frequency) treats the value as the ripple frequency.
+    ambiguous = False
+    if pwm.scheme == "unipolar-phase-shifted":
+        if pwm.frequency_is == "leg":
+            f_leg = pwm.frequency
+        elif pwm.frequency_is == "ripple":
+            f_leg = pwm.frequency / 2.0
+        else:
+            ambiguous = True
+            f_leg = pwm.frequency / 2.0
+            notes["ripple_frequency"] = (
+                "stage.pwm.frequency_is not given: the value is taken as the ripple "
+                "frequency (the lower, conservative reading)"
+            )
+        f_ripple = float(P.hbridge.ripple_frequency(f_leg, scheme))
+    else:
+        f_leg = pwm.frequency
+        f_ripple = pwm.frequency  # two-level schemes and three-phase: ripple at the carrier
+    flags["pwm_frequency_ambiguous"] = ambiguous
+
+    limit, why = _temperature_limit(spec)
+    if why:
+        missing["winding_temperature_limit"] = why
+    tr = motor.terminal_resistance
+    r_motor_hot = _hot(tr.value, tr.at, limit)
+    if limit is None:
+        notes["loop_resistance_hot"] = "winding resistance at its reference temperature (no temperature limit known)"
+    r20_terminal = float(P.thermal.resistance_at_temperature(tr.value, tr.at, KELVIN_20C))
+
+    l_motor, l_catalogue = _motor_inductance(spec, f_ripple, settings, notes, flags)
+    chokes = spec.chokes
+    l_choke = chokes.inductance if chokes else 0.0
+    r_choke = (chokes.resistance or 0.0) if chokes else 0.0
+    n_choke = chokes.count if chokes else 0
+    r_cable = spec.cable.resistance if spec.cable else 0.0
+    r_switch = stage.switch_resistance or 0.0
+    l_out = stage.output_inductance or 0.0
+
+    if topology in ("dc", "six-step"):
+        if topology == "six-step" and chokes and n_choke < 3:
+            notes["loop_inductance"] = notes.get("loop_inductance", "") + "; chokes not fitted in every phase are not counted"
+            n_choke = 0
+        n_in_loop = n_choke if topology == "dc" else (2 if n_choke == 3 else 0)
+        added = n_in_loop * l_choke + 2.0 * l_out
+        inductance = l_motor + added
+        inductance_cat = l_catalogue + added
+        series = 2.0 * r_switch + n_in_loop * r_choke + 2.0 * r_cable
+        motor_r = r_motor_hot
+        loss_r20 = r20_terminal  # dc: I^2 R; six-step: two phases in series, R_tt I^2
+    else:
+        if motor.d_axis_inductance is not None and motor.q_axis_inductance is not None:
+            low = float(P.threephase.phase_inductance_conservative(motor.d_axis_inductance, motor.q_axis_inductance))
+            scale = l_motor / l_catalogue if l_catalogue else 1.0
+            l_phase, l_phase_cat = low * scale, low
+            notes["loop_inductance"] = notes.get("loop_inductance", "") + "; salient motor: min(Ld, Lq) per phase"
+        else:
+            l_phase = float(P.threephase.star_equivalent_inductance(l_motor))
+            l_phase_cat = float(P.threephase.star_equivalent_inductance(l_catalogue))
+        per_phase_choke = l_choke if n_choke == 3 else 0.0
+        if chokes and n_choke < 3:
+            notes["loop_inductance"] = notes.get("loop_inductance", "") + "; chokes not fitted in every phase are not counted"
+        inductance = l_phase + per_phase_choke + l_out
+        inductance_cat = l_phase_cat + per_phase_choke + l_out
+        series = r_switch + (r_choke if n_choke == 3 else 0.0) + r_cable
+        motor_r = float(P.threephase.star_equivalent_resistance(r_motor_hot))
+        # P_cu = 1.5 R_tt I_ph,rms^2 (PHYSICS.md §3.1)
+        loss_r20 = 1.5 * r20_terminal
+    return _Axis(
+        topology=topology,
+        scheme=scheme,
+        f_leg=f_leg,
+        f_ripple=f_ripple,
+        ambiguous=ambiguous,
+        inductance=inductance,
+        inductance_catalogue=inductance_cat,
+        resistance_hot=motor_r + series,
+        motor_resistance_hot=motor_r,
+        series_resistance=series,
+        loss_resistance_20=loss_r20,
+        temperature_limit=limit,
+        dead_time=pwm.dead_time or 0.0,
+        max_duty=pwm.max_duty,
+        notes=notes,
+        missing=missing,
+        flags=flags,
+    )
+
+
+def _constants(spec: Spec) -> tuple[float, float]:
+    """(torque constant per the current the model uses, back-EMF constant) in SI.
+
+    dc / six-step: torque per dc (block) current and the terminal (line-to-line
+    flat-top) EMF constant; sinusoidal: torque per phase-rms current and the
+    peak-phase EMF constant."""
+    motor = spec.motor
+    kt, kt_conv = motor.torque_constant.value, motor.torque_constant.current
+    ke, ke_conv = motor.back_emf_constant.value, motor.back_emf_constant.voltage
+    if motor.type == "brushed-dc":
+        return kt, ke
+    ke_phase_peak = ke * _TO_PHASE_PEAK[ke_conv]
+    if kt_conv == "phase-peak":
+        kt_rms = kt * SQRT2  # torque per A rms = torque per A peak * sqrt2
+    elif kt_conv == "block":
+        kt_rms = kt  # used as given for six-step; see _electrical
+    else:
+        kt_rms = kt
+    return kt_rms, ke_phase_peak
+
+
+def _electrical(spec: Spec, ax: _Axis, speed, torque):
+    """Per-point electrical quantities (vectorised over numpy arrays)."""
+    motor, stage = spec.motor, spec.stage
+    V = stage.supply.voltage
+    no_load = motor.no_load_current or 0.0
+    kt, ke = _constants(spec)
+    out: dict[str, np.ndarray] = {}
+    if ax.topology in ("dc", "six-step"):
+        if ax.topology == "dc":
+            current = P.operating.current_for_torque(torque, kt, no_load)
+            emf_constant = ke
+        else:
+            # two phases conduct: E_ll on the flat top = 2 E_ph,peak; T = k_e,ll I
+            # for ideal 120-degree blocks (PHYSICS.md §4.2)
+            emf_constant = 2.0 * ke
+            kt_block = motor.torque_constant.value if motor.torque_constant.current == "block" else emf_constant
+            current = P.operating.current_for_torque(torque, kt_block, no_load)
+        emf = P.operating.back_emf(emf_constant, speed)
+        v_term = P.operating.terminal_voltage_dc(emf_constant, speed, current, ax.motor_resistance_hot)
+        m = P.operating.modulation_required(
+            v_term, V, current, ax.series_resistance, ax.dead_time, ax.f_leg, ax.scheme
+        )
+        m_max = P.operating.modulation_max(ax.max_duty, ax.scheme)
+        m_clip = np.clip(m, 0.0, 1.0)
+        ripple = P.hbridge.ripple_exact(V, ax.inductance, ax.resistance_hot, ax.f_leg, m_clip, ax.scheme, emf)
+        ripple_cat = P.hbridge.ripple_peak_to_peak(
+            V, ax.inductance_catalogue, ax.resistance_hot, ax.f_leg, m_clip, ax.scheme
+        )
+        out.update(
+            current=np.asarray(current, float),
+            terminal_voltage=np.asarray(v_term, float),
+            modulation=np.asarray(m, float),
+            duty=np.asarray(P.hbridge.leg_duty(m_clip, ax.scheme), float),
+            modulation_ratio=np.asarray(m / m_max, float),
+            ripple_pp=np.asarray(ripple.peak_to_peak, float),
+            ripple_rms=np.asarray(ripple.ripple_rms, float),
+            ripple_pp_catalogue=np.asarray(ripple_cat, float),
+            rms_current=np.sqrt(np.asarray(current, float) ** 2 + np.asarray(ripple.ripple_rms, float) ** 2),
+            peak=np.asarray(current, float) + np.asarray(ripple.peak_to_peak, float) / 2.0,
+        )
+        return out
+    # sinusoidal (dq, i_d = 0)
+    p = motor.pole_pairs or 1
+    flux = ke / p  # peak phase flux linkage [Wb] from the peak-phase EMF constant per mech. rad/s
+    i_rms = P.operating.current_for_torque(torque, kt, no_load)
+    i_q = np.asarray(i_rms, float) * SQRT2
+    l_q_fundamental = motor.q_axis_inductance or float(
+        P.threephase.star_equivalent_inductance(ax.inductance_catalogue - 0.0)
+    )
+    v_ph = P.operating.phase_voltage_peak_dq(speed, p, flux, ax.resistance_hot, l_q_fundamental, i_q)
+    v_ph_max = P.operating.phase_voltage_peak_max(V, ax.scheme, ax.max_duty, ax.dead_time, ax.f_leg)
+    M = P.operating.modulation_index(v_ph, V)
+    M_lin = P.threephase.modulation_index_limit(ax.scheme)
+    M_clip = np.clip(M, 0.0, M_lin)
+    ripple_pp = P.threephase.phase_ripple_peak_to_peak_max(V, ax.inductance, ax.f_leg, M_clip, ax.scheme)
+    ripple_rms = P.threephase.phase_ripple_rms(V, ax.inductance, ax.f_leg, M_clip, ax.scheme)
+    ripple_cat = P.threephase.phase_ripple_peak_to_peak_max(V, ax.inductance_catalogue, ax.f_leg, M_clip, ax.scheme)
+    # peak leg duty: SPWM 1/2 (1 + M); SVPWM with min-max injection 1/2 (1 + M sqrt3/2)
+    duty = 0.5 * (1.0 + M_clip * (SQRT3 / 2.0 if ax.scheme == P.threephase.SVPWM else 1.0))
+    out.update(
+        current=np.asarray(i_rms, float),
+        terminal_voltage=np.asarray(v_ph, float) * SQRT3,  # peak line-to-line
+        modulation=np.asarray(M, float),
+        duty=np.asarray(duty, float),
+        modulation_ratio=np.asarray(v_ph, float) / float(v_ph_max),
+        ripple_pp=np.asarray(ripple_pp, float),
+        ripple_rms=np.asarray(ripple_rms, float),
+        ripple_pp_catalogue=np.asarray(ripple_cat, float),
+        rms_current=np.sqrt(np.asarray(i_rms, float) ** 2 + np.asarray(ripple_rms, float) ** 2),
+        peak=i_q + np.asarray(ripple_pp, float) / 2.0,
+        phase_voltage_peak=np.asarray(v_ph, float),
+    )
+    return out
+
+
+def _worst_ripple(spec: Spec, ax: _Axis, inductance: float) -> float:
+    V = spec.stage.supply.voltage
+    if ax.topology in ("dc", "six-step"):
+        return float(P.hbridge.ripple_peak_to_peak_worst(V, inductance, ax.resistance_hot, ax.f_leg, ax.scheme))
+    v_ph_max = P.operating.phase_voltage_peak_max(V, ax.scheme, ax.max_duty, ax.dead_time, ax.f_leg)
+    M_reach = min(float(P.operating.modulation_index(v_ph_max, V)), P.threephase.modulation_index_limit(ax.scheme))
+    # the maximum peak-to-peak ripple grows with M over the linear range (PHYSICS.md §2.3 table)
+    grid = np.linspace(0.0, M_reach, 64)
+    return float(np.max(P.threephase.phase_ripple_peak_to_peak_max(V, inductance, ax.f_leg, grid, ax.scheme)))
+
+
+def compute(spec: Spec, settings: FigureSettings | None = None) -> FigureSet:
+    settings = settings or FigureSettings()
+    ax = _axis(spec, settings)
+    motor, stage = spec.motor, spec.stage
+    rated = motor.rated_current
+    V = stage.supply.voltage
+    axis: dict[str, float | bool] = {
+        "rated_current": rated,
+        "supply_voltage": V,
+        "ripple_frequency": ax.f_ripple,
+        "pwm_frequency_leg": ax.f_leg,
+        "loop_inductance": ax.inductance,
+        "loop_inductance_catalogue": ax.inductance_catalogue,
+        "loop_resistance_hot": ax.resistance_hot,
+        "electrical_time_constant": ax.inductance / ax.resistance_hot,
+        "ripple_period_over_tau": float(P.hbridge.ripple_period_to_time_constant(ax.resistance_hot, ax.inductance, ax.f_ripple)),
+    }
+    axis.update(ax.flags)
+    missing = dict(ax.missing)
+    notes = dict(ax.notes)
+
+    points = spec.operating_points
+    names = [p.name for p in points]
+    speed = np.array([p.speed for p in points], float)
+    torque = np.array([p.torque for p in points], float)
+    ambient = np.array([p.ambient for p in points], float)
+    elec = _electrical(spec, ax, speed, torque)
+    per_point: dict[str, np.ndarray] = {
+        "speed": speed,
+        "torque": torque,
+        "ambient": ambient,
+        "current": elec["current"],
+        "terminal_voltage": elec["terminal_voltage"],
+        "modulation": elec["modulation"],
+        "duty": elec["duty"],
+        "modulation_ratio": elec["modulation_ratio"],
+        "ripple_pp": elec["ripple_pp"],
+        "ripple_pp_catalogue": elec["ripple_pp_catalogue"],
+        "ripple_ratio": elec["ripple_pp"] / rated,
+        "ripple_rms": elec["ripple_rms"],
+        "rms_current": elec["rms_current"],
+    }
+    worst = _worst_ripple(spec, ax, ax.inductance)
+    axis["ripple_pp_worst"] = worst
+    axis["ripple_ratio_worst"] = worst / rated
+    axis["modulation_max"] = float(np.max(elec["modulation"]))
+
+    # discontinuous conduction: only with diode freewheeling (PHYSICS.md §1.6)
+    freewheel = stage.pwm.freewheeling
+    if ax.topology == "sinusoidal":
+        missing["conduction_margin"] = "not modelled for sinusoidal commutation"
+    elif freewheel is None:
+        missing["conduction_margin"] = "the spec does not say how the off-time current flows (stage.pwm.freewheeling)"
+    elif freewheel == "synchronous":
+        missing["conduction_margin"] = "synchronous freewheeling: the current reverses, conduction stays continuous"
+    else:
+        half = np.maximum(elec["ripple_pp"] / 2.0, 1e-300)
+        per_point["conduction_margin"] = np.abs(elec["current"]) / half
+
+    # supply window
+    _supply_window(spec, ax, elec, settings, axis, missing)
+
+    # control
+    loop = stage.current_loop
+    if loop is None:
+        for name in ("loop_bandwidth_ratio", "loop_bandwidth_max"):
+            missing[name] = "the spec has no stage.current_loop"
+    else:
+        double = loop.sampling == "double-update"
+        sampling_frequency = ax.f_leg * (2.0 if double else 1.0)
+        axis["loop_bandwidth_ratio"] = loop.bandwidth / sampling_frequency
+        axis["loop_bandwidth_max"] = float(
+            P.control.current_loop_bandwidth_max(ax.f_leg, math.radians(settings.phase_margin_deg), 1.5, double)
+        )
+
+    # constants
+    axis["constant_mismatch"] = _constant_mismatch(spec)
+
+    # thermal
+    _thermal(spec, ax, elec, ambient, per_point, axis, missing, notes)
+
+    # currents against limits
+    peak = float(np.max(elec["peak"]))
+    axis["peak_current"] = peak
+    limits = stage.current_limit
+    if limits is not None:
+        axis["peak_current_ratio_stage"] = peak / (limits.peak or limits.continuous)
+    else:
+        missing["peak_current_ratio_stage"] = "the spec has no stage.current_limit"
+    axis["peak_current_ratio_motor"] = peak / (motor.peak_current or motor.rated_current)
+    _chokes(spec, ax, elec, axis, missing, notes)
+    _braking(spec, axis, missing)
+
+    point_rows = tuple(
+        (name, {key: _scalar(values[i]) for key, values in per_point.items()}) for i, name in enumerate(names)
+    )
+    return FigureSet(axis=axis, points=point_rows, missing=missing, notes=notes)
+
+
+def _scalar(value) -> float | bool:
+    if isinstance(value, (bool, np.bool_)):
+        return bool(value)
+    return float(value)
+
+
+def _supply_window(spec, ax, elec, settings, axis, missing):
+    stage = spec.stage
+    rated = spec.motor.rated_current
+    loop = stage.current_loop
+    # control headroom for a step of the rated current at the loop bandwidth
+    # (PHYSICS.md §4.5: V_headroom >= omega_c L dI_step)
+    headroom = 0.0
+    if loop is not None:
+        headroom = float(P.control.current_step_headroom_voltage(loop.bandwidth, ax.inductance_catalogue, rated))
+    ceiling = stage.max_supply_voltage if stage.max_supply_voltage is not None else math.inf
+    worst = int(np.argmax(elec["terminal_voltage"]))
+    if ax.topology in ("dc", "six-step"):
+        window = P.operating.supply_voltage_window(
+            float(elec["terminal_voltage"][worst]),
+            float(elec["terminal_voltage"][worst]),
+            float(elec["current"][worst]),
+            float(elec["current"][worst]),
+            ax.max_duty,
+            ax.scheme,
+            ax.inductance,
+            ax.resistance_hot,
+            ax.f_leg,
+            settings.ripple_limit_ratio * rated,
+            series_resistance=ax.series_resistance,
+            headroom_voltage=headroom,
+            reserve_fraction=settings.reserve_fraction,
+            modulation_floor=settings.modulation_floor,
+            dead_time=ax.dead_time,
+            controller_voltage_max=ceiling,
+        )
+        v_min, v_max = float(window.minimum), float(window.maximum)
+    else:
+        v_ph = float(elec["phase_voltage_peak"][worst])
+        v_min = float(P.operating.supply_voltage_min_sinusoidal(v_ph, ax.scheme, ax.max_duty, ax.dead_time, ax.f_leg))
+        v_min *= 1.0 + settings.reserve_fraction
+        # duty floor only: M = 2 V_ph / V >= floor (the ripple bound of the
+        # three-phase case is not part of the window yet)
+        v_max = min(ceiling, 2.0 * v_ph / settings.modulation_floor) if v_ph > 0 else ceiling
+    axis["supply_min"] = v_min
+    if math.isfinite(v_max):
+        axis["supply_max"] = v_max
+        axis["supply_window_width"] = v_max - v_min
+    else:
+        missing["supply_max"] = "no upper bound applies (no duty floor, ripple or controller limit reached)"
+        missing["supply_window_width"] = missing["supply_max"]
+
+
+def _constant_mismatch(spec: Spec) -> float:
+    motor = spec.motor
+    kt, kt_conv = motor.torque_constant.value, motor.torque_constant.current
+    ke, ke_conv = motor.back_emf_constant.value, motor.back_emf_constant.voltage
+    if motor.type == "brushed-dc":
+        return float(P.consistency.torque_constant_mismatch(kt, ke, "dc"))
+    # bring k_e to line-to-line peak, then use the physics conventions
+    ke_ll_peak = ke * _TO_PHASE_PEAK[ke_conv] * SQRT3
+    if kt_conv == "phase-rms":
+        return float(P.consistency.torque_constant_mismatch(kt, ke_ll_peak, "line_peak_per_phase_rms"))
+    if kt_conv == "phase-peak":
+        return float(P.consistency.torque_constant_mismatch(kt, ke_ll_peak, "line_peak_per_phase_peak"))
+    return float(P.consistency.torque_constant_mismatch(kt, ke_ll_peak, "six_step_flat"))
+
+
+def _thermal(spec, ax, elec, ambient, per_point, axis, missing, notes):
+    thermal = spec.motor.thermal
+    names = ("rms_current_ratio", "continuous_current_max", "winding_temperature", "winding_margin",
+             "runaway_number", "profile_peak_temperature", "profile_mean_temperature", "profile_margin")
+    if thermal is None:
+        for name in names:
+            missing[name] = "the spec has no motor.thermal data"
+        return
+    r_wh, r_ha = thermal.winding_to_housing, thermal.housing_to_ambient
+    i_rms = elec["rms_current"]
+    r20 = ax.loss_resistance_20
+    k = P.thermal.runaway_number(i_rms, r20, r_wh, r_ha)
+    per_point["runaway_number"] = np.asarray(k, float)
+    t_w = np.asarray(P.thermal.winding_temperature_steady(i_rms, r20, r_wh, r_ha, ambient), float)
+    finite = np.isfinite(t_w)
+    limit = ax.temperature_limit
+    if np.all(finite):
+        per_point["winding_temperature"] = t_w
+    else:
+        missing["winding_temperature"] = "thermal runaway at some operating point: no steady state"
+    if limit is None:
+        for name in ("winding_margin", "continuous_current_max", "rms_current_ratio", "profile_margin"):
+            missing[name] = ax.missing.get("winding_temperature_limit", "no temperature limit")
+    else:
+        axis["winding_temperature_limit"] = limit
+        if np.all(finite):
+            per_point["winding_margin"] = limit - t_w
+        else:
+            missing["winding_margin"] = missing["winding_temperature"]
+        i_max = np.asarray(P.thermal.current_continuous_max(limit, ambient, r20, r_wh, r_ha), float)
+        per_point["continuous_current_max"] = i_max
+        per_point["rms_current_ratio"] = i_rms / np.maximum(i_max, 1e-300)
+    profile = spec.profile
+    if profile is None:
+        for name in ("profile_peak_temperature", "profile_mean_temperature", "profile_margin"):
+            missing[name] = "the spec has no motion profile"
+        return
+    if thermal.winding_time_constant is None or thermal.motor_time_constant is None:
+        for name in ("profile_peak_temperature", "profile_mean_temperature", "profile_margin"):
+            missing[name] = "motor.thermal lacks winding_time_constant or motor_time_constant"
+        return
+    seg_speed = np.array([s.speed for s in profile.segments], float)
+    seg_torque = np.array([s.torque for s in profile.segments], float)
+    seg = _electrical(spec, ax, seg_speed, seg_torque)
+    c_w, c_h = P.thermal.capacitances_from_time_constants(
+        thermal.winding_time_constant, thermal.motor_time_constant, r_wh, r_ha
+    )
+    segments = [
+        P.thermal.Segment(s.duration, float(i), 0.0) for s, i in zip(profile.segments, seg["rms_current"])
+    ]
+    cycle = P.thermal.winding_temperature_cyclic(segments, r20, c_w, c_h, r_wh, r_ha, profile.ambient)
+    if cycle.runaway or not math.isfinite(cycle.peak_winding_temperature):
+        for name in ("profile_peak_temperature", "profile_mean_temperature", "profile_margin"):
+            missing[name] = "thermal runaway over the profile: no periodic steady state"
+        return
+    axis["profile_peak_temperature"] = float(cycle.peak_winding_temperature)
+    axis["profile_mean_temperature"] = float(cycle.mean_winding_temperature)
+    if limit is not None:
+        axis["profile_margin"] = limit - float(cycle.peak_winding_temperature)
+    notes["profile_peak_temperature"] = "two-node model, periodic steady state of the repeated profile"
+
+
+def _chokes(spec, ax, elec, axis, missing, notes):
+    chokes = spec.chokes
+    names = ("choke_peak_current", "choke_saturation_ratio", "choke_rms_ratio")
+    if chokes is None:
+        for name in names:
+            missing[name] = "the spec has no chokes"
+        return
+    # the choke carries what the controller can drive: its peak limit, else the
+    # motor's peak current, else the largest operating current (PHYSICS.md §7.5)
+    limits = spec.stage.current_limit
+    worst_ripple = float(axis["ripple_pp_worst"])
+    if limits is not None and limits.peak is not None:
+        base, source = limits.peak, "the stage's peak current limit"
+    elif spec.motor.peak_current is not None:
+        base, source = spec.motor.peak_current, "the motor's peak current"
+    else:
+        base, source = float(np.max(elec["current"])), "the largest operating current"
+    i_pk = float(P.choke.choke_peak_current(base, worst_ripple))
+    axis["choke_peak_current"] = i_pk
+    notes["choke_peak_current"] = f"{source} plus half the worst-case ripple"
+    if chokes.saturation_current is not None:
+        axis["choke_saturation_ratio"] = i_pk / chokes.saturation_current
+    else:
+        missing["choke_saturation_ratio"] = "chokes.saturation_current is not given"
+    if chokes.rated_current is not None:
+        axis["choke_rms_ratio"] = float(np.max(elec["rms_current"])) / chokes.rated_current
+    else:
+        missing["choke_rms_ratio"] = "chokes.rated_current is not given"
+
+
+def _braking(spec, axis, missing):
+    stage = spec.stage
+    inertia = (spec.load.inertia if spec.load else 0.0) + (spec.motor.rotor_inertia or 0.0)
+    speeds = [p.speed for p in spec.operating_points]
+    if spec.profile is not None:
+        speeds += [s.speed for s in spec.profile.segments]
+    names = ("braking_energy", "bus_absorbable_energy", "braking_energy_ratio", "bus_voltage_after_braking")
+    if spec.load is None and spec.motor.rotor_inertia is None:
+        for name in names:
+            missing[name] = "the spec gives no load.inertia or motor.rotor_inertia"
+        return
+    energy = float(P.braking.regenerative_energy(inertia, max(speeds)))
+    axis["braking_energy"] = energy
+    if stage.bus_capacitance is None or stage.overvoltage_trip is None:
+        for name in names[1:]:
+            missing[name] = "the spec lacks stage.bus_capacitance or stage.overvoltage_trip"
+        return
+    V = stage.supply.voltage
+    capacity = float(P.braking.capacitor_absorbable_energy(stage.bus_capacitance, V, stage.overvoltage_trip))
+    axis["bus_absorbable_energy"] = capacity
+    axis["braking_energy_ratio"] = energy / capacity if capacity > 0 else math.inf
+    axis["bus_voltage_after_braking"] = float(P.braking.bus_voltage_after_braking(stage.bus_capacitance, V, energy))
+
+
+# ------------------------------------------------------------------- remedies
+def _fmt(value: float, dimension: str) -> str:
+    return format_si(value, dimension)
+
+
+def remedy(name: str, spec: Spec, figures: FigureSet, *, point: str | None, limit: float) -> Remedy | None:
+    settings = FigureSettings()
+    ax = _axis(spec, settings)
+    V = spec.stage.supply.voltage
+    rated = spec.motor.rated_current
+    modulation = figures.value("modulation", point) if point is not None else None
+    three = ax.topology == "sinusoidal"
+    if name == "added_inductance":
+        if three:
+            M = modulation if modulation is not None else P.threephase.modulation_index_limit(ax.scheme)
+            value = P.remedies.added_phase_inductance_min(V, ax.inductance, ax.f_leg, min(M, P.threephase.modulation_index_limit(ax.scheme)), ax.scheme, rated, limit)
+            where = "per phase (one choke in each phase)"
+        else:
+            m = None if modulation is None else min(max(modulation, 0.0), 1.0)
+            value = P.remedies.added_inductance_min(V, ax.inductance, ax.resistance_hot, ax.f_leg, ax.scheme, rated, limit, modulation=m)
+            where = "in total, split over both motor leads" if ax.topology == "dc" else "in the two conducting phases together"
+            if value is not None and ax.topology == "dc" and value > 0:
+                return Remedy(name, f"add at least {_fmt(value / 2.0, 'inductance')} per lead", float(value) / 2.0, "H")
+        if value is None:
+            return Remedy(name, "no added inductance below 1 H reaches the limit", None, "H")
+        if value <= 0:
+            return None
+        return Remedy(name, f"add at least {_fmt(value, 'inductance')} {where}", float(value), "H")
+    if name == "pwm_frequency":
+        if three:
+            M = modulation if modulation is not None else P.threephase.modulation_index_limit(ax.scheme)
+            value = P.remedies.pwm_frequency_min_three_phase(V, ax.inductance, min(M, P.threephase.modulation_index_limit(ax.scheme)), ax.scheme, rated, limit)
+        else:
+            m = None if modulation is None else min(max(modulation, 0.0), 1.0)
+            value = P.remedies.pwm_frequency_min(V, ax.inductance, ax.resistance_hot, ax.scheme, rated, limit, modulation=m)
+        if value is None:
+            return Remedy(name, "no PWM frequency below 1 MHz reaches the limit", None, "Hz")
+        if value <= 0 or value <= ax.f_leg:
+            return None
+        note = " (re-check the inductance there)" if spec.motor.inductance_vs_frequency else ""
+        return Remedy(name, f"raise the PWM frequency to at least {_fmt(value, 'frequency')} per leg{note}", float(value), "Hz")
+    if name == "supply_voltage_for_ripple":
+        if three:
+            worst = figures.value("ripple_pp_worst")
+            if not worst:
+                return None
+            value = V * limit * rated / float(worst)  # closed-form ripple is linear in V at fixed M
+        elif point is not None:
+            point_values = next(values for n, values in figures.points if n == point)
+            value = P.remedies.supply_voltage_max_for_ripple(
+                ax.inductance, ax.resistance_hot, ax.f_leg, ax.scheme, rated, limit,
+                terminal_voltage=float(point_values["terminal_voltage"]),
+                current=float(point_values["current"]),
+                series_resistance=ax.series_resistance,
+                dead_time=ax.dead_time,
+            )
+        else:
+            value = P.remedies.supply_voltage_max_for_ripple(ax.inductance, ax.resistance_hot, ax.f_leg, ax.scheme, rated, limit)
+        if value is None or not math.isfinite(value) or value >= V:
+            return None
+        needed = figures.value("supply_min")
+        if needed is not None and value < float(needed):
+            return Remedy(
+                name,
+                f"lowering the supply does not help: the ripple limit needs at most {_fmt(value, 'voltage')} "
+                f"but the operating points need at least {_fmt(float(needed), 'voltage')}",
+                None,
+                "V",
+            )
+        return Remedy(name, f"lower the supply to at most {_fmt(value, 'voltage')}", float(value), "V")
+    if name == "supply_voltage_for_duty":
+        needed = figures.value("modulation_max")
+        if not needed:
+            return None
+        value = V * float(needed) / limit  # m scales as 1/V for fixed terminal voltage
+        if value >= V:
+            return None
+        return Remedy(name, f"lower the supply to at most {_fmt(value, 'voltage')} (modulation then {limit:.0%} at the most demanding point)", value, "V")
+    if name == "supply_voltage_min":
+        value = figures.value("supply_min")
+        if value is None:
+            return None
+        return Remedy(name, f"raise the supply to at least {_fmt(float(value), 'voltage')}", float(value), "V")
+    if name == "pwm_frequency_inaudible":
+        ratio = ax.f_ripple / ax.f_leg
+        value = limit / ratio
+        return Remedy(name, f"raise the PWM frequency to at least {_fmt(value, 'frequency')} per leg (ripple then at {_fmt(limit, 'frequency')})", value, "Hz")
+    if name == "choke_saturation_current":
+        i_pk = figures.value("choke_peak_current")
+        if i_pk is None or limit <= 0:
+            return None
+        value = float(i_pk) / limit
+        return Remedy(name, f"use chokes rated for at least {_fmt(value, 'current')} saturation current", value, "A")
+    if name == "loop_bandwidth":
+        loop = spec.stage.current_loop
+        if loop is None:
+            return None
+        sampling = ax.f_leg * (2.0 if loop.sampling == "double-update" else 1.0)
+        value = limit * sampling
+        return Remedy(name, f"lower the current-loop bandwidth to at most {_fmt(value, 'frequency')}, or raise the PWM frequency", value, "Hz")
+    return None

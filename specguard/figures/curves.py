@@ -1,0 +1,439 @@
+"""Plot data for the review report: pure functions from a Spec and its FigureSet to arrays.
+
+This module belongs to ``figures``, the one adapter between the model and the
+physics: every number here comes from a :mod:`specguard.physics` function, fed
+with the spec's settings and with the loop quantities the figure computation
+already derived (``loop_inductance``, ``loop_resistance_hot``, ``modulation``,
+``current``, ...).  No formula is written here, and no plotting library is
+imported; the HTML reporter draws what these functions return.
+
+Each function returns ``None`` when the spec or the figures lack what the curve
+needs (the report then says which curve is not available and why, through
+:func:`unavailable`), never a guessed value.
+
+Adapter assumptions (to be kept in step with ``figures.compute``):
+
+* ``loop_inductance`` and ``loop_resistance_hot`` are the inductance and the hot
+  resistance of the loop the ripple flows in: the lead-to-lead loop for brushed DC
+  motors and six-step commutation, the per-phase (star-equivalent) loop for
+  sinusoidal and space-vector PWM (PHYSICS.md §1.1, §2.1-2.3).
+* External inductance "per lead" adds twice to a lead-to-lead loop and once to a
+  per-phase loop.
+* The waveform's source voltage is the effective back-EMF ``E = m V - I R`` that
+  makes the period average equal the operating current at the figure
+  ``modulation`` (so the drops and the dead-time loss folded into ``m`` by the
+  figure computation stay consistent with the plotted average).
+"""
+
+from __future__ import annotations
+
+import math
+from typing import NamedTuple
+
+import numpy as np
+
+from specguard.physics import hbridge, operating, remedies, thermal, threephase
+from specguard.physics import rms as rms_mod
+
+# Spec scheme -> (family, physics scheme or strategy name).
+_SCHEMES: dict[str, tuple[str, str]] = {
+    "bipolar": ("hbridge", hbridge.BIPOLAR),
+    "unipolar-single": ("hbridge", hbridge.UNIPOLAR_SINGLE),
+    "unipolar-phase-shifted": ("hbridge", hbridge.UNIPOLAR_PHASE_SHIFTED),
+    "six-step-chop-one": ("six_step", threephase.SIX_STEP_CHOP_ONE),
+    "six-step-chop-both": ("six_step", threephase.SIX_STEP_CHOP_BOTH),
+    "sinusoidal": ("sinusoidal", threephase.SPWM),
+    "space-vector": ("sinusoidal", threephase.SVPWM),
+}
+
+# Ripple limit used when the report does not know the rule's threshold:
+# 20 % of rated current (PHYSICS.md §7.4, common practice).
+DEFAULT_RIPPLE_FRACTION = 0.2
+
+# Points of the sweeps; fixed so that the output is deterministic.
+SWEEP_POINTS = 97
+WAVEFORM_POINTS = 241
+# Modulation-index grid for the three-phase worst case over the reachable range.
+_MODULATION_GRID = 257
+# Upper bound of the profile's temperature samples (cost: one cycle solve each).
+PROFILE_SAMPLES = 64
+
+
+class Waveform(NamedTuple):
+    """Current over one ripple period at one operating point."""
+
+    point: str
+    time: np.ndarray  # [s], starts at 0
+    current: np.ndarray  # [A]
+    average: float  # [A] average of the periodic current (physics.current_average)
+    peak_to_peak: float  # [A] exact ripple (physics.ripple_peak_to_peak)
+    rated_current: float  # [A]
+    modulation: float  # [-]
+    back_emf: float  # [V] effective source voltage used
+    duty: float  # [-] load-wave duty D (physics.load_wave_duty)
+
+
+class Sweep(NamedTuple):
+    """Worst-case peak-to-peak ripple against one design variable."""
+
+    variable: str  # "frequency" (leg PWM frequency, Hz) or "added_inductance" (H per lead)
+    x: np.ndarray  # [Hz] or [H]
+    ripple: np.ndarray  # [A] worst case over the reachable modulation
+    setting: float  # present value of x
+    ripple_at_setting: float  # [A]
+    limit: float  # [A] peak-to-peak limit
+    x_at_limit: float | None  # value of x that brings the ripple to the limit (physics.remedies)
+
+
+class PointBars(NamedTuple):
+    """One value per operating point, in spec order."""
+
+    points: tuple[str, ...]
+    values: np.ndarray  # NaN where the figure is absent
+    reference: float | None  # a line to draw (max duty, zero margin)
+
+
+class ProfileTrace(NamedTuple):
+    """Winding temperature over one cycle of the motion profile (periodic steady state)."""
+
+    time: np.ndarray  # [s] within the cycle
+    temperature: np.ndarray  # [K]
+    segment_starts: np.ndarray  # [s]
+    peak: float  # [K] physics.winding_temperature_cyclic
+    mean: float  # [K]
+    limit: float | None  # [K] permitted winding temperature
+    runaway: bool
+
+
+def family(spec) -> tuple[str, str] | None:
+    """(family, physics scheme) of the spec's PWM scheme, or None when unknown."""
+    try:
+        return _SCHEMES.get(spec.stage.pwm.scheme)
+    except AttributeError:
+        return None
+
+
+def _num(figures, name: str, point: str | None = None) -> float | None:
+    if figures is None:
+        return None
+    value = figures.value(name, point)
+    if value is None or isinstance(value, bool):
+        return None
+    value = float(value)
+    return value if math.isfinite(value) else None
+
+
+def _loop(spec, figures):
+    """(V, L, R, f_leg, family, scheme) or None when a piece is missing."""
+    fam = family(spec)
+    voltage = _num(figures, "supply_voltage")
+    if voltage is None:
+        voltage = float(spec.stage.supply.voltage)
+    inductance = _num(figures, "loop_inductance")
+    resistance = _num(figures, "loop_resistance_hot")
+    frequency = _num(figures, "pwm_frequency_leg")
+    if frequency is None and spec.stage.pwm.frequency_is in (None, "leg") and fam and fam[0] != "hbridge":
+        frequency = float(spec.stage.pwm.frequency)
+    if fam is None or inductance is None or resistance is None or frequency is None:
+        return None
+    return voltage, inductance, resistance, frequency, fam[0], fam[1]
+
+
+def ripple_limit(spec, figures, fraction: float = DEFAULT_RIPPLE_FRACTION) -> float | None:
+    """The peak-to-peak ripple limit [A]: ``fraction`` x rated current."""
+    rated = _num(figures, "rated_current")
+    if rated is None:
+        rated = float(spec.motor.rated_current)
+    return fraction * rated
+
+
+def _worst_ripple(voltage, inductance, resistance, frequency, fam, scheme, max_duty):
+    """Worst-case peak-to-peak ripple [A]; arrays broadcast in inductance and frequency."""
+    inductance = np.asarray(inductance, dtype=float)
+    frequency = np.asarray(frequency, dtype=float)
+    if fam == "hbridge":
+        return hbridge.ripple_peak_to_peak_worst(voltage, inductance, resistance, frequency, scheme)
+    if fam == "six_step":
+        return threephase.six_step_ripple_peak_to_peak_worst(voltage, inductance, resistance, frequency, scheme)
+    # Sinusoidal / space-vector: resistance neglected over one period (§2.3); the
+    # worst case over the modulation indices the stage can reach.
+    top = float(operating.modulation_index(operating.phase_voltage_peak_max(voltage, scheme, max_duty), voltage))
+    top = min(top, threephase.modulation_index_limit(scheme))
+    grid = np.linspace(0.0, top, _MODULATION_GRID)
+    shape = np.broadcast(inductance, frequency).shape
+    values = threephase.phase_ripple_peak_to_peak_max(
+        voltage,
+        inductance[..., None] if np.ndim(inductance) else inductance,
+        frequency[..., None] if np.ndim(frequency) else frequency,
+        grid.reshape((1,) * len(shape) + grid.shape),
+        scheme,
+    )
+    return np.nanmax(values, axis=-1).reshape(shape)
+
+
+def _lead_factor(fam: str) -> float:
+    return 1.0 if fam == "sinusoidal" else 2.0
+
+
+def worst_point(spec, figures) -> str | None:
+    """The operating point with the largest peak-to-peak ripple (figure ``ripple_pp``).
+
+    Ties keep the first point in spec order; None when no point has the figure.
+    """
+    best, best_value = None, -math.inf
+    for name in figures.point_names() if figures is not None else ():
+        value = _num(figures, "ripple_pp", name)
+        if value is not None and value > best_value:
+            best, best_value = name, value
+    return best
+
+
+def current_waveform(spec, figures, point: str | None = None) -> Waveform | None:
+    """Exact current over one ripple period at ``point`` (default: the worst point).
+
+    H-bridge and six-step schemes only (a two-level wave per period); for
+    sinusoidal PWM the ripple changes over the electrical revolution and
+    :func:`ripple_vs_frequency` carries the worst case instead.
+    Physics: hbridge.current_waveform, ripple_peak_to_peak, current_average,
+    load_wave_duty (PHYSICS.md §1.2, §1.4).
+    """
+    loop = _loop(spec, figures)
+    if loop is None or loop[4] == "sinusoidal":
+        return None
+    voltage, inductance, resistance, frequency, fam, scheme = loop
+    if fam == "six_step":
+        scheme = threephase.six_step_equivalent_scheme(scheme)
+    point = point or worst_point(spec, figures)
+    if point is None:
+        return None
+    modulation = _num(figures, "modulation", point)
+    current = _num(figures, "current", point)
+    if modulation is None or current is None or resistance <= 0.0:
+        return None
+    modulation = min(max(modulation, -1.0), 1.0)
+    # Effective source voltage E = m V - I R, so that the period average
+    # (m V - E) / R equals the operating current (see the module docstring).
+    back_emf = modulation * voltage - current * resistance
+    time, amps = hbridge.current_waveform(
+        voltage, inductance, resistance, frequency, modulation, scheme, back_emf, sample_count=WAVEFORM_POINTS
+    )
+    rated = _num(figures, "rated_current") or float(spec.motor.rated_current)
+    return Waveform(
+        point=point,
+        time=time,
+        current=amps,
+        average=float(hbridge.current_average(voltage, modulation, back_emf, resistance)),
+        peak_to_peak=float(
+            hbridge.ripple_peak_to_peak(voltage, inductance, resistance, frequency, modulation, scheme)
+        ),
+        rated_current=rated,
+        modulation=modulation,
+        back_emf=back_emf,
+        duty=float(hbridge.load_wave_duty(modulation, scheme)),
+    )
+
+
+def ripple_vs_frequency(spec, figures, fraction: float = DEFAULT_RIPPLE_FRACTION) -> Sweep | None:
+    """Worst-case ripple against the leg PWM frequency, from a quarter to four times the setting.
+
+    The loop inductance is held at its value at the present ripple frequency
+    (a measured L(f) table would lower it somewhat at higher frequencies).
+    Physics: hbridge.ripple_peak_to_peak_worst, threephase.six_step_ripple_peak_to_peak_worst,
+    threephase.phase_ripple_peak_to_peak_max; remedies.pwm_frequency_min.
+    """
+    loop = _loop(spec, figures)
+    limit = ripple_limit(spec, figures, fraction)
+    if loop is None or limit is None:
+        return None
+    voltage, inductance, resistance, frequency, fam, scheme = loop
+    max_duty = float(spec.stage.pwm.max_duty)
+    x = np.geomspace(frequency / 4.0, frequency * 4.0, SWEEP_POINTS)
+    ripple = _worst_ripple(voltage, inductance, resistance, x, fam, scheme, max_duty)
+    at_setting = float(_worst_ripple(voltage, inductance, resistance, frequency, fam, scheme, max_duty))
+    needed = None
+    if fam in ("hbridge", "six_step"):
+        bridge = scheme if fam == "hbridge" else threephase.six_step_equivalent_scheme(scheme)
+        rated = limit / fraction
+        value = remedies.pwm_frequency_min(voltage, inductance, resistance, bridge, rated, fraction)
+        needed = _finite(value)
+    return Sweep("frequency", x, np.asarray(ripple, dtype=float), frequency, at_setting, limit, needed)
+
+
+def ripple_vs_added_inductance(spec, figures, fraction: float = DEFAULT_RIPPLE_FRACTION) -> Sweep | None:
+    """Worst-case ripple against external inductance added per lead (or phase), at the present PWM frequency.
+
+    The range runs from 0 (the spec as it is, fitted chokes included) to twice
+    what the limit needs, or to four times the present loop inductance.
+    Physics: as :func:`ripple_vs_frequency`; remedies.added_inductance_min.
+    """
+    loop = _loop(spec, figures)
+    limit = ripple_limit(spec, figures, fraction)
+    if loop is None or limit is None:
+        return None
+    voltage, inductance, resistance, frequency, fam, scheme = loop
+    max_duty = float(spec.stage.pwm.max_duty)
+    factor = _lead_factor(fam)
+    needed = None
+    if fam in ("hbridge", "six_step"):
+        bridge = scheme if fam == "hbridge" else threephase.six_step_equivalent_scheme(scheme)
+        value = _finite(
+            remedies.added_inductance_min(voltage, inductance, resistance, frequency, bridge, limit / fraction, fraction)
+        )
+        needed = None if value is None else value / factor
+    span = max(2.0 * needed if needed else 0.0, 4.0 * inductance / factor)
+    x = np.linspace(0.0, span, SWEEP_POINTS)
+    ripple = _worst_ripple(voltage, inductance + factor * x, resistance, frequency, fam, scheme, max_duty)
+    at_setting = float(_worst_ripple(voltage, inductance, resistance, frequency, fam, scheme, max_duty))
+    return Sweep("added_inductance", x, np.asarray(ripple, dtype=float), 0.0, at_setting, limit, needed)
+
+
+def _finite(value) -> float | None:
+    try:
+        value = float(value)
+    except (TypeError, ValueError):
+        return None
+    return value if math.isfinite(value) else None
+
+
+def point_values(figures, name: str) -> np.ndarray:
+    """The figure ``name`` at every operating point, NaN where absent."""
+    return np.array(
+        [v if (v := _num(figures, name, p)) is not None else math.nan for p in figures.point_names()],
+        dtype=float,
+    )
+
+
+def duty_per_point(spec, figures) -> PointBars | None:
+    """Leg duty per operating point (figure ``duty``) against the stage's maximum duty."""
+    values = point_values(figures, "duty")
+    if not np.isfinite(values).any():
+        return None
+    return PointBars(figures.point_names(), values, float(spec.stage.pwm.max_duty))
+
+
+def voltage_headroom_per_point(spec, figures) -> PointBars | None:
+    """Relative voltage headroom ``1 - m_op / m_max`` per point (physics.modulation_headroom).
+
+    Computed from the figure ``modulation_ratio`` (= m_op / m_max); negative: the
+    point cannot be reached.
+    """
+    ratio = point_values(figures, "modulation_ratio")
+    if not np.isfinite(ratio).any():
+        return None
+    return PointBars(figures.point_names(), operating.modulation_headroom(ratio, 1.0), 0.0)
+
+
+def thermal_margin_per_point(spec, figures) -> PointBars | None:
+    """Permitted minus steady-state winding temperature per point [K] (figure ``winding_margin``)."""
+    values = point_values(figures, "winding_margin")
+    if not np.isfinite(values).any():
+        return None
+    return PointBars(figures.point_names(), values, 0.0)
+
+
+def _profile_segments(spec, figures):
+    """thermal.Segment per profile segment, or None.
+
+    RMS current: the torque current (operating.current_for_torque) with the
+    largest operating-point ripple RMS (figure ``ripple_rms``) added in quadrature
+    (conservative).  Only torque constants that refer to the DC or the phase RMS
+    current are used; other conventions get no profile trace.
+    """
+    motor = spec.motor
+    kt = motor.torque_constant
+    if kt.current not in ("dc", "phase-rms"):
+        return None
+    ripple = point_values(figures, "ripple_rms") if figures is not None else np.array([])
+    ripple_rms = float(np.nanmax(ripple)) if ripple.size and np.isfinite(ripple).any() else 0.0
+    no_load = float(motor.no_load_current or 0.0)
+    segments = []
+    for seg in spec.profile.segments:
+        average = float(operating.current_for_torque(seg.torque, kt.value, no_load))
+        rms = float(rms_mod.three_phase_current_rms(average, ripple_rms))  # sqrt(I^2 + I_r^2), §3.1
+        segments.append(thermal.Segment(float(seg.duration), rms))
+    return segments
+
+
+def profile_temperature(spec, figures=None) -> ProfileTrace | None:
+    """Winding temperature over one cycle of the profile, in periodic steady state.
+
+    The temperature at each sample is the cycle-start temperature of the same
+    profile rotated to begin there (thermal.winding_temperature_cyclic, exact with
+    R(T), PHYSICS.md §6.5); the segments are split into equal pieces so that about
+    :data:`PROFILE_SAMPLES` samples cover the cycle.  Needs the profile, the
+    thermal resistances and both thermal time constants.
+    """
+    profile = spec.profile
+    th = spec.motor.thermal
+    if profile is None or th is None or th.winding_time_constant is None or th.motor_time_constant is None:
+        return None
+    segments = _profile_segments(spec, figures)
+    if not segments:
+        return None
+    c_w, c_h = thermal.capacitances_from_time_constants(
+        th.winding_time_constant, th.motor_time_constant, th.winding_to_housing, th.housing_to_ambient
+    )
+    r = spec.motor.terminal_resistance
+    r20 = float(thermal.resistance_at_temperature(r.value, r.at, thermal.CELSIUS_OFFSET + 20.0))
+    if spec.motor.type == "three-phase":
+        # loss-equivalent resistance for the phase RMS current: 3 R_ph = 1.5 R_tt (§2.1, §6.3)
+        r20 = 3.0 * float(threephase.star_equivalent_resistance(r20))
+    ambient = float(profile.ambient)
+    args = (r20, c_w, c_h, th.winding_to_housing, th.housing_to_ambient, ambient)
+    whole = thermal.winding_temperature_cyclic(segments, *args)
+    limit = _num(figures, "winding_temperature_limit")
+    if limit is None and th.max_winding_temperature is not None:
+        limit = float(th.max_winding_temperature)
+    if limit is None and th.insulation_class is not None:
+        limit = float(thermal.winding_temperature_limit(th.insulation_class))
+    total = sum(s.duration for s in segments)
+    starts = np.cumsum([0.0] + [s.duration for s in segments[:-1]])
+    if whole.runaway:
+        return ProfileTrace(np.array([0.0, total]), np.array([math.inf, math.inf]), starts,
+                            math.inf, math.inf, limit, True)
+    pieces: list[thermal.Segment] = []
+    budget = max(PROFILE_SAMPLES, len(segments))
+    for seg in segments:
+        n = max(1, round(budget * seg.duration / total))
+        pieces.extend(thermal.Segment(seg.duration / n, seg.current_rms) for _ in range(n))
+    times, temps = [], []
+    t = 0.0
+    for k in range(len(pieces)):
+        rotated = pieces[k:] + pieces[:k]
+        res = thermal.winding_temperature_cyclic(rotated, *args, samples_per_segment=1)
+        times.append(t)
+        temps.append(res.start_winding_temperature)
+        t += pieces[k].duration
+    times.append(total)
+    temps.append(temps[0])
+    return ProfileTrace(
+        np.array(times), np.array(temps), starts,
+        whole.peak_winding_temperature, whole.mean_winding_temperature, limit, False,
+    )
+
+
+def unavailable(spec, figures) -> dict[str, str]:
+    """Plot name -> why it is not drawn (what the spec or the figures lack)."""
+    out: dict[str, str] = {}
+    loop = _loop(spec, figures)
+    fam = family(spec)
+    if loop is None:
+        need = [n for n in ("loop_inductance", "loop_resistance_hot", "pwm_frequency_leg")
+                if _num(figures, n) is None]
+        reason = "the figures lack " + ", ".join(need) if need else "the PWM scheme is not known"
+        if figures is not None:
+            for n in need:
+                if n in figures.missing:
+                    reason += f" ({n}: {figures.missing[n]})"
+        out["waveform"] = out["ripple_frequency"] = out["ripple_inductance"] = reason
+    elif fam and fam[0] == "sinusoidal":
+        out["waveform"] = ("sinusoidal commutation: the ripple changes over the electrical revolution; "
+                           "the ripple plots show its worst case")
+    if spec.profile is None:
+        out["profile"] = "the spec has no motion profile"
+    elif spec.motor.thermal is None or spec.motor.thermal.winding_time_constant is None \
+            or spec.motor.thermal.motor_time_constant is None:
+        out["profile"] = "the motor lacks thermal resistances or time constants"
+    elif spec.motor.torque_constant.current not in ("dc", "phase-rms"):
+        out["profile"] = "torque constant convention is not dc or phase-rms"
+    return out

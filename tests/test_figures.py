@@ -1,0 +1,182 @@
+"""Figures of whole specs checked against the worked examples of PHYSICS.md §8.
+
+The specs are built so that the figures reproduce a published or derived check
+value; the source is named beside each value. PHYSICS.md E4 lists the linear
+ripple values; the figures use the exact periodic solution, which at
+T_pwm/tau_e = 0.25 lies within 0.2 % below the linear value (PHYSICS.md §1.5 table).
+"""
+
+from __future__ import annotations
+
+import copy
+import math
+
+import pytest
+
+from specguard.figures import FIGURE_DEFS, compute
+from specguard.findings import Location
+from specguard.model import build
+
+E4 = {
+    "format": 1,
+    "axis": {"name": "e4"},
+    "motor": {
+        "type": "brushed-dc",
+        "winding": "iron-core",
+        "terminal_resistance": {"value": "1.00 ohm", "at": "25 degC"},
+        # measured at or above every ripple frequency here (up to 40 kHz for the
+        # phase-shifted scheme): no derating, as PHYSICS.md E4 uses 0.20 mH as is
+        "terminal_inductance": {"value": "0.20 mH", "measured_at": "40 kHz"},
+        "torque_constant": {"value": "0.030 N*m/A", "current": "dc"},
+        "back_emf_constant": {"value": "0.030 V*s/rad", "voltage": "terminal"},
+        "rated_current": "2.0 A",
+        "thermal": {
+            "winding_to_housing": "2 K/W",
+            "housing_to_ambient": "6 K/W",
+            # E4 puts the winding at 80 degC; the figures use R at the limit
+            "max_winding_temperature": "80 degC",
+        },
+    },
+    "stage": {
+        "supply": {"voltage": "24 V"},
+        "pwm": {"frequency": "20 kHz", "frequency_is": "leg", "scheme": "bipolar", "max_duty": 1.0},
+    },
+    "operating_points": [
+        # 4000 rpm, I = 2.0 A -> torque = k_t I = 0.06 N*m
+        {"name": "e4", "speed": "4000 rpm", "torque": "0.06 N*m", "ambient": "25 degC"},
+    ],
+}
+
+
+def figures_of(data):
+    spec, findings = build(data, lambda p, key=False: (Location("x", 1, 1, path=tuple(p)), ()))
+    assert spec is not None, findings
+    return compute(spec)
+
+
+def with_scheme(scheme, data=E4):
+    out = copy.deepcopy(data)
+    out["stage"]["pwm"]["scheme"] = scheme
+    return out
+
+
+def test_e4_operating_point():
+    fs = figures_of(E4)
+    # PHYSICS.md E4 [D]: V_term = 14.990 V, m = 0.62460, bipolar D = 0.81230
+    assert fs.value("terminal_voltage", "e4") == pytest.approx(14.990, rel=1e-4)
+    assert fs.value("modulation", "e4") == pytest.approx(0.62460, rel=1e-4)
+    assert fs.value("duty", "e4") == pytest.approx(0.81230, rel=1e-4)
+    assert fs.value("current", "e4") == pytest.approx(2.0, rel=1e-12)
+    # PHYSICS.md E4: tau_e = 0.2 ms with R = R25 = 1 ohm; here R is hot (80 degC),
+    # R(80 degC) = 1.21198 ohm (E4), so tau = 0.2 mH / 1.21198 ohm
+    assert fs.value("electrical_time_constant") == pytest.approx(0.2e-3 / 1.21198, rel=1e-4)
+
+
+@pytest.mark.parametrize(
+    "scheme, at_point, worst",
+    [
+        # PHYSICS.md E4 [D]: ripple at the operating point and worst cases (linear values)
+        ("bipolar", 1.830, 3.000),
+        ("unipolar-single", 1.407, 1.500),
+        ("unipolar-phase-shifted", 0.703, 0.750),
+    ],
+)
+def test_e4_ripple_by_scheme(scheme, at_point, worst):
+    fs = figures_of(with_scheme(scheme))
+    # exact <= linear, within 0.3 % at T/tau ~ 0.3 (PHYSICS.md §1.5)
+    assert fs.value("ripple_pp", "e4") == pytest.approx(at_point, rel=3e-3)
+    assert fs.value("ripple_pp", "e4") <= at_point * (1 + 5e-4)
+    assert fs.value("ripple_pp_worst") == pytest.approx(worst, rel=3e-3)
+    assert fs.value("ripple_ratio_worst") == pytest.approx(worst / 2.0, rel=3e-3)
+
+
+@pytest.mark.parametrize(
+    "scheme, derated_at_point",
+    [
+        # PHYSICS.md E4: with a one-third derated inductance 5.489 / 4.221 / 2.110 A
+        # (linear); at L/3 the period is 0.74 tau, the exact value lies ~1-2 % lower
+        ("bipolar", 5.489),
+        ("unipolar-single", 4.221),
+        ("unipolar-phase-shifted", 2.110),
+    ],
+)
+def test_e4_derated_inductance(scheme, derated_at_point):
+    data = with_scheme(scheme)
+    data["motor"]["terminal_inductance"]["measured_at"] = "1 kHz"
+    fs = figures_of(data)
+    assert fs.value("inductance_estimated") is True
+    assert fs.value("loop_inductance") == pytest.approx(0.2e-3 / 3, rel=1e-12)
+    assert fs.value("ripple_pp", "e4") == pytest.approx(derated_at_point, rel=2.5e-2)
+    assert fs.value("ripple_pp", "e4") < derated_at_point
+    # the catalogue value gives the other end of the range (E4 values again)
+    catalogue = {"bipolar": 1.830, "unipolar-single": 1.407, "unipolar-phase-shifted": 0.703}[scheme]
+    assert fs.value("ripple_pp_catalogue", "e4") == pytest.approx(catalogue, rel=3e-3)
+
+
+def test_e5_svpwm_worst_ripple():
+    # PHYSICS.md E5 [D]: V = 48 V, f = 20 kHz, L_tt = 200 uH -> L_ph = 100 uH;
+    # SVPWM at M = 2/sqrt3 gives dI_max = 4.000 A
+    data = copy.deepcopy(E4)
+    data["motor"].update(
+        {
+            "type": "three-phase",
+            "terminal_inductance": {"value": "200 uH", "measured_at": "20 kHz"},
+            "torque_constant": {"value": "0.05 N*m/A", "current": "phase-rms"},
+            "back_emf_constant": {"value": "0.05 V*s/rad", "voltage": "line-to-line-rms"},
+            "pole_pairs": 4,
+        }
+    )
+    data["motor"]["torque_constant"]["value"] = f"{0.05 * math.sqrt(3):.12f} N*m/A"
+    data["stage"]["supply"]["voltage"] = "48 V"
+    data["stage"]["pwm"]["scheme"] = "space-vector"
+    fs = figures_of(data)
+    assert fs.value("ripple_pp_worst") == pytest.approx(4.000, rel=1e-3)
+    # k_t,rms = sqrt3 k_e,ll,rms (PHYSICS.md §4.4): consistent constants
+    assert fs.value("constant_mismatch") == pytest.approx(0.0, abs=1e-9)
+
+
+def test_inconsistent_constants_show():
+    # k_e given in V/krpm where V*s/rad was meant: x 104.72 (PHYSICS.md §4.4)
+    data = copy.deepcopy(E4)
+    data["motor"]["back_emf_constant"]["value"] = "0.030 V/krpm"
+    fs = figures_of(data)
+    assert fs.value("constant_mismatch") == pytest.approx(104.72 - 1, rel=1e-3)
+
+
+def test_thermal_figures_match_closed_form():
+    # PHYSICS.md §6.3 closed form, evaluated by hand for the E4 spec at 25 degC ambient:
+    # I_rms^2 = 4 + ripple_rms^2; R20 = 0.98073 ohm (E8); R_th = 8 K/W; alpha = 0.00393
+    fs = figures_of(E4)
+    i_rms = fs.value("rms_current", "e4")
+    r20 = 1.0 / (1 + 0.00393 * 5)
+    k = 0.00393 * 8 * i_rms**2 * r20
+    rise = 8 * i_rms**2 * r20 * (1 + 0.00393 * 5) / (1 - k)
+    assert fs.value("winding_temperature", "e4") == pytest.approx(298.15 + rise, rel=1e-9)
+    assert fs.value("runaway_number", "e4") == pytest.approx(k, rel=1e-9)
+    assert fs.value("winding_margin", "e4") == pytest.approx(353.15 - 298.15 - rise, rel=1e-9)
+
+
+def test_missing_inputs_are_reported_not_guessed():
+    fs = figures_of(E4)
+    assert "loop_bandwidth_ratio" in fs.missing and "current_loop" in fs.missing["loop_bandwidth_ratio"]
+    assert "choke_saturation_ratio" in fs.missing
+    assert fs.value("choke_saturation_ratio") is None
+
+
+def test_every_computed_figure_is_registered():
+    fs = figures_of(E4)
+    names = set(fs.axis) | {k for _, values in fs.points for k in values}
+    assert names <= set(FIGURE_DEFS)
+    for name in names:
+        scope = FIGURE_DEFS[name].scope
+        assert (name in fs.axis) == (scope == "axis"), name
+
+
+def test_ambiguous_frequency_reads_conservatively():
+    data = with_scheme("unipolar-phase-shifted")
+    del data["stage"]["pwm"]["frequency_is"]
+    fs = figures_of(data)
+    assert fs.value("pwm_frequency_ambiguous") is True
+    # taken as the ripple frequency (the lower reading): ripple at 20 kHz, legs at 10 kHz
+    assert fs.value("ripple_frequency") == pytest.approx(20e3)
+    assert fs.value("pwm_frequency_leg") == pytest.approx(10e3)
