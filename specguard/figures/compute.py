@@ -22,8 +22,6 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, field
 
-import numpy as np
-
 from .. import physics as P
 from ..model.spec import Spec
 from ..model.units import format_si
@@ -266,13 +264,16 @@ def _constants(spec: Spec) -> tuple[float, float]:
     return kt_rms, ke_phase_peak
 
 
-def _electrical(spec: Spec, ax: _Axis, speed, torque):
-    """Per-point electrical quantities (vectorised over numpy arrays)."""
+def _clip(value: float, low: float, high: float) -> float:
+    return low if value < low else high if value > high else value
+
+
+def _electrical(spec: Spec, ax: _Axis, speed: float, torque: float) -> dict[str, float]:
+    """Electrical quantities at one operating point (floats; the physics' math path)."""
     motor, stage = spec.motor, spec.stage
     V = stage.supply.voltage
     no_load = motor.no_load_current or 0.0
     kt, ke = _constants(spec)
-    out: dict[str, np.ndarray] = {}
     if ax.topology in ("dc", "six-step"):
         if ax.topology == "dc":
             current = P.operating.current_for_torque(torque, kt, no_load)
@@ -289,56 +290,52 @@ def _electrical(spec: Spec, ax: _Axis, speed, torque):
             v_term, V, current, ax.series_resistance, ax.dead_time, ax.f_leg, ax.scheme
         )
         m_max = P.operating.modulation_max(ax.max_duty, ax.scheme)
-        m_clip = np.clip(m, 0.0, 1.0)
+        m_clip = _clip(m, 0.0, 1.0)
         ripple = P.hbridge.ripple_exact(V, ax.inductance, ax.resistance_hot, ax.f_leg, m_clip, ax.scheme, emf)
         ripple_cat = P.hbridge.ripple_peak_to_peak(
             V, ax.inductance_catalogue, ax.resistance_hot, ax.f_leg, m_clip, ax.scheme
         )
-        out.update(
-            current=np.asarray(current, float),
-            terminal_voltage=np.asarray(v_term, float),
-            modulation=np.asarray(m, float),
-            duty=np.asarray(P.hbridge.leg_duty(m_clip, ax.scheme), float),
-            modulation_ratio=np.asarray(m / m_max, float),
-            ripple_pp=np.asarray(ripple.peak_to_peak, float),
-            ripple_rms=np.asarray(ripple.ripple_rms, float),
-            ripple_pp_catalogue=np.asarray(ripple_cat, float),
-            rms_current=np.sqrt(np.asarray(current, float) ** 2 + np.asarray(ripple.ripple_rms, float) ** 2),
-            peak=np.asarray(current, float) + np.asarray(ripple.peak_to_peak, float) / 2.0,
-        )
-        return out
+        return {
+            "current": current,
+            "terminal_voltage": v_term,
+            "modulation": m,
+            "duty": P.hbridge.leg_duty(m_clip, ax.scheme),
+            "modulation_ratio": m / m_max,
+            "ripple_pp": ripple.peak_to_peak,
+            "ripple_rms": ripple.ripple_rms,
+            "ripple_pp_catalogue": ripple_cat,
+            "rms_current": math.hypot(current, ripple.ripple_rms),
+            "peak": current + ripple.peak_to_peak / 2.0,
+        }
     # sinusoidal (dq, i_d = 0)
     p = motor.pole_pairs or 1
     flux = ke / p  # peak phase flux linkage [Wb] from the peak-phase EMF constant per mech. rad/s
     i_rms = P.operating.current_for_torque(torque, kt, no_load)
-    i_q = np.asarray(i_rms, float) * SQRT2
-    l_q_fundamental = motor.q_axis_inductance or float(
-        P.threephase.star_equivalent_inductance(ax.inductance_catalogue - 0.0)
-    )
+    i_q = i_rms * SQRT2
+    # the fundamental sees the low-frequency (catalogue) inductance
+    l_q_fundamental = motor.q_axis_inductance or ax.inductance_catalogue
     v_ph = P.operating.phase_voltage_peak_dq(speed, p, flux, ax.resistance_hot, l_q_fundamental, i_q)
     v_ph_max = P.operating.phase_voltage_peak_max(V, ax.scheme, ax.max_duty, ax.dead_time, ax.f_leg)
     M = P.operating.modulation_index(v_ph, V)
-    M_lin = P.threephase.modulation_index_limit(ax.scheme)
-    M_clip = np.clip(M, 0.0, M_lin)
+    M_clip = _clip(M, 0.0, P.threephase.modulation_index_limit(ax.scheme))
     ripple_pp = P.threephase.phase_ripple_peak_to_peak_max(V, ax.inductance, ax.f_leg, M_clip, ax.scheme)
     ripple_rms = P.threephase.phase_ripple_rms(V, ax.inductance, ax.f_leg, M_clip, ax.scheme)
     ripple_cat = P.threephase.phase_ripple_peak_to_peak_max(V, ax.inductance_catalogue, ax.f_leg, M_clip, ax.scheme)
     # peak leg duty: SPWM 1/2 (1 + M); SVPWM with min-max injection 1/2 (1 + M sqrt3/2)
     duty = 0.5 * (1.0 + M_clip * (SQRT3 / 2.0 if ax.scheme == P.threephase.SVPWM else 1.0))
-    out.update(
-        current=np.asarray(i_rms, float),
-        terminal_voltage=np.asarray(v_ph, float) * SQRT3,  # peak line-to-line
-        modulation=np.asarray(M, float),
-        duty=np.asarray(duty, float),
-        modulation_ratio=np.asarray(v_ph, float) / float(v_ph_max),
-        ripple_pp=np.asarray(ripple_pp, float),
-        ripple_rms=np.asarray(ripple_rms, float),
-        ripple_pp_catalogue=np.asarray(ripple_cat, float),
-        rms_current=np.sqrt(np.asarray(i_rms, float) ** 2 + np.asarray(ripple_rms, float) ** 2),
-        peak=i_q + np.asarray(ripple_pp, float) / 2.0,
-        phase_voltage_peak=np.asarray(v_ph, float),
-    )
-    return out
+    return {
+        "current": i_rms,
+        "terminal_voltage": v_ph * SQRT3,  # peak line-to-line
+        "modulation": M,
+        "duty": duty,
+        "modulation_ratio": v_ph / v_ph_max,
+        "ripple_pp": ripple_pp,
+        "ripple_rms": ripple_rms,
+        "ripple_pp_catalogue": ripple_cat,
+        "rms_current": math.hypot(i_rms, ripple_rms),
+        "peak": i_q + ripple_pp / 2.0,
+        "phase_voltage_peak": v_ph,
+    }
 
 
 def _worst_ripple(spec: Spec, ax: _Axis, inductance: float) -> float:
@@ -346,10 +343,14 @@ def _worst_ripple(spec: Spec, ax: _Axis, inductance: float) -> float:
     if ax.topology in ("dc", "six-step"):
         return float(P.hbridge.ripple_peak_to_peak_worst(V, inductance, ax.resistance_hot, ax.f_leg, ax.scheme))
     v_ph_max = P.operating.phase_voltage_peak_max(V, ax.scheme, ax.max_duty, ax.dead_time, ax.f_leg)
-    M_reach = min(float(P.operating.modulation_index(v_ph_max, V)), P.threephase.modulation_index_limit(ax.scheme))
-    # the maximum peak-to-peak ripple grows with M over the linear range (PHYSICS.md §2.3 table)
-    grid = np.linspace(0.0, M_reach, 64)
-    return float(np.max(P.threephase.phase_ripple_peak_to_peak_max(V, inductance, ax.f_leg, grid, ax.scheme)))
+    M_reach = min(P.operating.modulation_index(v_ph_max, V), P.threephase.modulation_index_limit(ax.scheme))
+    # the maximum peak-to-peak grows with M over the linear range (PHYSICS.md §2.3
+    # table); a coarse grid guards the claim at little cost
+    grid = [M_reach * k / 16 for k in range(17)]
+    return max(P.threephase.phase_ripple_peak_to_peak_max(V, inductance, ax.f_leg, M, ax.scheme) for M in grid)
+
+
+POINT_INPUTS = ("speed", "torque", "ambient")
 
 
 def compute(spec: Spec, settings: FigureSettings | None = None) -> FigureSet:
@@ -373,31 +374,30 @@ def compute(spec: Spec, settings: FigureSettings | None = None) -> FigureSet:
     missing = dict(ax.missing)
     notes = dict(ax.notes)
 
-    points = spec.operating_points
-    names = [p.name for p in points]
-    speed = np.array([p.speed for p in points], float)
-    torque = np.array([p.torque for p in points], float)
-    ambient = np.array([p.ambient for p in points], float)
-    elec = _electrical(spec, ax, speed, torque)
-    per_point: dict[str, np.ndarray] = {
-        "speed": speed,
-        "torque": torque,
-        "ambient": ambient,
-        "current": elec["current"],
-        "terminal_voltage": elec["terminal_voltage"],
-        "modulation": elec["modulation"],
-        "duty": elec["duty"],
-        "modulation_ratio": elec["modulation_ratio"],
-        "ripple_pp": elec["ripple_pp"],
-        "ripple_pp_catalogue": elec["ripple_pp_catalogue"],
-        "ripple_ratio": elec["ripple_pp"] / rated,
-        "ripple_rms": elec["ripple_rms"],
-        "rms_current": elec["rms_current"],
-    }
+    rows: list[dict[str, float]] = []
+    elec: list[dict[str, float]] = []
+    for point in spec.operating_points:
+        e = _electrical(spec, ax, point.speed, point.torque)
+        elec.append(e)
+        rows.append({
+            "speed": point.speed,
+            "torque": point.torque,
+            "ambient": point.ambient,
+            "current": e["current"],
+            "terminal_voltage": e["terminal_voltage"],
+            "modulation": e["modulation"],
+            "duty": e["duty"],
+            "modulation_ratio": e["modulation_ratio"],
+            "ripple_pp": e["ripple_pp"],
+            "ripple_pp_catalogue": e["ripple_pp_catalogue"],
+            "ripple_ratio": e["ripple_pp"] / rated,
+            "ripple_rms": e["ripple_rms"],
+            "rms_current": e["rms_current"],
+        })
     worst = _worst_ripple(spec, ax, ax.inductance)
     axis["ripple_pp_worst"] = worst
     axis["ripple_ratio_worst"] = worst / rated
-    axis["modulation_max"] = float(np.max(elec["modulation"]))
+    axis["modulation_max"] = max(e["modulation"] for e in elec)
 
     # discontinuous conduction: only with diode freewheeling (PHYSICS.md §1.6)
     freewheel = stage.pwm.freewheeling
@@ -408,13 +408,11 @@ def compute(spec: Spec, settings: FigureSettings | None = None) -> FigureSet:
     elif freewheel == "synchronous":
         missing["conduction_margin"] = "synchronous freewheeling: the current reverses, conduction stays continuous"
     else:
-        half = np.maximum(elec["ripple_pp"] / 2.0, 1e-300)
-        per_point["conduction_margin"] = np.abs(elec["current"]) / half
+        for row, e in zip(rows, elec):
+            row["conduction_margin"] = abs(e["current"]) / max(e["ripple_pp"] / 2.0, 1e-300)
 
-    # supply window
     _supply_window(spec, ax, elec, settings, axis, missing)
 
-    # control
     loop = stage.current_loop
     if loop is None:
         for name in ("loop_bandwidth_ratio", "loop_bandwidth_max"):
@@ -427,14 +425,10 @@ def compute(spec: Spec, settings: FigureSettings | None = None) -> FigureSet:
             P.control.current_loop_bandwidth_max(ax.f_leg, math.radians(settings.phase_margin_deg), 1.5, double)
         )
 
-    # constants
     axis["constant_mismatch"] = _constant_mismatch(spec)
+    _thermal(spec, ax, elec, rows, axis, missing, notes)
 
-    # thermal
-    _thermal(spec, ax, elec, ambient, per_point, axis, missing, notes)
-
-    # currents against limits
-    peak = float(np.max(elec["peak"]))
+    peak = max(e["peak"] for e in elec)
     axis["peak_current"] = peak
     limits = stage.current_limit
     if limits is not None:
@@ -446,13 +440,14 @@ def compute(spec: Spec, settings: FigureSettings | None = None) -> FigureSet:
     _braking(spec, axis, missing)
 
     point_rows = tuple(
-        (name, {key: _scalar(values[i]) for key, values in per_point.items()}) for i, name in enumerate(names)
+        (point.name, {key: _scalar(value) for key, value in row.items()})
+        for point, row in zip(spec.operating_points, rows)
     )
-    return FigureSet(axis=axis, points=point_rows, missing=missing, notes=notes)
+    return FigureSet(axis={k: _scalar(v) for k, v in axis.items()}, points=point_rows, missing=missing, notes=notes)
 
 
 def _scalar(value) -> float | bool:
-    if isinstance(value, (bool, np.bool_)):
+    if isinstance(value, bool) or type(value).__name__ == "bool_":
         return bool(value)
     return float(value)
 
@@ -467,13 +462,13 @@ def _supply_window(spec, ax, elec, settings, axis, missing):
     if loop is not None:
         headroom = float(P.control.current_step_headroom_voltage(loop.bandwidth, ax.inductance_catalogue, rated))
     ceiling = stage.max_supply_voltage if stage.max_supply_voltage is not None else math.inf
-    worst = int(np.argmax(elec["terminal_voltage"]))
+    worst = max(elec, key=lambda e: e["terminal_voltage"])
     if ax.topology in ("dc", "six-step"):
         window = P.operating.supply_voltage_window(
-            float(elec["terminal_voltage"][worst]),
-            float(elec["terminal_voltage"][worst]),
-            float(elec["current"][worst]),
-            float(elec["current"][worst]),
+            worst["terminal_voltage"],
+            worst["terminal_voltage"],
+            worst["current"],
+            worst["current"],
             ax.max_duty,
             ax.scheme,
             ax.inductance,
@@ -489,7 +484,7 @@ def _supply_window(spec, ax, elec, settings, axis, missing):
         )
         v_min, v_max = float(window.minimum), float(window.maximum)
     else:
-        v_ph = float(elec["phase_voltage_peak"][worst])
+        v_ph = worst["phase_voltage_peak"]
         v_min = float(P.operating.supply_voltage_min_sinusoidal(v_ph, ax.scheme, ax.max_duty, ax.dead_time, ax.f_leg))
         v_min *= 1.0 + settings.reserve_fraction
         # duty floor only: M = 2 V_ph / V >= floor (the ripple bound of the
@@ -519,7 +514,7 @@ def _constant_mismatch(spec: Spec) -> float:
     return float(P.consistency.torque_constant_mismatch(kt, ke_ll_peak, "six_step_flat"))
 
 
-def _thermal(spec, ax, elec, ambient, per_point, axis, missing, notes):
+def _thermal(spec, ax, elec, rows, axis, missing, notes):
     thermal = spec.motor.thermal
     names = ("rms_current_ratio", "continuous_current_max", "winding_temperature", "winding_margin",
              "runaway_number", "profile_peak_temperature", "profile_mean_temperature", "profile_margin")
@@ -528,29 +523,35 @@ def _thermal(spec, ax, elec, ambient, per_point, axis, missing, notes):
             missing[name] = "the spec has no motor.thermal data"
         return
     r_wh, r_ha = thermal.winding_to_housing, thermal.housing_to_ambient
-    i_rms = elec["rms_current"]
     r20 = ax.loss_resistance_20
-    k = P.thermal.runaway_number(i_rms, r20, r_wh, r_ha)
-    per_point["runaway_number"] = np.asarray(k, float)
-    t_w = np.asarray(P.thermal.winding_temperature_steady(i_rms, r20, r_wh, r_ha, ambient), float)
-    finite = np.isfinite(t_w)
     limit = ax.temperature_limit
-    if np.all(finite):
-        per_point["winding_temperature"] = t_w
-    else:
+    runaway = False
+    for row, e in zip(rows, elec):
+        i_rms = e["rms_current"]
+        row["runaway_number"] = P.thermal.runaway_number(i_rms, r20, r_wh, r_ha)
+        t_w = P.thermal.winding_temperature_steady(i_rms, r20, r_wh, r_ha, row["ambient"])
+        if not math.isfinite(t_w):
+            runaway = True
+        else:
+            row["winding_temperature"] = t_w
+            if limit is not None:
+                row["winding_margin"] = limit - t_w
+        if limit is not None:
+            i_max = P.thermal.current_continuous_max(limit, row["ambient"], r20, r_wh, r_ha)
+            row["continuous_current_max"] = i_max
+            row["rms_current_ratio"] = i_rms / max(i_max, 1e-300)
+    if runaway:
+        # a figure is present at every point or absent with its reason
+        for row in rows:
+            row.pop("winding_temperature", None)
+            row.pop("winding_margin", None)
         missing["winding_temperature"] = "thermal runaway at some operating point: no steady state"
+        missing["winding_margin"] = missing["winding_temperature"]
     if limit is None:
         for name in ("winding_margin", "continuous_current_max", "rms_current_ratio", "profile_margin"):
             missing[name] = ax.missing.get("winding_temperature_limit", "no temperature limit")
     else:
         axis["winding_temperature_limit"] = limit
-        if np.all(finite):
-            per_point["winding_margin"] = limit - t_w
-        else:
-            missing["winding_margin"] = missing["winding_temperature"]
-        i_max = np.asarray(P.thermal.current_continuous_max(limit, ambient, r20, r_wh, r_ha), float)
-        per_point["continuous_current_max"] = i_max
-        per_point["rms_current_ratio"] = i_rms / np.maximum(i_max, 1e-300)
     profile = spec.profile
     if profile is None:
         for name in ("profile_peak_temperature", "profile_mean_temperature", "profile_margin"):
@@ -560,15 +561,10 @@ def _thermal(spec, ax, elec, ambient, per_point, axis, missing, notes):
         for name in ("profile_peak_temperature", "profile_mean_temperature", "profile_margin"):
             missing[name] = "motor.thermal lacks winding_time_constant or motor_time_constant"
         return
-    seg_speed = np.array([s.speed for s in profile.segments], float)
-    seg_torque = np.array([s.torque for s in profile.segments], float)
-    seg = _electrical(spec, ax, seg_speed, seg_torque)
     c_w, c_h = P.thermal.capacitances_from_time_constants(
         thermal.winding_time_constant, thermal.motor_time_constant, r_wh, r_ha
     )
-    segments = [
-        P.thermal.Segment(s.duration, float(i), 0.0) for s, i in zip(profile.segments, seg["rms_current"])
-    ]
+    segments = _profile_segments(spec, ax)
     cycle = P.thermal.winding_temperature_cyclic(segments, r20, c_w, c_h, r_wh, r_ha, profile.ambient)
     if cycle.runaway or not math.isfinite(cycle.peak_winding_temperature):
         for name in ("profile_peak_temperature", "profile_mean_temperature", "profile_margin"):
@@ -579,6 +575,26 @@ def _thermal(spec, ax, elec, ambient, per_point, axis, missing, notes):
     if limit is not None:
         axis["profile_margin"] = limit - float(cycle.peak_winding_temperature)
     notes["profile_peak_temperature"] = "two-node model, periodic steady state of the repeated profile"
+
+
+def _profile_segments(spec: Spec, ax: _Axis) -> list:
+    """Thermal segments of the motion profile: duration and RMS current with ripple."""
+    return [
+        P.thermal.Segment(s.duration, _electrical(spec, ax, s.speed, s.torque)["rms_current"], 0.0)
+        for s in spec.profile.segments
+    ]
+
+
+def profile_segments(spec: Spec, settings: FigureSettings | None = None):
+    """(thermal segments, loss resistance at 20 degC [ohm]) of the spec's profile, or None.
+
+    The same segments the figure ``profile_peak_temperature`` is computed from,
+    for plots of the temperature over the cycle.
+    """
+    if spec.profile is None:
+        return None
+    ax = _axis(spec, settings or FigureSettings())
+    return _profile_segments(spec, ax), ax.loss_resistance_20
 
 
 def _chokes(spec, ax, elec, axis, missing, notes):
@@ -597,7 +613,7 @@ def _chokes(spec, ax, elec, axis, missing, notes):
     elif spec.motor.peak_current is not None:
         base, source = spec.motor.peak_current, "the motor's peak current"
     else:
-        base, source = float(np.max(elec["current"])), "the largest operating current"
+        base, source = max(e["current"] for e in elec), "the largest operating current"
     i_pk = float(P.choke.choke_peak_current(base, worst_ripple))
     axis["choke_peak_current"] = i_pk
     notes["choke_peak_current"] = f"{source} plus half the worst-case ripple"
@@ -606,7 +622,7 @@ def _chokes(spec, ax, elec, axis, missing, notes):
     else:
         missing["choke_saturation_ratio"] = "chokes.saturation_current is not given"
     if chokes.rated_current is not None:
-        axis["choke_rms_ratio"] = float(np.max(elec["rms_current"])) / chokes.rated_current
+        axis["choke_rms_ratio"] = max(e["rms_current"] for e in elec) / chokes.rated_current
     else:
         missing["choke_rms_ratio"] = "chokes.rated_current is not given"
 

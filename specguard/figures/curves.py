@@ -147,7 +147,7 @@ def ripple_limit(spec, figures, fraction: float = DEFAULT_RIPPLE_FRACTION) -> fl
     return fraction * rated
 
 
-def _worst_ripple(voltage, inductance, resistance, frequency, fam, scheme, max_duty):
+def _worst_ripple(voltage, inductance, resistance, frequency, fam, scheme, max_duty, dead_time=0.0):
     """Worst-case peak-to-peak ripple [A]; arrays broadcast in inductance and frequency."""
     inductance = np.asarray(inductance, dtype=float)
     frequency = np.asarray(frequency, dtype=float)
@@ -157,7 +157,10 @@ def _worst_ripple(voltage, inductance, resistance, frequency, fam, scheme, max_d
         return threephase.six_step_ripple_peak_to_peak_worst(voltage, inductance, resistance, frequency, scheme)
     # Sinusoidal / space-vector: resistance neglected over one period (§2.3); the
     # worst case over the modulation indices the stage can reach.
-    top = float(operating.modulation_index(operating.phase_voltage_peak_max(voltage, scheme, max_duty), voltage))
+    if np.ndim(frequency):
+        raise ValueError("three-phase worst case: one frequency at a time")
+    top = float(operating.modulation_index(
+        operating.phase_voltage_peak_max(voltage, scheme, max_duty, dead_time, float(frequency)), voltage))
     top = min(top, threephase.modulation_index_limit(scheme))
     grid = np.linspace(0.0, top, _MODULATION_GRID)
     shape = np.broadcast(inductance, frequency).shape
@@ -247,9 +250,15 @@ def ripple_vs_frequency(spec, figures, fraction: float = DEFAULT_RIPPLE_FRACTION
         return None
     voltage, inductance, resistance, frequency, fam, scheme = loop
     max_duty = float(spec.stage.pwm.max_duty)
+    dead = float(getattr(spec.stage.pwm, "dead_time", None) or 0.0)
     x = np.geomspace(frequency / 4.0, frequency * 4.0, SWEEP_POINTS)
-    ripple = _worst_ripple(voltage, inductance, resistance, x, fam, scheme, max_duty)
-    at_setting = float(_worst_ripple(voltage, inductance, resistance, frequency, fam, scheme, max_duty))
+    if fam == "sinusoidal":
+        # the reachable modulation depends on the frequency through the dead-time loss
+        ripple = np.array([float(_worst_ripple(voltage, inductance, resistance, f, fam, scheme, max_duty, dead))
+                           for f in x])
+    else:
+        ripple = _worst_ripple(voltage, inductance, resistance, x, fam, scheme, max_duty)
+    at_setting = float(_worst_ripple(voltage, inductance, resistance, frequency, fam, scheme, max_duty, dead))
     needed = None
     if fam in ("hbridge", "six_step"):
         bridge = scheme if fam == "hbridge" else threephase.six_step_equivalent_scheme(scheme)
@@ -272,6 +281,7 @@ def ripple_vs_added_inductance(spec, figures, fraction: float = DEFAULT_RIPPLE_F
         return None
     voltage, inductance, resistance, frequency, fam, scheme = loop
     max_duty = float(spec.stage.pwm.max_duty)
+    dead = float(getattr(spec.stage.pwm, "dead_time", None) or 0.0)
     factor = _lead_factor(fam)
     needed = None
     if fam in ("hbridge", "six_step"):
@@ -282,8 +292,8 @@ def ripple_vs_added_inductance(spec, figures, fraction: float = DEFAULT_RIPPLE_F
         needed = None if value is None else value / factor
     span = max(2.0 * needed if needed else 0.0, 4.0 * inductance / factor)
     x = np.linspace(0.0, span, SWEEP_POINTS)
-    ripple = _worst_ripple(voltage, inductance + factor * x, resistance, frequency, fam, scheme, max_duty)
-    at_setting = float(_worst_ripple(voltage, inductance, resistance, frequency, fam, scheme, max_duty))
+    ripple = _worst_ripple(voltage, inductance + factor * x, resistance, frequency, fam, scheme, max_duty, dead)
+    at_setting = float(_worst_ripple(voltage, inductance, resistance, frequency, fam, scheme, max_duty, dead))
     return Sweep("added_inductance", x, np.asarray(ripple, dtype=float), 0.0, at_setting, limit, needed)
 
 
@@ -332,26 +342,11 @@ def thermal_margin_per_point(spec, figures) -> PointBars | None:
 
 
 def _profile_segments(spec, figures):
-    """thermal.Segment per profile segment, or None.
+    """thermal.Segment per profile segment and the loss resistance at 20 degC, or None:
+    exactly those the figure ``profile_peak_temperature`` is computed from."""
+    from .compute import profile_segments
 
-    RMS current: the torque current (operating.current_for_torque) with the
-    largest operating-point ripple RMS (figure ``ripple_rms``) added in quadrature
-    (conservative).  Only torque constants that refer to the DC or the phase RMS
-    current are used; other conventions get no profile trace.
-    """
-    motor = spec.motor
-    kt = motor.torque_constant
-    if kt.current not in ("dc", "phase-rms"):
-        return None
-    ripple = point_values(figures, "ripple_rms") if figures is not None else np.array([])
-    ripple_rms = float(np.nanmax(ripple)) if ripple.size and np.isfinite(ripple).any() else 0.0
-    no_load = float(motor.no_load_current or 0.0)
-    segments = []
-    for seg in spec.profile.segments:
-        average = float(operating.current_for_torque(seg.torque, kt.value, no_load))
-        rms = float(rms_mod.three_phase_current_rms(average, ripple_rms))  # sqrt(I^2 + I_r^2), §3.1
-        segments.append(thermal.Segment(float(seg.duration), rms))
-    return segments
+    return profile_segments(spec)
 
 
 def profile_temperature(spec, figures=None) -> ProfileTrace | None:
@@ -367,17 +362,13 @@ def profile_temperature(spec, figures=None) -> ProfileTrace | None:
     th = spec.motor.thermal
     if profile is None or th is None or th.winding_time_constant is None or th.motor_time_constant is None:
         return None
-    segments = _profile_segments(spec, figures)
-    if not segments:
+    built = _profile_segments(spec, figures)
+    if not built or not built[0]:
         return None
+    segments, r20 = built
     c_w, c_h = thermal.capacitances_from_time_constants(
         th.winding_time_constant, th.motor_time_constant, th.winding_to_housing, th.housing_to_ambient
     )
-    r = spec.motor.terminal_resistance
-    r20 = float(thermal.resistance_at_temperature(r.value, r.at, thermal.CELSIUS_OFFSET + 20.0))
-    if spec.motor.type == "three-phase":
-        # loss-equivalent resistance for the phase RMS current: 3 R_ph = 1.5 R_tt (§2.1, §6.3)
-        r20 = 3.0 * float(threephase.star_equivalent_resistance(r20))
     ambient = float(profile.ambient)
     args = (r20, c_w, c_h, th.winding_to_housing, th.housing_to_ambient, ambient)
     whole = thermal.winding_temperature_cyclic(segments, *args)

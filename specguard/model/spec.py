@@ -56,6 +56,7 @@ Name = Annotated[
     StringConstraints(min_length=1, max_length=64, pattern=r"^[A-Za-z0-9][A-Za-z0-9_.\-]*$"),
 ]
 Text = Annotated[str, StringConstraints(max_length=2000)]
+LongText = Annotated[str, StringConstraints(max_length=20000)]
 ShortText = Annotated[str, StringConstraints(min_length=1, max_length=200)]
 Url = Annotated[str, StringConstraints(max_length=500, pattern=r"^https://[^\s]+$")]
 
@@ -399,4 +400,4 @@ class Spec(_Model):
     operating_points: Annotated[tuple[OperatingPoint, ...], AsTuple] = Field(min_length=1, max_length=500)
     profile: Profile | None = None
     waivers: Annotated[tuple[Waiver, ...], AsTuple] = Field((), max_length=200)
-    notes: Text | None = Field(None, description="free text for the reader")
+    notes: LongText | None = Field(None, description="free text for the reader")

@@ -20,9 +20,29 @@ from __future__ import annotations
 
 import math
 
-import numpy as np
+__all__ = ["SCALAR", "VECTOR", "namespace", "is_scalar", "np"]
 
-__all__ = ["SCALAR", "VECTOR", "namespace", "is_scalar"]
+
+class _LazyNumpy:
+    """numpy, imported on first use.
+
+    A check of one spec runs on Python floats only (the ``math`` path below), so
+    numpy's ~130 ms import stays off the start-up of a pre-commit run; the first
+    array argument imports it.
+    """
+
+    _module = None
+
+    def __getattr__(self, name: str):
+        module = _LazyNumpy._module
+        if module is None:
+            import numpy
+
+            module = _LazyNumpy._module = numpy
+        return getattr(module, name)
+
+
+np = _LazyNumpy()
 
 
 def is_scalar(*values: object) -> bool:
@@ -80,32 +100,16 @@ class _Scalar:
         return (value > 0) - (value < 0)
 
 
+_VECTOR_ALIASES = {"atanh": "arctanh"}
+
+
 class _Vector:
-    """numpy-backed namespace for arrays (broadcasting)."""
+    """numpy-backed namespace for arrays (broadcasting); numpy loads on first use."""
 
     vector = True
-    pi = np.pi
-    inf = np.inf
-    nan = np.nan
-    exp = staticmethod(np.exp)
-    expm1 = staticmethod(np.expm1)
-    log = staticmethod(np.log)
-    log1p = staticmethod(np.log1p)
-    sqrt = staticmethod(np.sqrt)
-    tanh = staticmethod(np.tanh)
-    atanh = staticmethod(np.arctanh)
-    sin = staticmethod(np.sin)
-    cos = staticmethod(np.cos)
-    abs = staticmethod(np.abs)
-    minimum = staticmethod(np.minimum)
-    maximum = staticmethod(np.maximum)
-    isfinite = staticmethod(np.isfinite)
-    isnan = staticmethod(np.isnan)
-    where = staticmethod(np.where)
-    logical_and = staticmethod(np.logical_and)
-    logical_or = staticmethod(np.logical_or)
-    logical_not = staticmethod(np.logical_not)
-    sign = staticmethod(np.sign)
+
+    def __getattr__(self, name: str):
+        return getattr(np, _VECTOR_ALIASES.get(name, name))
 
     @staticmethod
     def asarray(value):

@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-import numpy as np
+from specguard.physics._num import np
 
 
 def illinois(func, target, low, high, xp, rtol=1e-12, max_iterations=100):

@@ -8,7 +8,7 @@ from __future__ import annotations
 
 import math
 
-import numpy as np
+from specguard.physics._num import np
 
 from specguard.physics import hbridge
 from specguard.physics._num import namespace

@@ -37,7 +37,7 @@ from __future__ import annotations
 import math
 from typing import NamedTuple
 
-import numpy as np
+from specguard.physics._num import np
 
 from specguard.physics._num import namespace
 

@@ -8,9 +8,11 @@ configurable factor: an estimate, common practice with no published source.
 
 from __future__ import annotations
 
+import bisect
+import math
 from typing import NamedTuple
 
-import numpy as np
+from specguard.physics._num import np
 
 from specguard.physics._num import is_scalar
 
@@ -53,6 +55,31 @@ def _table(frequencies, values):
     return f, v
 
 
+def _table_floats(frequencies, values) -> tuple[list[float], list[float]]:
+    """The same checks as :func:`_table`, on Python floats (no numpy import)."""
+    pairs = sorted(zip((float(x) for x in frequencies), (float(y) for y in values)))
+    if not pairs or len(pairs) != len(list(frequencies)) or len(list(frequencies)) != len(list(values)):
+        raise ValueError("table needs equal-length 1-D frequency and value sequences")
+    f = [p[0] for p in pairs]
+    v = [p[1] for p in pairs]
+    if min(f) <= 0.0 or min(v) <= 0.0:
+        raise ValueError("log-log interpolation needs positive frequencies and values")
+    if any(b == a for a, b in zip(f, f[1:])):
+        raise ValueError("duplicate frequency in table")
+    return f, v
+
+
+def _interpolate_scalar(query: float, f: list[float], v: list[float]) -> TableValue:
+    # same rule as np.interp on (ln f, ln v): end values held outside the table
+    if query <= f[0]:
+        return TableValue(v[0], query < f[0])
+    if query >= f[-1]:
+        return TableValue(v[-1], query > f[-1])
+    i = bisect.bisect_right(f, query) - 1
+    slope = math.log(v[i + 1] / v[i]) / math.log(f[i + 1] / f[i])
+    return TableValue(v[i] * (query / f[i]) ** slope, False)
+
+
 def loglog_interpolate(frequency, table_frequencies, table_values) -> TableValue:
     """Power-law interpolation of a positive table, held at the ends.
 
@@ -63,8 +90,12 @@ def loglog_interpolate(frequency, table_frequencies, table_values) -> TableValue
     ``[f_1, f_n]`` the end value is held (a falling slope is never extrapolated towards
     zero) and ``extrapolated`` is True.  Source: PHYSICS.md §5.2 [D].
     """
+    if is_scalar(frequency):
+        # float path without numpy (a check of one spec stays numpy-free)
+        f_list, v_list = _table_floats(table_frequencies, table_values)
+        return _interpolate_scalar(float(frequency), f_list, v_list)
     f, v = _table(table_frequencies, table_values)
-    scalar = is_scalar(frequency)
+    scalar = False
     query = np.asarray(frequency, dtype=float)
     ln_f = np.log(f)
     ln_v = np.log(v)
@@ -104,8 +135,8 @@ def table_non_monotonic(table_frequencies, table_inductances) -> bool:
     suggests a measurement near resonance or a unit slip (warn).
     Source: PHYSICS.md §5.2 [D].
     """
-    _, v = _table(table_frequencies, table_inductances)
-    return bool(np.any(np.diff(v) > 0.0))
+    _, v = _table_floats(table_frequencies, table_inductances)
+    return any(b > a for a, b in zip(v, v[1:]))
 
 
 def inductance_derated(catalogue_inductance, derating_factor=DEFAULT_DERATING_FACTOR):

@@ -35,6 +35,17 @@ def spec_schema() -> dict[str, Any]:
     return Spec.model_json_schema(schema_generator=_Generator)
 
 
+CONFIG_SCHEMA_ID = "urn:specguard:schema:config:v1"
+CONFIG_SCHEMA_FILE = "config-v1.schema.json"
+
+
+def config_schema() -> dict[str, Any]:
+    """The JSON Schema of the policy file ``.specguard.yaml``, from its model."""
+    from ..engine.config import config_schema as _config_schema
+
+    return _config_schema()
+
+
 def dumps(schema: dict[str, Any]) -> str:
     return json.dumps(schema, indent=2, ensure_ascii=False, sort_keys=False) + "\n"
 
@@ -119,4 +130,74 @@ def format_reference() -> str:
                     seen.add(name)
                     queue.append((name, schema["$defs"][name]))
         lines.append("")
+    return "\n".join(lines)
+
+
+# ------------------------------------------------------------ rule format and rule docs
+RULE_SCHEMA_ID = "urn:specguard:schema:rule:v1"
+RULE_SCHEMA_FILE = "rule-v1.schema.json"
+
+
+def rule_schema() -> dict[str, Any]:
+    """JSON Schema (2020-12) of a rule file, generated from specguard.engine.pack.Rule."""
+    from pydantic.json_schema import GenerateJsonSchema
+
+    from ..engine.pack import Rule
+
+    class _Generator(GenerateJsonSchema):
+        def generate(self, schema, mode="validation"):
+            out = super().generate(schema, mode=mode)
+            return {"$schema": DIALECT, "$id": RULE_SCHEMA_ID, **out}
+
+    return Rule.model_json_schema(schema_generator=_Generator)
+
+
+def rules_reference(pack=None) -> str:
+    """docs/rules.md: one section per built-in rule (Markdown)."""
+    from ..engine.evaluate import load_pack
+    from ..engine.pack import band_text, one_line
+    from ..figures.registry import REMEDIES
+
+    pack = pack or load_pack()
+    rules = sorted(pack.rules, key=lambda r: r.id)
+    lines = [
+        "# The built-in rules",
+        "",
+        "Generated from the rule files in `rules/` by `python -m specguard.schema`; do not edit by hand.",
+        "Every threshold can be changed, and every rule disabled or given another severity, in the",
+        "config. `specguard explain RULE` prints the same text with the rule's examples.",
+        "",
+        "| rule | default severity | title |",
+        "|---|---|---|",
+        *(f"| [`{r.id}`](#{r.id}) | {r.rule.default_severity} | {r.rule.title} |" for r in rules),
+        "",
+    ]
+    for r in rules:
+        rule, figure = r.rule, r.figure
+        lines += [
+            f"## {r.id}",
+            "",
+            f"{rule.title[0].upper()}{rule.title[1:]}.",
+            "",
+            f"- **Figure:** `{figure.name}` ({figure.unit or 'flag'}), {figure.meaning}",
+            f"- **Judged:** {'at each operating point' if rule.scope == 'point' else 'once per axis'}",
+            "- **Thresholds:** " + "; ".join(band_text(b, figure) for b in r.bands),
+        ]
+        if rule.aliases:
+            lines.append("- **Former ids:** " + ", ".join(f"`{a}`" for a in rule.aliases))
+        lines += [
+            "",
+            f"**What it checks.** {one_line(rule.checks)}",
+            "",
+            f"**Why it matters.** {one_line(rule.why)}",
+            "",
+            f"**Formula.** {one_line(rule.formula)}",
+            "",
+            "**Sources.**",
+            "",
+            *(f"- {s}" for s in rule.sources),
+            "",
+        ]
+        if rule.remedies:
+            lines += ["**Remedies computed.**", "", *(f"- {REMEDIES[name]}" for name in rule.remedies), ""]
     return "\n".join(lines)

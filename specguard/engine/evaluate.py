@@ -1,0 +1,549 @@
+"""Load the rule pack and evaluate it against one spec's figures.
+
+The built-in rules are read through ``importlib.resources.files("specguard.pack")``
+(the top-level ``rules/`` folder, installed as that package), never through the
+source tree. A team's rule directories are read the same way and validated by
+the same model. The parsed built-in pack is cached per process.
+
+Evaluation, per rule: topology filters (motor type, scheme, winding, tags,
+absent paths) skip a spec silently; a missing required path or figure gives one
+``rule-not-applicable`` info finding (never a silent pass, never a guess); else
+the figure is compared with the bands at each operating point (scope point) or
+once (scope axis) and the most severe matching band gives the finding. A rule
+that raises becomes an ``internal-error`` finding naming the rule and its file.
+"""
+
+from __future__ import annotations
+
+import functools
+import math
+from collections.abc import Callable, Mapping, Sequence
+from pathlib import Path
+from typing import Any
+
+from pydantic import ValidationError
+
+from ..figures.registry import FIGURE_DEFS
+from ..findings import Finding, Location, dotted
+from .pack import (
+    POINT,
+    CompiledBand,
+    OverrideError,
+    Pack,
+    PackError,
+    PackRule,
+    Rule,
+    compile_rule,
+    format_value,
+    merge_overlay,
+    one_line,
+    semantic_problems,
+    threshold_si,
+)
+from .types import RuleOverride
+
+BUILTIN_PACKAGE = "specguard.pack"
+EXAMPLES_FOLDER = "examples"
+
+Locate = Callable[..., tuple[Location, tuple[Location, ...]]]
+
+__all__ = [
+    "Pack",
+    "PackError",
+    "OverrideError",
+    "applicability",
+    "effective_bands",
+    "evaluate",
+    "example_data",
+    "load_pack",
+    "validate_override",
+]
+
+
+# ------------------------------------------------------------------ loading
+def _builtin_root():
+    from importlib.resources import files
+
+    return files(BUILTIN_PACKAGE)
+
+
+def _locate_in(result, path: tuple, key: bool = False) -> tuple[int, int]:
+    probe = tuple(path)
+    while True:
+        loc = result.locations.get(probe)
+        if loc is not None:
+            span = loc.key if key and loc.key is not None else loc.value
+            return span.line, span.column
+        if not probe:
+            return 1, 1
+        probe = probe[:-1]
+
+
+def parse_rule_bytes(raw: bytes, display: str, examples_dirs: tuple, builtin: bool) -> PackRule:
+    """Validate one rule file; raises PackError with located problems."""
+    from ..source import load_bytes
+
+    result = load_bytes(raw, display)
+    problems = [
+        f"{display}:{f.location.line}:{f.location.column}: {f.message}"
+        for f in result.findings
+        if f.severity == "error"
+    ]
+    if problems or result.data is None:
+        raise PackError(problems or [f"{display}:1:1: the rule file could not be read"])
+    try:
+        rule = Rule.model_validate(result.data)
+    except ValidationError as exc:
+        out = []
+        for err in exc.errors(include_url=False):
+            loc = tuple(p for p in err.get("loc", ()) if isinstance(p, (str, int)))
+            kind = err.get("type", "")
+            line, col = _locate_in(
+                result, loc if kind != "missing" else loc[:-1], key=kind == "extra_forbidden"
+            )
+            where = dotted(loc) or "rule"
+            msg = err.get("msg", "invalid value")
+            if kind == "extra_forbidden":
+                msg = f"unknown key '{loc[-1]}'"
+            elif kind == "missing":
+                msg = f"missing required key '{loc[-1]}'"
+            out.append(f"{display}:{line}:{col}: {where}: {msg}")
+        raise PackError(out) from None
+    stem = display.rsplit("/", 1)[-1]
+    stem = stem[: -len(".yaml")] if stem.endswith(".yaml") else stem
+    semantic = semantic_problems(rule, stem)
+    base = rule.examples.base + ".yaml"
+    if not any(_is_file(d, base) for d in examples_dirs):
+        semantic.append((("examples", "base"), f"no base spec '{base}' in the examples folder"))
+    if semantic:
+        out = []
+        for path, message in semantic:
+            line, col = _locate_in(result, path)
+            out.append(f"{display}:{line}:{col}: {dotted(path) or 'rule'}: {message}")
+        raise PackError(out)
+    return compile_rule(rule, display, examples_dirs, builtin)
+
+
+def _is_file(folder, name: str) -> bool:
+    try:
+        return (folder / name).is_file()
+    except OSError:
+        return False
+
+
+def _read_dir(
+    folder, display_prefix: str, examples_dirs: tuple, builtin: bool
+) -> tuple[list[PackRule], list[str]]:
+    rules: list[PackRule] = []
+    problems: list[str] = []
+    entries = sorted(
+        (e for e in folder.iterdir() if e.name.endswith(".yaml") and e.is_file()),
+        key=lambda e: e.name,
+    )
+    for entry in entries:
+        display = f"{display_prefix}/{entry.name}"
+        try:
+            rules.append(parse_rule_bytes(entry.read_bytes(), display, examples_dirs, builtin))
+        except PackError as exc:
+            problems.extend(exc.problems)
+    return rules, problems
+
+
+@functools.lru_cache(maxsize=1)
+def _builtin_rules() -> tuple[PackRule, ...]:
+    root = _builtin_root()
+    rules, problems = _read_dir(root, BUILTIN_PACKAGE, (root / EXAMPLES_FOLDER,), True)
+    if problems:
+        raise PackError(problems)
+    return tuple(rules)
+
+
+def load_pack(extra_dirs: Sequence[Path] = ()) -> Pack:
+    """The built-in rules plus the rule files (``*.yaml``) of ``extra_dirs``.
+
+    Raises PackError (every problem as "file:line:column: message") for an
+    invalid rule file, a missing directory, or a duplicate id or alias.
+    """
+    rules = list(_builtin_rules())
+    problems: list[str] = []
+    builtin_examples = _builtin_root() / EXAMPLES_FOLDER
+    for directory in extra_dirs:
+        directory = Path(directory)
+        if not directory.is_dir():
+            problems.append(f"{directory.as_posix()}: rule directory not found")
+            continue
+        found, errs = _read_dir(
+            directory, directory.as_posix(), (directory / EXAMPLES_FOLDER, builtin_examples), False
+        )
+        rules.extend(found)
+        problems.extend(errs)
+    by_id: dict[str, PackRule] = {}
+    aliases: dict[str, str] = {}
+    for prule in rules:
+        for name in (prule.id, *prule.rule.aliases):
+            other = by_id.get(name) or (by_id.get(aliases[name]) if name in aliases else None)
+            if other is not None:
+                problems.append(
+                    f"{prule.source}:1:1: rule id or alias '{name}' is already used by {other.source}"
+                )
+        by_id.setdefault(prule.id, prule)
+        for alias in prule.rule.aliases:
+            aliases.setdefault(alias, prule.id)
+    if problems:
+        raise PackError(problems)
+    return Pack(tuple(rules), by_id, aliases)
+
+
+def example_data(prule: PackRule, which: str) -> dict:
+    """The plain data of a rule's 'pass' or 'fail' example: the base spec with the overlay merged."""
+    from ..source import load_bytes
+
+    if which not in ("pass", "fail"):
+        raise ValueError("which is 'pass' or 'fail'")
+    name = prule.rule.examples.base + ".yaml"
+    for folder in prule.examples_dirs:
+        if _is_file(folder, name):
+            entry = folder / name
+            break
+    else:
+        raise PackError([f"{prule.source}:1:1: no base spec '{name}'"])
+    result = load_bytes(entry.read_bytes(), f"examples/{name}")
+    if result.data is None:
+        raise PackError(
+            [
+                f"examples/{name}:{f.location.line}:{f.location.column}: {f.message}"
+                for f in result.findings
+            ]
+        )
+    overlay = prule.rule.examples.pass_ if which == "pass" else prule.rule.examples.fail
+    return merge_overlay(result.data, overlay)
+
+
+# ---------------------------------------------------------------- overrides
+def effective_bands(prule: PackRule, override: RuleOverride | None) -> tuple[CompiledBand, ...]:
+    """The rule's bands with the override's thresholds applied (most severe first)."""
+    if override is None or not override.thresholds:
+        return prule.bands
+    by_severity = {b.severity: b for b in prule.bands}
+    figure = prule.figure
+    out = []
+    for severity in override.thresholds:
+        if severity not in by_severity:
+            raise OverrideError(
+                f"rule '{prule.id}' has no {severity} band (it has: {', '.join(by_severity)})"
+            )
+    for band in prule.bands:
+        if band.severity in override.thresholds:
+            written = override.thresholds[band.severity]
+            try:
+                value = threshold_si(written, figure, band.comparator)
+            except ValueError as exc:
+                raise OverrideError(
+                    f"rule '{prule.id}', {band.severity} threshold: {exc}"
+                ) from None
+            band = CompiledBand(band.severity, band.comparator, value, written)
+        out.append(band)
+    return tuple(out)
+
+
+def validate_override(pack: Pack, name: str, override: RuleOverride) -> list[str]:
+    """Problems of one policy override (for the config layer to report, exit 2)."""
+    prule = pack.get(name)
+    if prule is None:
+        hint = pack.suggest(name)
+        return [f"unknown rule '{name}'" + (f"; did you mean '{hint}'?" if hint else "")]
+    try:
+        effective_bands(prule, override)
+    except OverrideError as exc:
+        return [str(exc)]
+    return []
+
+
+# ------------------------------------------------------------- applicability
+_MISSING = object()
+
+
+def _get(spec: Any, parts: tuple) -> Any:
+    node = spec
+    for part in parts:
+        if isinstance(part, int):
+            if not isinstance(node, tuple) or not 0 <= part < len(node):
+                return _MISSING
+            node = node[part]
+        else:
+            node = getattr(node, part, _MISSING)
+        if node is None or node is _MISSING:
+            return _MISSING
+    return node
+
+
+def _present(spec: Any, parts: tuple) -> bool:
+    return _get(spec, parts) is not _MISSING
+
+
+def applicability(prule: PackRule, spec: Any, figures) -> tuple[str, str, tuple]:
+    """("skip" | "not-applicable" | "applies", reason, document path to point at)."""
+    ap = prule.rule.applies
+    if ap.motor_types and spec.motor.type not in ap.motor_types:
+        return "skip", f"motor type is {spec.motor.type}", ()
+    if ap.schemes and spec.stage.pwm.scheme not in ap.schemes:
+        return "skip", f"PWM scheme is {spec.stage.pwm.scheme}", ()
+    if ap.windings and spec.motor.winding not in ap.windings:
+        return "skip", f"winding is {spec.motor.winding}", ()
+    if ap.tags and not set(ap.tags) & set(spec.axis.tags):
+        return "skip", "axis has none of the tags " + ", ".join(ap.tags), ()
+    for text in ap.present:
+        if not _present(spec, tuple(text.split("/"))):
+            return "skip", f"the spec does not give {text.replace('/', '.')}", ()
+    for text in ap.absent:
+        if _present(spec, tuple(text.split("/"))):
+            return "skip", f"the spec gives {text.replace('/', '.')}", ()
+    for text in (*ap.requires, *ap.equals):
+        if not _present(spec, tuple(text.split("/"))):
+            return (
+                "not-applicable",
+                f"the spec does not give {text.replace('/', '.')}",
+                tuple(text.split("/")),
+            )
+    for text, wanted in ap.equals.items():
+        value = _get(spec, tuple(text.split("/")))
+        if value != wanted or isinstance(value, bool) != isinstance(wanted, bool):
+            return "skip", f"{text.replace('/', '.')} is {value!r}", ()
+    for name in prule.figures_used:
+        if name in figures.missing:
+            reason = f"figure '{name}' could not be computed: {figures.missing[name]}"
+            return "not-applicable", reason, _fixed_prefix(prule.at)
+    return "applies", "", ()
+
+
+# --------------------------------------------------------------- evaluation
+def _matches(value: float | bool, band: CompiledBand) -> bool:
+    c, t = band.comparator, band.threshold
+    if c == "is":
+        return bool(value) is t
+    v = float(value)
+    if math.isnan(v):
+        return False
+    if c == "above":
+        return v > t
+    if c == "below":
+        return v < t
+    if c == "at_least":
+        return v >= t
+    return v <= t  # at_most
+
+
+def _resolve(parts: tuple[str, ...], index: int | None) -> tuple:
+    return tuple(index if p == POINT else p for p in parts)
+
+
+def _render(prule: PackRule, values: Mapping[str, Any], limit: str, point: str | None) -> str:
+    out = []
+    for literal, name in prule.template:
+        out.append(literal)
+        if name is None:
+            continue
+        if name == "limit":
+            out.append(limit)
+        elif name == "point":
+            out.append(point or "")
+        else:
+            out.append(format_value(values[name], FIGURE_DEFS[name].dimension))
+    return "".join(out)
+
+
+def _unit(name: str) -> str:
+    return FIGURE_DEFS[name].unit
+
+
+def _not_applicable(prule: PackRule, reason: str, locate: Locate, path: tuple) -> Finding:
+    loc, rel = locate(path)
+    message = f"rule '{prule.id}' could not be applied: {reason}"
+    return Finding(
+        "rule-not-applicable",
+        "info",
+        message,
+        loc,
+        rel,
+        help=f"{prule.rule.title}; give what the rule needs, or disable it in the config",
+        meta=(("rule", prule.id), ("rule_file", prule.source)),
+    )
+
+
+def _fixed_prefix(parts: tuple[str, ...]) -> tuple[str, ...]:
+    return parts[: parts.index(POINT)] if POINT in parts else parts
+
+
+def _evaluate_rule(
+    prule: PackRule,
+    spec: Any,
+    figures,
+    locate: Locate,
+    override: RuleOverride | None,
+    point_values: Mapping[str, Mapping[str, Any]],
+    point_index: Mapping[str, int],
+    remedy_fn,
+) -> list[Finding]:
+    status, reason, path = applicability(prule, spec, figures)
+    if status == "skip":
+        return []
+    if status == "not-applicable":
+        return [_not_applicable(prule, reason, locate, path)]
+    bands = effective_bands(prule, override)
+    lowest = bands[-1]
+    used = prule.figures_used
+    rule = prule.rule
+    out: list[Finding] = []
+    lacking: list[str] = []
+    targets: list[tuple[str | None, Mapping[str, Any]]]
+    if rule.scope == "point":
+        targets = [(name, values) for name, values in figures.points]
+    else:
+        targets = [(None, {})]
+    for point, values in targets:
+        merged: dict[str, Any] = {}
+        for name in used:
+            v = values.get(name) if FIGURE_DEFS[name].scope == "point" else figures.axis.get(name)
+            if v is None:
+                break
+            merged[name] = v
+        else:
+            v = merged[rule.figure]
+            band = next((b for b in bands if _matches(v, b)), None)
+            if band is not None:
+                out.append(
+                    _finding(
+                        prule,
+                        spec,
+                        figures,
+                        locate,
+                        override,
+                        band,
+                        lowest,
+                        merged,
+                        point,
+                        point_index,
+                        remedy_fn,
+                    )
+                )
+            continue
+        lacking.append(point or "")
+    if lacking:
+        where = f" at operating point(s) {', '.join(lacking)}" if rule.scope == "point" else ""
+        out.append(
+            _not_applicable(
+                prule,
+                f"figure(s) {', '.join(n for n in used)} not computed{where}",
+                locate,
+                _fixed_prefix(prule.at),
+            )
+        )
+    return out
+
+
+def _finding(
+    prule, spec, figures, locate, override, band, lowest, values, point, point_index, remedy_fn
+) -> Finding:
+    rule = prule.rule
+    index = point_index.get(point) if point is not None else None
+    limit = format_value(band.threshold, prule.figure.dimension)
+    message = _render(prule, values, limit, point)
+    loc, via = locate(_resolve(prule.at, index))
+    related: list[Location] = list(via)
+    paths = [_resolve(p, index) for p in prule.related]
+    for fpath in prule.figure.paths:
+        if index is not None and fpath == ("operating_points",):
+            fpath = ("operating_points", index)
+        paths.append(tuple(fpath))
+    seen = {(loc.file, loc.line, loc.column)}
+    for path in paths:
+        if not _present(spec, path):
+            continue
+        rloc, rvia = locate(path)
+        for item in (rloc, *rvia):
+            key = (item.file, item.line, item.column)
+            if key not in seen:
+                seen.add(key)
+                related.append(item)
+    remedies: list[str] = []
+    if rule.remedies and lowest.comparator != "is":
+        for name in rule.remedies:
+            found = remedy_fn(name, spec, figures, point=point, limit=float(lowest.threshold))
+            if found is not None:
+                remedies.append(found.text)
+    severity = override.severity if override is not None and override.severity else band.severity
+    return Finding(
+        rule.id,
+        severity,
+        message,
+        loc,
+        tuple(related),
+        operating_point=point,
+        figures=tuple((name, values[name], _unit(name)) for name in prule.figures_used),
+        remedies=tuple(remedies),
+        help=one_line(rule.why),
+    )
+
+
+def evaluate(
+    spec: Any,
+    figures,
+    locate: Locate,
+    pack: Pack,
+    overrides: Mapping[str, RuleOverride] = {},
+    *,
+    remedy: Callable[..., Any] | None = None,
+    debug: bool = False,
+) -> list[Finding]:
+    """Findings of every rule of ``pack`` on one spec.
+
+    ``overrides`` maps a rule id (or alias) to the policy's override.
+    ``remedy`` defaults to :func:`specguard.figures.remedy`. With ``debug`` a
+    rule that raises re-raises instead of becoming an internal-error finding.
+    An invalid override raises OverrideError (a config problem, exit 2).
+    """
+    if remedy is None:
+        from ..figures import remedy as remedy_default
+
+        remedy = remedy_default
+    resolved: dict[str, RuleOverride] = {}
+    for name, override in overrides.items():
+        prule = pack.get(name)
+        if prule is None:
+            raise OverrideError(f"unknown rule '{name}' in the overrides")
+        resolved[prule.id] = override
+    point_values = dict(figures.points)
+    point_index = {op.name: i for i, op in enumerate(spec.operating_points)}
+    out: list[Finding] = []
+    for prule in pack.rules:
+        override = resolved.get(prule.id)
+        if override is not None and not override.enabled:
+            continue
+        if override is not None and override.thresholds:
+            effective_bands(
+                prule, override
+            )  # a bad override is a config error, not an internal one
+        try:
+            out.extend(
+                _evaluate_rule(
+                    prule, spec, figures, locate, override, point_values, point_index, remedy
+                )
+            )
+        except (KeyboardInterrupt, SystemExit, OverrideError):
+            raise
+        except Exception as exc:
+            if debug:
+                raise
+            loc, _ = locate(())
+            text = " ".join(f"{type(exc).__name__}: {exc}".split())[:300]
+            out.append(
+                Finding(
+                    "internal-error",
+                    "error",
+                    f"rule '{prule.id}' (rule file {prule.source}) failed on this file: {text} "
+                    "(run with --debug for the traceback)",
+                    loc,
+                    meta=(("rule", prule.id), ("rule_file", prule.source)),
+                )
+            )
+    return out
