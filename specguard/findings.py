@@ -29,6 +29,9 @@ BUILTIN_IDS: dict[str, str] = {
     "reference-invalid": "a library reference cannot be resolved safely",
     "waiver-invalid": "a waiver is malformed, expired, unused or not allowed",
     "rule-not-applicable": "a rule could not be applied because the spec lacks what it needs",
+    "config-invalid": "the policy file (.specguard.yaml) cannot be read or is invalid (exit 2, before any analysis)",
+    "baseline-invalid": "the baseline file is missing, damaged or of an unknown version (exit 2; never read as empty)",
+    "output-error": "a report or baseline file cannot be written where asked, or its lock stays taken (exit 2)",
     "internal-error": "specguard itself failed; please report it (exit 3)",
 }
 
@@ -69,6 +72,12 @@ class Finding:
     help: str = ""
     waived: str | None = None  # the waiver's justification when waived
     meta: tuple[tuple[str, str], ...] = field(default=())
+    baselined: bool = False  # held by the baseline file (--baseline)
+
+    @property
+    def suppressed(self) -> bool:
+        """Waived or baselined: shown in every output, never counted for the exit status."""
+        return self.waived is not None or self.baselined
 
     def sort_key(self) -> tuple:
         loc = self.location

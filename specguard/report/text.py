@@ -27,6 +27,8 @@ def finding_line(finding, colour: bool = False) -> str:
     if colour:
         severity = f"{_COLOURS[severity]}{severity}{_RESET}"
     waived = " (waived)" if finding.waived is not None else ""
+    if getattr(finding, "baselined", False):
+        waived = " (baselined)"
     message = escape_controls(finding.message)
     return f"{escape_controls(loc.file)}:{loc.line}:{loc.column}: {severity}: {message} [{finding.rule}]{waived}"
 
@@ -54,6 +56,20 @@ def summary(report) -> str:
         f"{counts['warning']} warning{'s' if counts['warning'] != 1 else ''}",
         f"{counts['info']} info",
     ]
+    waived = sum(1 for f in report.findings if f.waived is not None)
+    if waived:
+        parts.append(f"{waived} waived")
     unread = len(report.input_errors)
     tail = f", {unread} unreadable" if unread else ""
-    return f"specguard: {', '.join(parts)} in {files} file{'s' if files != 1 else ''}{tail}"
+    line = f"specguard: {', '.join(parts)} in {files} file{'s' if files != 1 else ''}{tail}"
+    outcome = getattr(report, "baseline", None)
+    if outcome is not None:
+        n = outcome.suppressed
+        line += (f"\nspecguard: {n} finding{'s' if n != 1 else ''} suppressed by the baseline "
+                 f"{escape_controls(outcome.file)}")
+        if outcome.stale_count:
+            k = outcome.stale_count
+            line += (f"; {k} stale entr{'ies' if k != 1 else 'y'} matched no finding"
+                     + (" (--strict-baseline: fails the run)" if outcome.strict else
+                        " (write the baseline again to drop them)"))
+    return line

@@ -1,0 +1,239 @@
+"""SARIF 2.1.0 output (OASIS standard) for code-scanning views.
+
+A pure function of the Report. Paths are repo-relative URIs against the base id
+``SRCROOT`` (the repository root), whose absolute location is deliberately not
+written: the log carries no absolute path and no timestamp, and is
+byte-identical across runs and hash seeds.
+
+``partialFingerprints["specguardFinding/v1"]`` is a hash of the rule id, file,
+document path (JSON pointer) and operating point, plus ``:n`` for the n-th
+result with the same hash (in sorted order). No line numbers go in, so an edit
+that moves a finding keeps its fingerprint and a code-scanning view keeps
+tracking the same alert. (The baseline's key additionally holds a digest of the
+finding's numbers; see :mod:`specguard.engine.baseline`.)
+
+Waived findings carry a ``suppressions`` entry of kind ``inSource`` (the waiver
+is in the spec) with the waiver's reason as justification; baselined findings
+one of kind ``external``.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import json
+from urllib.parse import quote
+
+from .json_report import _number, dumps
+
+SARIF_SCHEMA = (
+    "https://docs.oasis-open.org/sarif/sarif/v2.1.0/errata01/os/schemas/sarif-schema-2.1.0.json"
+)
+MAX_RESULTS = 25_000  # RELIABILITY.md G15
+FINGERPRINT_KEY = "specguardFinding/v1"
+_LEVEL = {"error": "error", "warning": "warning", "info": "note"}
+
+
+def uri(path: str) -> str:
+    """A repo-relative path as a relative URI reference (percent-encoded UTF-8)."""
+    # A file name that is not valid UTF-8 arrives with surrogate escapes (PEP 383):
+    # give back its original bytes; any other lone surrogate is encoded as is.
+    try:
+        return quote(path, safe="/", errors="surrogateescape")
+    except UnicodeEncodeError:
+        return quote(path, safe="/", errors="surrogatepass")
+
+
+def fingerprint(rule: str, file: str, pointer: str, point: str | None) -> str:
+    text = json.dumps([rule, file, pointer, point], ensure_ascii=True)
+    return hashlib.sha256(text.encode("ascii")).hexdigest()[:32]
+
+
+def _pascal(rule_id: str) -> str:
+    return "".join(part[:1].upper() + part[1:] for part in rule_id.split("-"))
+
+
+def _physical(loc) -> dict:
+    region: dict = {"startLine": max(1, loc.line), "startColumn": max(1, loc.column)}
+    if loc.end_line is not None and loc.end_column is not None:
+        region["endLine"] = max(region["startLine"], loc.end_line)
+        region["endColumn"] = max(1, loc.end_column)
+    return {
+        "artifactLocation": {"uri": uri(loc.file), "uriBaseId": "SRCROOT"},
+        "region": region,
+    }
+
+
+def _descriptors(report) -> list[dict]:
+    from ..findings import BUILTIN_IDS
+
+    docs = {doc.id: doc for doc in getattr(report, "rules", ())}
+    used = {f.rule for f in report.findings}
+    out: dict[str, dict] = {}
+    for rule_id, doc in docs.items():
+        help_text = doc.help
+        if doc.sources:
+            help_text += "\n\nSources:\n" + "\n".join(f"- {s}" for s in doc.sources)
+        properties: dict = {"sources": list(doc.sources)}
+        if doc.aliases:
+            properties["aliases"] = list(doc.aliases)
+        out[rule_id] = {
+            "id": rule_id,
+            "name": _pascal(rule_id),
+            "shortDescription": {"text": doc.title},
+            "fullDescription": {"text": doc.description or doc.title},
+            "help": {"text": help_text or doc.title},
+            "defaultConfiguration": {"level": _LEVEL[doc.default_severity]},
+            "properties": properties,
+        }
+    for rule_id in sorted(used - set(out)):
+        meaning = BUILTIN_IDS.get(rule_id, "a rule of a team's own rule pack")
+        out[rule_id] = {
+            "id": rule_id,
+            "name": _pascal(rule_id),
+            "shortDescription": {"text": meaning[:1].upper() + meaning[1:]},
+            "fullDescription": {"text": f"Built-in finding of specguard: {meaning}."},
+            "help": {"text": f"Built-in finding of specguard: {meaning}."},
+            "defaultConfiguration": {"level": "error"},
+            "properties": {"builtin": True, "sources": []},
+        }
+    return [out[k] for k in sorted(out)]
+
+
+def document(report) -> dict:
+    from .. import __version__
+
+    rules = _descriptors(report)
+    index = {r["id"]: i for i, r in enumerate(rules)}
+    outcome = getattr(report, "baseline", None)
+    results: list[dict] = []
+    seen: dict[str, int] = {}
+    for f in report.findings:
+        loc = f.location
+        digest = fingerprint(f.rule, loc.file, loc.pointer, f.operating_point)
+        seen[digest] = seen.get(digest, 0) + 1
+        result: dict = {
+            "ruleId": f.rule,
+            "ruleIndex": index[f.rule],
+            "level": _LEVEL[f.severity],
+            "message": {"text": f.message},
+            "locations": [{"physicalLocation": _physical(loc)}],
+            "partialFingerprints": {FINGERPRINT_KEY: f"{digest}:{seen[digest]}"},
+        }
+        if loc.pointer:
+            result["locations"][0]["logicalLocations"] = [
+                {"fullyQualifiedName": loc.pointer, "kind": "element"}
+            ]
+        if f.related:
+            result["relatedLocations"] = [
+                {
+                    "id": i + 1,
+                    "physicalLocation": _physical(r),
+                    "message": {"text": "related location"},
+                }
+                for i, r in enumerate(f.related)
+            ]
+        properties: dict = {}
+        if f.operating_point is not None:
+            properties["operatingPoint"] = f.operating_point
+        if f.figures:
+            properties["figures"] = [
+                {"name": n, "value": _number(v), "unit": u} for n, v, u in f.figures
+            ]
+        if f.remedies:
+            properties["remedies"] = list(f.remedies)
+        if f.help:
+            properties["help"] = f.help
+        if properties:
+            result["properties"] = properties
+        suppressions = []
+        if f.waived is not None:
+            suppressions.append(
+                {"kind": "inSource", "status": "accepted", "justification": f.waived}
+            )
+        if getattr(f, "baselined", False):
+            justification = (
+                f"held by the baseline {outcome.file}" if outcome else "held by the baseline"
+            )
+            suppressions.append(
+                {"kind": "external", "status": "accepted", "justification": justification}
+            )
+        if suppressions:
+            result["suppressions"] = suppressions
+        if outcome is not None:
+            result["baselineState"] = "unchanged" if getattr(f, "baselined", False) else "new"
+        results.append(result)
+
+    notifications: list[dict] = []
+    for r in report.input_errors:
+        notifications.append(
+            {
+                "level": "error",
+                "descriptor": {"id": "input-unreadable"},
+                "message": {"text": f"cannot read input {r.file}: {r.input_error}"},
+            }
+        )
+    if len(results) > MAX_RESULTS:
+        omitted = len(results) - MAX_RESULTS
+        results = results[:MAX_RESULTS]
+        notifications.append(
+            {
+                "level": "warning",
+                "descriptor": {"id": "results-truncated"},
+                "message": {
+                    "text": f"{omitted} more results were left out: a SARIF log holds at most "
+                    f"{MAX_RESULTS:,} results; see the JSON or text report for all of them"
+                },
+            }
+        )
+    if outcome is not None:
+        n = outcome.suppressed
+        notifications.append(
+            {
+                "level": "note",
+                "descriptor": {"id": "baseline-suppressed"},
+                "message": {
+                    "text": f"{n} finding{'s' if n != 1 else ''} suppressed by the baseline "
+                    f"{outcome.file}"
+                },
+            }
+        )
+    if outcome is not None and outcome.stale_count:
+        notifications.append(
+            {
+                "level": "error" if outcome.strict else "note",
+                "descriptor": {"id": "baseline-stale"},
+                "message": {
+                    "text": f"{outcome.stale_count} baseline entries in {outcome.file} "
+                    "matched no finding"
+                },
+            }
+        )
+    status = report.exit_status()
+    invocation: dict = {"executionSuccessful": status in (0, 1), "exitCode": status}
+    if notifications:
+        invocation["toolExecutionNotifications"] = notifications
+    run = {
+        "tool": {
+            "driver": {
+                "name": "specguard",
+                "version": __version__,
+                "semanticVersion": __version__,
+                "rules": rules,
+            }
+        },
+        "originalUriBaseIds": {
+            "SRCROOT": {
+                "description": {
+                    "text": "The repository root: the directory holding .specguard.yaml or .git."
+                }
+            }
+        },
+        "columnKind": "unicodeCodePoints",
+        "invocations": [invocation],
+        "results": results,
+    }
+    return {"$schema": SARIF_SCHEMA, "version": "2.1.0", "runs": [run]}
+
+
+def render(report) -> str:
+    return dumps(document(report))
