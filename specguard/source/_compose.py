@@ -53,6 +53,20 @@ def _join_pair(m: re.Match) -> str:
     return chr(0x10000 + ((ord(hi) - 0xD800) << 10) + (ord(lo) - 0xDC00))
 
 
+def _tag_end(text: str, j: int) -> int:
+    """Index just after the tag that starts at ``text[j] == "!"``. A verbatim tag
+    ``!<...>`` may hold ',' and brackets, so it ends at its '>'."""
+    n = len(text)
+    if text.startswith("!<", j):
+        close = text.find(">", j + 2, j + 4096)
+        if close >= 0:
+            return close + 1
+    k = j
+    while k < n and text[k] not in " \t\r\n,[]{}":
+        k += 1
+    return k
+
+
 def fmt_size(n: int) -> str:
     if n < 1024:
         return f"{n} bytes"
@@ -230,9 +244,7 @@ def compose(
         if j >= n or text[j] != "!":
             j = i
         line, col = index.pos(j)
-        k = j
-        while k < n and text[k] not in " \t\r\n,[]{}":
-            k += 1
+        k = _tag_end(text, j)
         return Span(line, col, line, col + max(1, k - j))
 
     def tag_text(event, span: Span) -> str:
@@ -240,10 +252,7 @@ def compose(
         j = text.find("!", i, i + 4096)
         if j < 0:
             return str(event.tag)
-        k = j
-        while k < len(text) and text[k] not in " \t\r\n,[]{}":
-            k += 1
-        return text[j:k]
+        return text[j : _tag_end(text, j)]
 
     def reject_tag(event, path):
         span = tag_span(event)

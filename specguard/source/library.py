@@ -132,8 +132,10 @@ def assemble(
     root: Path,
     limits: Limits = Limits(),
     cache: LibraryCache | None = None,
+    denied: tuple = (),
 ) -> Document:
-    """Parse a spec file and resolve its library references."""
+    """Parse a spec file and resolve its library references. ``denied`` lists files
+    or directories a reference may not reach (baseline, reports; RELIABILITY.md H11)."""
     cache = cache or LibraryCache(limits)
     rel = _rel(root, file_path)
     real = os.path.realpath(file_path)
@@ -144,7 +146,7 @@ def assemble(
         return doc
     _index(doc, result, rel, (), 0)
     data = dict(result.data)
-    state = _Closure(root=root, limits=limits, cache=cache, doc=doc)
+    state = _Closure(root=root, limits=limits, cache=cache, doc=doc, denied=tuple(denied))
     for section in LIBRARY_SECTIONS:
         value = data.get(section)
         if isinstance(value, dict) and REFERENCE_KEY in value:
@@ -162,6 +164,7 @@ class _Closure:
     limits: Limits
     cache: LibraryCache
     doc: Document
+    denied: tuple = ()
     files: int = 1
     total: int = 0
 
@@ -192,7 +195,9 @@ class _Closure:
             )
             return None
         try:
-            target, raw, size = open_reference(self.root, referencing, ref, self.limits)
+            target, raw, size = open_reference(
+                self.root, referencing, ref, self.limits, denied=self.denied
+            )
         except ReferenceProblem as exc:
             self._fail(f"{_dotted(ref_path)}: {exc}", at)
             return None
