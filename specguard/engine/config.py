@@ -66,6 +66,7 @@ _CONFIG = ConfigDict(
     frozen=True,
     allow_inf_nan=False,
     hide_input_in_errors=True,
+    defer_build=True,  # only the top model is validated: build it on first use
 )
 
 

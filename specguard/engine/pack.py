@@ -46,7 +46,9 @@ SEVERITY_WORDS = frozenset(
 SPECIAL_PLACEHOLDERS = ("limit", "point")
 POINT = "{point}"
 
-_CONFIG = ConfigDict(strict=True, extra="forbid", frozen=True, hide_input_in_errors=True)
+_CONFIG = ConfigDict(
+    strict=True, extra="forbid", frozen=True, hide_input_in_errors=True, defer_build=True
+)
 
 
 def _as_tuple(value: object) -> object:

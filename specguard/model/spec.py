@@ -24,6 +24,9 @@ _CONFIG = ConfigDict(
     allow_inf_nan=False,
     hide_input_in_errors=True,
     populate_by_name=False,
+    # Only Spec is ever validated: build its validator (nested models inline) on
+    # first use instead of one per class at import; about 60 ms less start-up.
+    defer_build=True,
 )
 
 

@@ -21,6 +21,13 @@ def use_colour(stream: TextIO, requested: bool | None = None) -> bool:
     return bool(getattr(stream, "isatty", lambda: False)())
 
 
+def shown_path(path: str) -> str:
+    """A file path as the first thing on a line: controls escaped, and never
+    starting with ':' (CI logs read lines starting with '::' as commands)."""
+    text = escape_controls(path)
+    return "./" + text if text.startswith(":") else text
+
+
 def finding_line(finding, colour: bool = False) -> str:
     loc = finding.location
     severity = finding.severity
@@ -30,14 +37,17 @@ def finding_line(finding, colour: bool = False) -> str:
     if getattr(finding, "baselined", False):
         waived = " (baselined)"
     message = escape_controls(finding.message)
-    return f"{escape_controls(loc.file)}:{loc.line}:{loc.column}: {severity}: {message} [{finding.rule}]{waived}"
+    return f"{shown_path(loc.file)}:{loc.line}:{loc.column}: {severity}: {message} [{finding.rule}]{waived}"
 
 
 def render(report, colour: bool = False) -> str:
     lines: list[str] = []
     for result in report.files:
         if result.input_error is not None:
-            lines.append(f"{escape_controls(result.file)}: error: cannot read input: {result.input_error} [input-unreadable]")
+            lines.append(
+                f"{shown_path(result.file)}: error: cannot read input: "
+                f"{escape_controls(result.input_error)} [input-unreadable]"
+            )
     for finding in report.findings:
         lines.append(finding_line(finding, colour))
         for rel in finding.related:
