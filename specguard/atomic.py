@@ -108,7 +108,7 @@ def write_atomic(path: Path | str, data: bytes | str) -> None:
         if temp is not None:
             with contextlib.suppress(OSError):
                 os.unlink(temp)
-        if isinstance(exc, (KeyboardInterrupt, SystemExit)):
+        if not isinstance(exc, Exception):  # KeyboardInterrupt, SIGTERM, SystemExit
             raise
         raise WriteError(f"cannot write {target.as_posix()}: {_reason(exc)}") from exc
 

@@ -48,10 +48,23 @@ def build_parser() -> argparse.ArgumentParser:
     _common_options(check)
     _output_options(check)
     _policy_options(check)
+    _speed_options(check)
+
+    hook = sub.add_parser(
+        "hook", help="pre-commit mode: check the given spec files, and for a given library "
+        "file every spec that uses it; other files are ignored")
+    hook.add_argument("files", nargs="*", metavar="FILE", help="changed files (as a commit hook gets them)")
+    _common_options(hook)
+    _output_options(hook)
+    _policy_options(hook)
+    _speed_options(hook)
 
     demo = sub.add_parser("demo", help="check the bundled demo specs (an invented lab robot)")
     _common_options(demo, root=False)
     _output_options(demo)
+    _speed_options(demo)
+
+    _compare_parser(sub)
 
     config = sub.add_parser("config", help="show the effective policy and where each value comes from")
     config.add_argument("file", nargs="?", metavar="FILE",
@@ -64,6 +77,7 @@ def build_parser() -> argparse.ArgumentParser:
     schema.add_argument("--path", action="store_true", help="print where the schema file is installed")
 
     _report_parser(sub)
+    _figures_parser(sub)
 
     rules = sub.add_parser("rules", help="list the rules: id, default severity, title")
     rules.add_argument("--rules-dir", action="append", default=[], metavar="DIR",
@@ -108,11 +122,121 @@ def _policy_options(p: argparse.ArgumentParser) -> None:
     baseline.add_argument("--baseline", metavar="FILE",
                           help="suppress the findings recorded in this baseline file")
     baseline.add_argument("--write-baseline", metavar="FILE",
-                          help="record the current rule findings in FILE (atomically) and suppress them")
+                          help="record the current rule findings in FILE (atomically) and suppress them; "
+                          "a second writer waits for the lock up to SPECGUARD_LOCK_TIMEOUT seconds "
+                          "(default 10)")
     p.add_argument("--strict-baseline", action="store_true",
                    help="baseline entries that match no finding make the exit status 1")
     p.add_argument("--no-waivers", action="store_true",
                    help="ignore every waiver in the specs (strict mode)")
+
+
+def _speed_options(p: argparse.ArgumentParser, cache: bool = True) -> None:
+    p.add_argument("-j", "--jobs", type=_jobs, default=None, metavar="N",
+                   help="worker processes (default: the number of CPUs when more than "
+                   "8 files need analysis, else 1)")
+    if cache:
+        p.add_argument("--no-cache", action="store_true",
+                       help="neither read nor write the result cache")
+        p.add_argument("--cache-dir", metavar="DIR",
+                       help="result cache directory (default: $SPECGUARD_CACHE_DIR, else "
+                       "$XDG_CACHE_HOME/specguard, else ~/.cache/specguard)")
+    p.add_argument("-q", "--quiet", action="store_true",
+                   help="no progress line on the terminal")
+
+
+def _jobs(text: str) -> int:
+    try:
+        value = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"not a whole number: {text!r}") from None
+    if not 1 <= value <= 256:
+        raise argparse.ArgumentTypeError("must be between 1 and 256")
+    return value
+
+
+class _Progress:
+    """``specguard: 412/1000 files`` on stderr, rewritten in place; only on a terminal,
+    never in CI (``CI`` set) or with --quiet, and only once a run lasts over a second."""
+
+    DELAY = 1.0
+
+    def __init__(self, stream=None, enabled: bool | None = None) -> None:
+        import time
+
+        self.stream = stream or sys.stderr
+        if enabled is None:
+            enabled = bool(getattr(self.stream, "isatty", lambda: False)()) and not os.environ.get("CI")
+        self.enabled = enabled
+        self.clock = time.monotonic
+        self.start = self.clock()
+        self.width = 0
+        self.last = -1.0
+
+    def __call__(self, done: int, total: int) -> None:
+        if not self.enabled:
+            return
+        now = self.clock()
+        if now - self.start < self.DELAY or (now - self.last < 0.1 and done < total):
+            return
+        self.last = now
+        line = f"specguard: {done}/{total} files"
+        self.width = max(self.width, len(line))
+        try:
+            self.stream.write("\r" + line.ljust(self.width))
+            self.stream.flush()
+        except (OSError, ValueError):
+            self.enabled = False
+
+    def clear(self) -> None:
+        if self.width:
+            try:
+                self.stream.write("\r" + " " * self.width + "\r")
+                self.stream.flush()
+            except (OSError, ValueError):
+                pass
+            self.width = 0
+
+
+def _result_cache(args, root: Path, config):
+    """The run's result cache, or None with --no-cache (or where a command has none)."""
+    if getattr(args, "no_cache", True):
+        return None
+    from . import cache as rc
+    from .report.json_report import REPORT_FORMAT
+    from .source import parser_path
+
+    directory = args.cache_dir or rc.default_dir()
+    builtin = _builtin_rules_dir()
+    rule_dirs = ([builtin] if builtin else []) + [str(p) for p in getattr(config, "extra_rule_paths", ())]
+    versions = {"tool": __version__, "spec_format": SPEC_FORMAT_VERSION,
+                "report_format": REPORT_FORMAT, "parser": parser_path(), "cache": rc.CACHE_FORMAT,
+                "code": rc.sha256_file_tree([os.path.dirname(os.path.abspath(__file__))], (".py",))}
+    denied = [os.path.realpath(d) for d in _denied_for_cache(args)]
+    return rc.ResultCache(directory, rc.run_salt(versions, rule_dirs, denied), str(root))
+
+
+def _builtin_rules_dir() -> str | None:
+    from importlib.resources import files
+
+    try:
+        return str(files("specguard.pack"))
+    except (ModuleNotFoundError, TypeError):
+        return None
+
+
+def _denied_for_cache(args) -> list[str]:
+    return [str(p) for p in (getattr(args, "output", None), getattr(args, "write_baseline", None),
+                             getattr(args, "baseline", None)) if p]
+
+
+def _cache_dir_denied(args) -> tuple:
+    """The cache directory is never a reference target (RELIABILITY.md H11)."""
+    if getattr(args, "no_cache", True) and not getattr(args, "cache_dir", None):
+        return ()
+    from .cache import default_dir
+
+    return (Path(args.cache_dir or default_dir()),)
 
 
 def _fail(message: str, rule: str) -> int:
@@ -178,6 +302,24 @@ def _render(report, fmt: str, colour: bool) -> str:
     return text.render(report, colour=colour)
 
 
+_ESCAPE_ERRORS = "specguard-uescape"
+
+
+def _u_escape(error: UnicodeEncodeError):
+    """Codec error handler: each character the encoding lacks as ``\\uXXXX`` (a UTF-16
+    pair above U+FFFF), readable in text and still valid inside JSON strings, where
+    "backslashreplace" would write ``\\xfc``, which JSON does not accept (FI18)."""
+    out = []
+    for ch in error.object[error.start:error.end]:
+        cp = ord(ch)
+        if cp > 0xFFFF:
+            cp -= 0x10000
+            out.append(f"\\u{0xD800 + (cp >> 10):04x}\\u{0xDC00 + (cp & 0x3FF):04x}")
+        else:
+            out.append(f"\\u{cp:04x}")
+    return "".join(out), error.end
+
+
 def _emit(text: str) -> None:
     """Write to stdout; characters the stream cannot encode are escaped, and a
     reader that went away (``| head``) ends the output quietly."""
@@ -186,8 +328,14 @@ def _emit(text: str) -> None:
         try:
             stream.write(text)
         except UnicodeEncodeError:
+            import codecs
+
+            try:
+                codecs.lookup_error(_ESCAPE_ERRORS)
+            except LookupError:
+                codecs.register_error(_ESCAPE_ERRORS, _u_escape)
             encoding = getattr(stream, "encoding", None) or "ascii"
-            stream.write(text.encode(encoding, "backslashreplace").decode(encoding))
+            stream.write(text.encode(encoding, _ESCAPE_ERRORS).decode(encoding))
         stream.flush()
     except BrokenPipeError:
         # Point stdout at /dev/null so the interpreter's final flush cannot fail.
@@ -196,7 +344,7 @@ def _emit(text: str) -> None:
         os.close(devnull)
 
 
-def _run_check(args, paths: list[str], root: Path) -> int:
+def _run_check(args, paths: list[str], root: Path, select=None) -> int:
     from .atomic import target_problem
     from .pipeline import RunOptions, check_paths
     from .report import text
@@ -229,10 +377,25 @@ def _run_check(args, paths: list[str], root: Path) -> int:
     except ValueError as exc:
         return _fail(str(exc), "config-invalid")
     denied = tuple(p for p in (output, write_baseline, getattr(args, "baseline", None)) if p)
+    denied += _cache_dir_denied(args)
     options = RunOptions(config=config, pack=pack, today=today,
                          no_waivers=getattr(args, "no_waivers", False), baseline=baseline,
                          strict_baseline=getattr(args, "strict_baseline", False), denied=denied)
-    report = check_paths(paths, root=root, fail_level=fail_level, debug=args.debug, options=options)
+    if select is not None:  # pre-commit mode: the specs to check for the changed files
+        paths = select(config.wanted)
+        if not paths:
+            return EXIT_CLEAN
+    result_cache = _result_cache(args, root, config)
+    progress = _Progress(enabled=False if getattr(args, "quiet", False) else None)
+    try:
+        report = check_paths(paths, root=root, fail_level=fail_level, debug=args.debug,
+                             options=options, jobs=getattr(args, "jobs", 1),
+                             result_cache=result_cache, progress=progress)
+    finally:
+        progress.clear()
+    if result_cache is not None:
+        for line in result_cache.warnings():
+            sys.stderr.write(line + "\n")
     if write_baseline is not None:
         status = _write_baseline(report, write_baseline, root)
         if isinstance(status, int):
@@ -259,8 +422,27 @@ def _display(path: Path, root: Path) -> str:
     return relpath(path, root)
 
 
-# Seconds a second writer of the same baseline waits for the lock (RELIABILITY.md FI10).
+# Seconds a second writer of the same baseline waits for the lock (RELIABILITY.md FI10);
+# the environment variable SPECGUARD_LOCK_TIMEOUT (seconds, 0 to 3600) sets another wait.
 BASELINE_LOCK_TIMEOUT = 10.0
+LOCK_TIMEOUT_VARIABLE = "SPECGUARD_LOCK_TIMEOUT"
+
+
+def _lock_timeout() -> float:
+    """The lock wait in seconds; ValueError for a value that is not 0 to 3600."""
+    import math
+
+    raw = os.environ.get(LOCK_TIMEOUT_VARIABLE, "").strip()
+    if not raw:
+        return BASELINE_LOCK_TIMEOUT
+    try:
+        value = float(raw)
+    except ValueError:
+        value = math.nan
+    if not 0.0 <= value <= 3600.0:  # also false for nan
+        raise ValueError(f"{LOCK_TIMEOUT_VARIABLE} must be a number of seconds from 0 to 3600, "
+                         f"not {raw!r}")
+    return value
 
 
 def _write_baseline(report, path: Path, root: Path):
@@ -277,11 +459,17 @@ def _write_baseline(report, path: Path, root: Path):
         return report
     display = _display(path, root)
     try:
+        timeout = _lock_timeout()
+    except ValueError as exc:
+        return _fail(str(exc), "config-invalid")
+    try:
         written = bl.write(path, display, {r.file: r.findings for r in report.files}, root,
-                           lock_timeout=BASELINE_LOCK_TIMEOUT)
+                           lock_timeout=timeout)
     except bl.BaselineError as exc:
         return _located([exc.finding])
-    except (WriteError, LockTimeout) as exc:
+    except LockTimeout as exc:
+        return _fail(f"the baseline {display} was not written: {exc}", "output-error")
+    except WriteError as exc:
         return _fail(str(exc), "output-error")
     return apply_baseline(report, written, root)
 
@@ -305,11 +493,35 @@ def _main(argv: list[str] | None) -> int:
         else:
             root = find_root(Path.cwd())
         return _run_check(args, args.paths, root)
+    if args.command == "hook":
+        if not args.files:  # nothing staged that the hook's file filter passes
+            return EXIT_CLEAN
+        from .pipeline import find_root
+
+        if args.root is not None:
+            root = Path(args.root)
+            if not root.is_dir():
+                parser.error(f"--root {args.root}: not a directory")
+        else:
+            root = find_root(Path.cwd())
+
+        def select(wanted):
+            from .hook import select as pick
+
+            return pick(args.files, root, wanted)[0]
+
+        return _run_check(args, [], root, select=select)
+    if args.command == "compare":
+        from .compare import run_compare
+
+        return run_compare(args)
     if args.command == "demo":
         from .demo_data import demo_root
 
         root = demo_root()
         return _run_check(args, [str(root)], root)
+    if args.command == "figures":
+        return _run_figures(args)
     if args.command == "report":
         return _run_report(args)
     if args.command == "config":
@@ -373,6 +585,74 @@ def _run_config(args) -> int:
 
 
 # ---------------------------------------------------------------- report
+def _figures_parser(sub) -> None:
+    figures = sub.add_parser(
+        "figures",
+        help="print every figure of the specs (the numbers behind the findings)",
+        description="Print the figures of each spec: axis values and values per operating "
+        "point, with what could not be computed and why. Text shows readable units; JSON "
+        "holds SI values, names and units (layout: docs/figures.md).",
+    )
+    figures.add_argument("paths", nargs="+", metavar="PATH", help="spec files or directories")
+    figures.add_argument("--format", choices=("text", "json"), default="text")
+    figures.add_argument("--output", metavar="FILE", help="write to FILE (atomically)")
+    figures.add_argument("--root", metavar="DIR", help="repository root (as for check)")
+    figures.add_argument("--config", metavar="FILE", help="policy file (as for check)")
+
+
+def _run_figures(args) -> int:
+    """Exit 0 when every file gave its figures; 2 for unreadable inputs; 3 on a bug."""
+    from .atomic import WriteError, target_problem, write_atomic
+    from .pipeline import RunOptions, check_paths, find_root
+    from .report import figures_table
+
+    root = Path(args.root) if args.root else find_root(Path.cwd())
+    output = Path(args.output) if args.output else None
+    if output is not None and (problem := target_problem(output)) is not None:
+        return _fail(f"--output {output.as_posix()}: {problem}", "output-error")
+    args.no_waivers = False
+    policy = _load_policy(args, root)
+    if isinstance(policy, int):
+        return policy
+    config, pack = policy
+    options = RunOptions(config=config, pack=pack, today=_today())
+    report = check_paths(args.paths, root=root, debug=args.debug, options=options)
+    rendered = (figures_table.render_json if args.format == "json" else figures_table.render_text)(report)
+    if output is not None:
+        try:
+            write_atomic(output, rendered)
+        except WriteError as exc:
+            return _fail(str(exc), "output-error")
+    else:
+        _emit(rendered)
+    status = report.exit_status()
+    return status if status >= 2 else EXIT_CLEAN
+
+
+# --------------------------------------------------------------- compare
+def _compare_parser(sub) -> None:
+    compare = sub.add_parser(
+        "compare", help="design review: compare the specs at a git revision with the working "
+        "tree (figures changed, findings new and resolved)",
+        description="Compare the specs at REV (e.g. $(git merge-base origin/main HEAD)) with the "
+        "working tree. Both are checked with the working tree's policy. Exit status: 1 when the "
+        "working tree has new findings at or above the fail level, else 0; 2 for a bad revision, "
+        "not a git repository or an unreadable input.")
+    compare.add_argument("rev", metavar="REV", help="the git revision to compare against")
+    compare.add_argument("paths", nargs="*", metavar="PATH",
+                         help="spec files or directories (default: the whole repository)")
+    compare.add_argument("--format", choices=("text", "json", "markdown"), default="text",
+                         help="output format (default: text)")
+    compare.add_argument("--output", metavar="FILE",
+                         help="write the comparison to FILE (atomically) instead of standard output")
+    compare.add_argument("--config", metavar="FILE",
+                         help="policy file (default: .specguard.yaml at the root, when present)")
+    compare.add_argument("--no-waivers", action="store_true",
+                         help="ignore every waiver in the specs (strict mode)")
+    _common_options(compare)
+    _speed_options(compare)
+
+
 def _report_parser(sub) -> None:
     report = sub.add_parser(
         "report", help="check like 'check' and write a standalone HTML review report and/or a "
@@ -382,6 +662,7 @@ def _report_parser(sub) -> None:
     report.add_argument("--markdown", metavar="FILE", help="write the Markdown summary to FILE (atomically)")
     _common_options(report)
     _policy_options(report)
+    _speed_options(report, cache=False)
 
 
 def _generated_text() -> str | None:
@@ -437,7 +718,12 @@ def _run_report(args) -> int:
     denied = tuple(t for _, t in targets) + ((args.baseline,) if args.baseline else ())
     options = RunOptions(config=config, pack=pack, today=today, no_waivers=args.no_waivers,
                          baseline=baseline, strict_baseline=args.strict_baseline, denied=denied)
-    report = check_paths(args.paths, root=root, fail_level=fail_level, debug=args.debug, options=options)
+    progress = _Progress(enabled=False if args.quiet else None)
+    try:  # never from the result cache: the HTML plots need each spec's model
+        report = check_paths(args.paths, root=root, fail_level=fail_level, debug=args.debug,
+                             options=options, jobs=args.jobs, progress=progress)
+    finally:
+        progress.clear()
     status = report.exit_status()
     for option, target in targets:
         if option == "--html":
@@ -456,12 +742,70 @@ def _run_report(args) -> int:
     return status
 
 
+# Exit status after a signal, as shells report it: 128 + the signal number
+# (RELIABILITY.md, "The error contract": 130 on SIGINT, 143 on SIGTERM).
+EXIT_SIGINT, EXIT_SIGTERM = 130, 143
+
+
+class Interrupted(KeyboardInterrupt):
+    """SIGINT or SIGTERM in the main process. A KeyboardInterrupt, so it unwinds
+    through every ``finally`` and temp-file cleanup that lets KeyboardInterrupt
+    pass (it is no ``Exception``); :func:`main` then returns ``status``."""
+
+    def __init__(self, status: int) -> None:
+        super().__init__(status)
+        self.status = status
+
+
+def _signal_handlers(received: list[int]):
+    """Install handlers turning SIGINT and SIGTERM into :class:`Interrupted`;
+    return a function that puts the previous handlers back.
+
+    Only the first signal raises: a second one during the cleanup is remembered
+    in ``received`` (the highest status wins) and lets the cleanup finish. A
+    forked worker process that inherited the handler ends at once and quietly
+    (the parent reports). A signal the caller set to be ignored stays ignored.
+    """
+    import signal
+
+    main_pid = os.getpid()
+
+    def handler(signum, _frame):
+        status = 128 + signum
+        if os.getpid() != main_pid:
+            os._exit(status)
+        first = not received
+        received.append(status)
+        if first:
+            raise Interrupted(status)
+
+    previous = {}
+    for signum in (signal.SIGINT, signal.SIGTERM):
+        try:
+            if signal.getsignal(signum) is signal.SIG_IGN:
+                continue
+            previous[signum] = signal.signal(signum, handler)
+        except (ValueError, OSError):  # not the main thread, or not supported here
+            continue
+
+    def restore() -> None:
+        for signum, old in previous.items():
+            try:
+                signal.signal(signum, old)
+            except (ValueError, OSError):
+                pass
+
+    return restore
+
+
 def main(argv: list[str] | None = None) -> int:
     debug = "--debug" in (argv if argv is not None else sys.argv[1:])
+    received: list[int] = []
+    restore = _signal_handlers(received)
     try:
         return _main(argv)
-    except KeyboardInterrupt:
-        return 130
+    except KeyboardInterrupt as exc:  # Ctrl-C, SIGINT or SIGTERM: after the cleanup
+        return max([getattr(exc, "status", EXIT_SIGINT), *received])
     except Exception as exc:
         if debug:
             raise
@@ -470,6 +814,8 @@ def main(argv: list[str] | None = None) -> int:
             "specguard: this is a bug; run again with --debug for the traceback\n"
         )
         return EXIT_INTERNAL
+    finally:
+        restore()
 
 
 if __name__ == "__main__":  # pragma: no cover

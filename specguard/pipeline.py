@@ -113,7 +113,21 @@ def discover(paths: list[str], root: Path, wanted=None) -> list[tuple[Path, str 
     ``wanted(rel_path)`` (the policy's include/exclude) picks the files of a
     directory search; files named explicitly are always checked.
     """
-    out: dict[str, tuple[Path, str | None]] = {}
+    return [(path, error) for path, error, _rel, _inside in _discover(paths, root, wanted)]
+
+
+def _discover(paths: list[str], root: Path, wanted=None) -> list[tuple[Path, str | None, str, bool]]:
+    """:func:`discover` with each file's repo-relative path and whether it lies inside
+    the root (every path resolved once)."""
+    real_root = _real(root)
+
+    def rel_of(path: Path, real: Path) -> tuple[str, bool]:
+        try:
+            return real.relative_to(real_root).as_posix(), True
+        except ValueError:
+            return path.as_posix(), False
+
+    out: dict[str, tuple[Path, str | None, str, bool]] = {}
     for raw in paths:
         p = Path(raw)
         if p.is_dir():
@@ -121,21 +135,25 @@ def discover(paths: list[str], root: Path, wanted=None) -> list[tuple[Path, str 
             for dirpath, dirnames, filenames in os.walk(p):
                 dirnames[:] = sorted(d for d in dirnames if not d.startswith("."))
                 for name in sorted(filenames):
-                    found = Path(dirpath) / name
-                    if wanted is not None:
-                        if not wanted(relpath(found, root)):
-                            continue
-                    elif not name.endswith(SPEC_SUFFIXES):
+                    if wanted is None and not name.endswith(SPEC_SUFFIXES):
                         continue
-                    out.setdefault(str(_real(found)), (found, None))
+                    found = Path(dirpath) / name
+                    real = _real(found)
+                    rel, inside = rel_of(found, real)
+                    if wanted is not None and not wanted(rel):
+                        continue
+                    out.setdefault(str(real), (found, None, rel, inside))
             if len(out) == before:  # named explicitly but holding no spec: never a silent pass
                 out.setdefault(str(p.absolute()),
-                               (p, "no spec files (*.axis.yaml, *.axis.yml) in this directory"))
+                               (p, "no spec files (*.axis.yaml, *.axis.yml) in this directory",
+                                relpath(p, root), False))
         elif p.exists() or p.is_symlink():
-            out.setdefault(str(_real(p)), (p, None))
+            real = _real(p)
+            out.setdefault(str(real), (p, None, *rel_of(p, real)))
         else:
-            out.setdefault(str(p.absolute()), (p, "no such file or directory"))
-    return sorted(out.values(), key=lambda item: relpath(item[0], root))
+            out.setdefault(str(p.absolute()),
+                           (p, "no such file or directory", relpath(p, root), False))
+    return sorted(out.values(), key=lambda item: item[2])
 
 
 def _real(path: Path) -> Path:
@@ -152,20 +170,53 @@ def relpath(path: Path, root: Path) -> str:
 
 
 def check_file(path: Path, root: Path, cache=None, options: RunOptions | None = None) -> FileResult:
-    from .model import build
-    from .source import InputError, Limits, read_limited
-    from .source.library import LibraryCache, assemble
-
+    """Check one spec file (the library files it references are read through ``cache``)."""
     rel = relpath(path, root)
+    read = read_spec(path, root, rel, _inside(path, root))
+    if isinstance(read, FileResult):
+        return read
+    raw, size = read
+    return analyse(raw, size, path, rel, root, cache, options)[0]
+
+
+def _inside(path: Path, root: Path) -> bool:
     try:
         _real(path).relative_to(_real(root))
     except ValueError:
+        return False
+    return True
+
+
+def read_spec(path: Path, root: Path, rel: str, inside: bool):
+    """The spec's bytes and real size (read once: hash and parse use the same bytes,
+    RELIABILITY.md FI24), or a FileResult with the input error."""
+    from .source import InputError, Limits, read_limited
+
+    if not inside:
         return FileResult(rel, (), input_error=f"outside the repository root {root}")
-    limits = Limits()
     try:
-        raw, size = read_limited(path, limits)
+        return read_limited(path, Limits())
     except InputError as exc:
         return FileResult(rel, (), input_error=str(exc))
+
+
+# Findings that make a result unfit for the result cache: a reference problem can
+# go away without any file of the closure changing (a missing target appears).
+_NOT_CACHED = frozenset({"reference-invalid", "internal-error"})
+
+
+def analyse(raw: bytes, size: int, path: Path, rel: str, root: Path, cache=None,
+            options: RunOptions | None = None) -> tuple[FileResult, dict | None]:
+    """Analyse the bytes of one spec: (result, cache payload or None when not cacheable).
+
+    The payload holds the findings before the waivers, the figures, and the
+    spec's waivers with their locations, so waivers are applied after the cache.
+    """
+    from .model import build
+    from .source import Limits
+    from .source.library import LibraryCache, assemble
+
+    limits = Limits()
     denied = options.denied if options is not None else ()
     doc = assemble(raw, size, path, root, limits, cache or LibraryCache(limits), denied)
     findings = list(doc.findings)
@@ -177,15 +228,74 @@ def check_file(path: Path, root: Path, cache=None, options: RunOptions | None = 
     if spec is not None:
         rule_findings, figures = _rule_findings(spec, doc.locate, rel, options)
         findings.extend(rule_findings)
+    before = sorted(findings, key=Finding.sort_key)
     if spec is not None:
         findings = _apply_waivers(findings, spec, doc.locate, rel, options or RunOptions())
-    return FileResult(
+    result = FileResult(
         rel,
         tuple(sorted(findings, key=Finding.sort_key)),
         spec=spec,
         closure=tuple(doc.closure),
         figures=figures,
     )
+    payload = None
+    if size <= limits.max_bytes and not any(f.rule in _NOT_CACHED for f in before):
+        payload = _payload(before, figures, spec, doc.locate)
+    return result, payload
+
+
+_WAIVER_FIELDS = ("", "rule", "expires", "path")
+
+
+def _payload(before: list[Finding], figures, spec, locate) -> dict | None:
+    from .cache import Tables, _loc, figures_to_json, finding_to_json
+
+    tables = Tables()
+    waivers = []
+    locations = {}
+    if spec is not None:
+        for index, w in enumerate(getattr(spec, "waivers", ()) or ()):
+            waivers.append({k: getattr(w, k) for k in
+                            ("rule", "at", "path", "reason", "approved_by", "expires")})
+            for name in _WAIVER_FIELDS:
+                loc, related = locate(("waivers", index) + ((name,) if name else ()))
+                locations[f"{index}/{name}"] = [_loc(loc), [_loc(r) for r in related]]
+    findings = [finding_to_json(f, tables) for f in before]
+    return {
+        "tables": tables.dump(),
+        "findings": findings,
+        "figures": figures_to_json(figures),
+        "has_spec": spec is not None,
+        "waivers": waivers,
+        "waiver_locations": locations,
+    }
+
+
+def from_payload(rel: str, closure, payload: dict, options: RunOptions | None) -> FileResult:
+    """The FileResult of a cache entry: the stored findings with the waivers applied
+    now (today's date, --no-waivers). Raises on a malformed payload."""
+    from types import SimpleNamespace
+
+    from .cache import Tables, _unloc, figures_from_json, finding_from_json
+
+    tables = Tables(payload["tables"])
+    findings = [finding_from_json(d, tables) for d in payload["findings"]]
+    figures = figures_from_json(payload["figures"])
+    if payload["has_spec"]:
+        locations = payload["waiver_locations"]
+
+        def locate(path, key=False):
+            index = path[1]
+            name = path[2] if len(path) > 2 else ""
+            loc, related = locations[f"{index}/{name}"]
+            return _unloc(loc), tuple(_unloc(r) for r in related)
+
+        waivers = tuple(SimpleNamespace(**w) for w in payload["waivers"])
+        if waivers:
+            spec = SimpleNamespace(waivers=waivers)
+            findings = _apply_waivers(findings, spec, locate, rel, options or RunOptions())
+    return FileResult(rel, tuple(sorted(findings, key=Finding.sort_key)),
+                      closure=tuple((a, b) for a, b in closure), figures=figures)
 
 
 def _rule_findings(spec, locate, rel: str, options: RunOptions | None) -> tuple[list[Finding], object]:
@@ -212,11 +322,31 @@ def _rule_findings(spec, locate, rel: str, options: RunOptions | None) -> tuple[
                         "(run with --debug for the traceback)", loc)], figures
 
 
+_OVERRIDES_MEMO: dict[int, tuple[object, dict]] = {}
+
+
 def _overrides(rel: str, options: RunOptions | None) -> dict:
-    """The policy's per-rule overrides for one file (empty without a policy)."""
+    """The policy's per-rule overrides for one file (empty without a policy).
+
+    They depend on the file only through the per-path entries it matches, so
+    they are computed once per distinct set of matching entries."""
     if options is None or options.config is None:
         return {}
-    return options.config.for_file(rel)
+    config = options.config
+    held = _OVERRIDES_MEMO.get(id(config))
+    if held is None or held[0] is not config:
+        if len(_OVERRIDES_MEMO) > 8:
+            _OVERRIDES_MEMO.clear()
+        held = (config, {})
+        _OVERRIDES_MEMO[id(config)] = held
+    paths = getattr(config, "paths", None)
+    if paths is None:
+        return config.for_file(rel)
+    signature = tuple(i for i, entry in enumerate(paths) if entry.regex.match(rel))
+    memo = held[1]
+    if signature not in memo:
+        memo[signature] = config.for_file(rel)
+    return memo[signature]
 
 
 def _apply_waivers(findings: list[Finding], spec, locate, rel: str, options: RunOptions) -> list[Finding]:
@@ -235,36 +365,104 @@ def check_paths(
     fail_level: str = "error",
     debug: bool = False,
     options: RunOptions | None = None,
+    jobs: int | None = 1,
+    result_cache=None,
+    progress=None,
 ) -> Report:
     """Check files and directories; never raises for bad input (InputPathError aside).
 
     ``options`` carries the policy (config, rule pack), the waiver date and mode
     and the baseline; without it no policy, waivers or baseline apply.
+    ``jobs``: worker processes for the files not found in ``result_cache``
+    (a :class:`specguard.cache.ResultCache`); None picks the number of CPUs when
+    more than :data:`PARALLEL_MIN_FILES` files need analysis. ``progress(done,
+    total)`` is called as files complete. The report is the same whatever the
+    jobs, the cache or the argument order.
     """
-    from .source import Limits, parser_path
-    from .source.library import LibraryCache
+    from .source import parser_path
 
     root = root or find_root(Path.cwd())
-    cache = LibraryCache(Limits())
-    results: list[FileResult] = []
     wanted = options.config.wanted if options is not None and options.config is not None else None
-    for path, error in discover(paths, root, wanted):
+    found = _discover(paths, root, wanted)
+    results: list[FileResult | None] = [None] * len(found)
+    work: list[tuple[int, Path, str, bytes, int, str | None]] = []
+    for index, (path, error, rel, inside) in enumerate(found):
         if error is not None:
-            results.append(FileResult(relpath(path, root), (), input_error=error))
+            results[index] = FileResult(rel, (), input_error=error)
             continue
-        try:
-            results.append(check_file(path, root, cache, options))
-        except (KeyboardInterrupt, SystemExit):
-            raise
-        except Exception as exc:  # a bug: report it as a finding, exit 3
-            if debug:
-                raise
-            results.append(internal_error(relpath(path, root), exc))
+        read = read_spec(path, root, rel, inside)
+        if isinstance(read, FileResult):
+            results[index] = read
+            continue
+        raw, size = read
+        key = None
+        if result_cache is not None:
+            import hashlib
+
+            sha = hashlib.sha256(raw).hexdigest()
+            key = result_cache.key(rel, sha, policy_text(rel, options))
+            payload = result_cache.lookup(key, rel, sha)
+            if payload is not None:
+                try:
+                    results[index] = from_payload(rel, payload["closure"], payload, options)
+                    continue
+                except (KeyboardInterrupt, SystemExit):
+                    raise
+                except Exception:
+                    result_cache.damaged += 1
+        work.append((index, path, rel, raw, size, key))
+    total = len(found)
+    done = total - len(work)
+    if progress is not None:
+        progress(done, total)
+    from .parallel import run_work
+
+    for index, result in run_work(work, root, options, debug, jobs, result_cache):
+        results[index] = result
+        done += 1
+        if progress is not None:
+            progress(done, total)
     rules = rule_docs(options.pack) if options is not None and options.pack is not None else ()
     report = Report(tuple(results), fail_level=fail_level, parser=parser_path(), rules=rules)
     if options is not None and options.baseline is not None:
         report = apply_baseline(report, options.baseline, root, options.strict_baseline)
     return report
+
+
+# Below this many files to analyse, a run stays in one process (start-up of the
+# workers costs more than it saves).
+PARALLEL_MIN_FILES = 8
+
+
+def policy_text(rel: str, options: RunOptions | None) -> str:
+    """The effective policy for one file as text, for the cache key."""
+    overrides = _overrides(rel, options)
+    held = _POLICY_TEXT.get(id(overrides))
+    if held is None or held[0] is not overrides:
+        held = (overrides, repr(sorted((k, repr(v)) for k, v in overrides.items())))
+        _POLICY_TEXT[id(overrides)] = held
+    return held[1]
+
+
+_POLICY_TEXT: dict[int, tuple[dict, str]] = {}
+
+
+def analyse_one(path: Path, rel: str, raw: bytes, size: int, root: Path, cache,
+                options: RunOptions | None, debug: bool, result_cache=None,
+                key: str | None = None) -> FileResult:
+    """Analyse one read spec, turning a bug into an internal-error finding, and
+    store a cacheable result."""
+    try:
+        result, payload = analyse(raw, size, path, rel, root, cache, options)
+    except (KeyboardInterrupt, SystemExit):
+        raise
+    except Exception as exc:  # a bug: report it as a finding, exit 3
+        if debug:
+            raise
+        return internal_error(rel, exc)
+    if result_cache is not None and key is not None and payload is not None:
+        result_cache.store(key, rel, result.closure, payload)
+    return result
 
 
 def apply_baseline(report: Report, baseline, root: Path, strict: bool = False) -> Report:

@@ -116,3 +116,10 @@ def test_integral_numbers_agree(value):
     data["motor"]["pole_pairs"] = value
     assert list(Draft202012Validator(spec_schema()).iter_errors(data)) == []
     assert run(data)[0] is not None
+
+
+def test_committed_figures_reference_is_current():
+    from specguard.schema import figures_reference
+
+    committed = (ROOT / "docs" / "figures.md").read_text(encoding="utf-8")
+    assert committed == figures_reference() + "\n", "run: python -m specguard.schema"

@@ -25,7 +25,10 @@ def shown_path(path: str) -> str:
     """A file path as the first thing on a line: controls escaped, and never
     starting with ':' (CI logs read lines starting with '::' as commands)."""
     text = escape_controls(path)
-    return "./" + text if text.startswith(":") else text
+    # The runner trims leading whitespace before it looks for "::", so a name that
+    # starts with a space, a tab or another blank gets the prefix too; so does one
+    # starting with '#' ("##[error]", "##[group]" are log commands as well).
+    return "./" + text if text[:1] in (":", "#") or text[:1].isspace() else text
 
 
 def finding_line(finding, colour: bool = False) -> str:
@@ -51,7 +54,7 @@ def render(report, colour: bool = False) -> str:
     for finding in report.findings:
         lines.append(finding_line(finding, colour))
         for rel in finding.related:
-            lines.append(f"    {escape_controls(rel.file)}:{rel.line}:{rel.column}: related location")
+            lines.append(f"    {shown_path(rel.file)}:{rel.line}:{rel.column}: related location")
         for remedy in finding.remedies:
             lines.append(f"    fix: {escape_controls(remedy)}")
     lines.append(summary(report))

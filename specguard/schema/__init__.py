@@ -201,3 +201,66 @@ def rules_reference(pack=None) -> str:
         if rule.remedies:
             lines += ["**Remedies computed.**", "", *(f"- {REMEDIES[name]}" for name in rule.remedies), ""]
     return "\n".join(lines)
+
+
+def figures_reference() -> str:
+    """The figure catalogue and the JSON layout of `specguard figures` (Markdown)."""
+    from ..figures.registry import FIGURES, REMEDIES
+    from ..report.figures_table import FIGURES_FORMAT
+
+    lines = [
+        "# Figures: the numbers behind the findings",
+        "",
+        "Generated from `specguard/figures/registry.py` by `python -m specguard.schema`;",
+        "do not edit by hand. `specguard figures SPEC` prints them as a table;",
+        "`specguard figures --format json SPEC` prints everything in SI.",
+        "",
+        "## Catalogue",
+        "",
+        "Axis figures have one value per spec, point figures one value per operating",
+        "point. Ratios are plain numbers (1 = 100 %); flags are true or false. A figure",
+        "the spec lacks the inputs for is absent and listed under `missing` with the",
+        "reason; no value is ever guessed.",
+        "",
+        "| name | scope | SI unit | meaning | spec paths |",
+        "|---|---|---|---|---|",
+    ]
+    for f in FIGURES:
+        unit = f.unit or "flag"
+        paths = ", ".join("`/" + "/".join(str(p) for p in path) + "`" for path in f.paths)
+        lines.append(f"| `{f.name}` | {f.scope} | {unit} | {f.meaning} | {paths} |")
+    lines += [
+        "",
+        "## Remedies",
+        "",
+        "| name | meaning |",
+        "|---|---|",
+    ]
+    lines += [f"| `{name}` | {meaning} |" for name, meaning in REMEDIES.items()]
+    lines += [
+        "",
+        f"## JSON layout (`figures_format`: {FIGURES_FORMAT})",
+        "",
+        "```",
+        "{",
+        f'  "figures_format": {FIGURES_FORMAT},',
+        '  "tool": {"name": "specguard", "version": "..."},',
+        '  "definitions": [{"name", "unit", "dimension", "scope", "meaning", "paths": ["/motor/..."]}],',
+        '  "files": [{',
+        '    "file": "specs/lift.axis.yaml",          # repository-relative',
+        '    "input_error": null,                      # or why the file could not be read',
+        '    "figures": {                              # null when the spec did not validate',
+        '      "axis":    [{"name", "value", "unit"}],  # SI values, sorted by name',
+        '      "points":  [{"name": "<operating point>", "figures": [{"name", "value", "unit"}]}],',
+        '      "missing": [{"name", "reason"}],',
+        '      "notes":   [{"name", "note"}]',
+        "    }",
+        "  }]",
+        "}",
+        "```",
+        "",
+        "The same `figures` object appears per file in the JSON report of `specguard check",
+        "--format json`. The format number changes when a key is renamed or removed; new",
+        "figures may appear without a change of the number.",
+    ]
+    return "\n".join(lines)

@@ -33,3 +33,8 @@ if importlib.util.find_spec("specguard.pack") is None:
 (ROOT / "schemas" / RULE_SCHEMA_FILE).write_text(dumps(rule_schema()), encoding="utf-8")
 (ROOT / "docs" / "rules.md").write_text(rules_reference() + "\n", encoding="utf-8")
 print("wrote schemas/" + RULE_SCHEMA_FILE + " and docs/rules.md")
+
+from . import figures_reference  # noqa: E402
+
+(ROOT / "docs" / "figures.md").write_text(figures_reference() + "\n", encoding="utf-8")
+print("wrote docs/figures.md")

@@ -1,0 +1,106 @@
+"""Pre-commit mode: which specs to check for a set of changed files.
+
+A changed spec is checked. A changed library file is not checked on its own: every
+spec of the repository whose reference closure holds it (directly or through a
+chain of ``from:`` references) is checked instead, so editing a shared motor
+file cannot pass the hook while it breaks an axis that uses it (RELIABILITY.md
+FI20, §7.2). Any other file is ignored.
+
+Finding the referencing specs must be fast, so the repository's specs (the
+policy's include/exclude patterns) and the library files they lead to are not
+parsed: their ``from:`` values are picked out of the text with a regular
+expression. The scan over-approximates (a ``from:`` in a comment counts too),
+which costs at most an extra spec checked, never a missed one; the check itself
+resolves references with the full, confined loader.
+"""
+
+from __future__ import annotations
+
+import os
+import re
+from pathlib import Path
+
+# `from: x`, `"from": 'x'`, and `{from: x, ...}` in flow mappings.
+_FROM = re.compile(
+    rb"""(?:^|[\s{,])["']?from["']?[ \t]*:[ \t]*(?:"([^"\n]*)"|'([^'\n]*)'|([^\s,}#'"][^\s,}#]*))""",
+    re.MULTILINE,
+)
+_SCAN_CAP = 4 * 1024 * 1024  # bytes read per file for the scan
+
+
+def _references(real_file: str, real_root: str) -> list[str]:
+    """Real paths named by the ``from:`` values of one file (inside the root only)."""
+    try:
+        with open(real_file, "rb") as fh:
+            data = fh.read(_SCAN_CAP)
+    except OSError:
+        return []
+    base = os.path.dirname(real_file)
+    out = []
+    for match in _FROM.finditer(data):
+        raw = match.group(1) or match.group(2) or match.group(3) or b""
+        try:
+            ref = raw.decode("utf-8")
+        except UnicodeDecodeError:
+            continue
+        if not ref or "\0" in ref:
+            continue
+        target = os.path.realpath(os.path.normpath(os.path.join(base, ref)))
+        if target == real_root or target.startswith(real_root + os.sep):
+            out.append(target)
+    return out
+
+
+def referencing_specs(changed: list[str], specs: list[Path], root: Path) -> list[Path]:
+    """The specs among ``specs`` whose reference closure holds a file of ``changed``
+    (real paths)."""
+    real_root = os.path.realpath(root)
+    targets = set(changed)
+    memo: dict[str, list[str]] = {}
+
+    def refs(real: str) -> list[str]:
+        if real not in memo:
+            memo[real] = _references(real, real_root)
+        return memo[real]
+
+    hit: list[Path] = []
+    for spec in specs:
+        seen: set[str] = set()
+        stack = [os.path.realpath(spec)]
+        found = False
+        while stack and not found:
+            current = stack.pop()
+            for target in refs(current):
+                if target in targets:
+                    found = True
+                    break
+                if target not in seen and len(seen) < 256:
+                    seen.add(target)
+                    stack.append(target)
+        if found:
+            hit.append(spec)
+    return hit
+
+
+def select(files: list[str], root: Path, wanted) -> tuple[list[str], int]:
+    """The spec files to check for the changed ``files``: (paths, number of changed
+    library files). ``wanted(rel)`` is the policy's include/exclude test."""
+    from .pipeline import discover, relpath
+
+    chosen: dict[str, str] = {}
+    others: list[str] = []
+    for name in files:
+        rel = relpath(Path(name), root)
+        if wanted(rel):
+            chosen.setdefault(os.path.realpath(name), name)
+        elif os.path.isfile(name):
+            others.append(os.path.realpath(name))
+    libraries = 0
+    if others:
+        specs = [p for p, error in discover([str(root)], root, wanted) if error is None]
+        users = referencing_specs(others, specs, root)
+        for spec in users:
+            chosen.setdefault(os.path.realpath(spec), str(spec))
+        if users:
+            libraries = len(others)
+    return sorted(chosen.values()), libraries

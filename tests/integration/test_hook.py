@@ -1,0 +1,71 @@
+"""`specguard hook FILE...`: the pre-commit mode (RELIABILITY.md FI20, §7.2)."""
+
+from __future__ import annotations
+
+import subprocess
+import sys
+
+from .conftest import specguard
+
+HEAVY = ("pydantic", "ruamel", "numpy", "jsonschema", "specguard.engine", "specguard.model")
+
+
+def test_no_files_exits_zero_without_loading_the_checker(demo_repo):
+    code = ("import sys; from specguard.cli import main; status = main(['hook']); "
+            f"print(status, sorted({{m.split('.')[0] if not m.startswith('specguard') else m for m in sys.modules}} & set({HEAVY!r})))")
+    done = subprocess.run([sys.executable, "-c", code], cwd=demo_repo, capture_output=True, text=True)
+    assert done.stdout.strip() == "0 []", done.stdout + done.stderr
+    assert specguard(demo_repo, "hook").returncode == 0
+
+
+def test_given_spec_is_checked(demo_repo):
+    done = specguard(demo_repo, "hook", "axes/sample-lift.axis.yaml")
+    assert done.returncode == 1
+    assert "axes/sample-lift.axis.yaml:22:5: error:" in done.stdout
+    assert "pipette-x" not in done.stdout and "in 1 file" in done.stdout
+
+
+def test_library_file_checks_every_spec_using_it(demo_repo):
+    done = specguard(demo_repo, "hook", "library/chokes/choke-47uh-6a.yaml")
+    assert done.returncode == 1
+    assert "axes/sample-lift.axis.yaml" in done.stdout  # the only axis with this choke
+    assert "pipette-x" not in done.stdout and "carousel" not in done.stdout
+    assert "in 1 file" in done.stdout
+
+
+def test_library_reached_through_a_chain(demo_repo):
+    lib = demo_repo / "library" / "motors"
+    base = lib / "coreless-22mm-24v.yaml"
+    variant = lib / "variant.yaml"
+    variant.write_text("format: 1\nmotor:\n  from: coreless-22mm-24v.yaml\n  rated_current: 1.8 A\n",
+                       encoding="utf-8")
+    spec = demo_repo / "axes" / "sample-lift.axis.yaml"
+    spec.write_text(spec.read_text(encoding="utf-8").replace(
+        "from: ../library/motors/coreless-22mm-24v.yaml", "from: ../library/motors/variant.yaml"),
+        encoding="utf-8")
+    done = specguard(demo_repo, "hook", str(base.relative_to(demo_repo)))
+    assert "axes/sample-lift.axis.yaml" in done.stdout and "in 1 file" in done.stdout
+
+
+def test_flow_mapping_reference_is_found(demo_repo):
+    spec = demo_repo / "axes" / "pipette-x.axis.yaml"
+    text = spec.read_text(encoding="utf-8")
+    assert "motor:\n  from: ../library/motors/coreless-13mm-12v.yaml\n" in text
+    spec.write_text(text.replace("motor:\n  from: ../library/motors/coreless-13mm-12v.yaml\n",
+                                 "motor: {from: '../library/motors/coreless-13mm-12v.yaml'}\n"),
+                    encoding="utf-8")
+    done = specguard(demo_repo, "hook", "library/motors/coreless-13mm-12v.yaml")
+    assert "axes/pipette-x.axis.yaml" in done.stdout
+
+
+def test_unreferenced_yaml_is_ignored_silently(demo_repo):
+    (demo_repo / "library" / "notes.yaml").write_text("anything: [1, 2\n", encoding="utf-8")
+    done = specguard(demo_repo, "hook", "library/notes.yaml")
+    assert (done.returncode, done.stdout, done.stderr) == (0, "", "")
+
+
+def test_spec_and_its_library_reported_once(demo_repo):
+    done = specguard(demo_repo, "hook", "axes/sample-lift.axis.yaml",
+                     "library/motors/coreless-22mm-24v.yaml", "library/chokes/choke-47uh-6a.yaml")
+    assert "in 1 file" in done.stdout
+    assert done.stdout.count("[choke-saturation]") == 1
