@@ -131,7 +131,7 @@ def _discover(paths: list[str], root: Path, wanted=None) -> list[tuple[Path, str
     for raw in paths:
         p = Path(raw)
         if p.is_dir():
-            before = len(out)
+            matched = 0
             for dirpath, dirnames, filenames in os.walk(p):
                 dirnames[:] = sorted(d for d in dirnames if not d.startswith("."))
                 for name in sorted(filenames):
@@ -142,10 +142,11 @@ def _discover(paths: list[str], root: Path, wanted=None) -> list[tuple[Path, str
                     rel, inside = rel_of(found, real)
                     if wanted is not None and not wanted(rel):
                         continue
+                    matched += 1
                     out.setdefault(str(real), (found, None, rel, inside))
-            if len(out) == before:  # named explicitly but holding no spec: never a silent pass
+            if matched == 0:  # named explicitly but holding no spec: never a silent pass
                 out.setdefault(str(p.absolute()),
-                               (p, "no spec files (*.axis.yaml, *.axis.yml) in this directory",
+                               (p, "no spec files matching the search patterns in this directory",
                                 relpath(p, root), False))
         elif p.exists() or p.is_symlink():
             real = _real(p)

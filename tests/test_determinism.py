@@ -117,11 +117,6 @@ def test_argument_order(fixture, order):
         assert runner.run(repo, "html", list(reversed(HTML_FILES))) == base["html"]
 
 
-@pytest.mark.xfail(
-    strict=True,
-    reason="pipeline discovery: a directory named after all its "
-    "specs were named one by one reports 'no spec files in this directory' (exit 2)",
-)
 def test_directory_named_after_its_files(fixture):
     repo, files, runner, base = fixture
     assert runner.run(repo, "json", [*files, "axes"]) == base["json"]
