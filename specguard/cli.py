@@ -282,8 +282,13 @@ def _load_policy(args, root: Path):
     path = _config_path(args, root)
     if path is not None and not path.is_file():
         return _fail(f"--config {path.as_posix()}: no such file", "config-invalid")
+    pack_cache = None
+    if not getattr(args, "no_cache", True):  # commands with a cache keep the parsed pack there too
+        from .cache import default_dir
+
+        pack_cache = args.cache_dir or default_dir()
     try:
-        return load_policy(path, root)
+        return load_policy(path, root, pack_cache)
     except ConfigError as exc:
         return _located(exc.findings)
 

@@ -266,12 +266,12 @@ import os
 TARGET = {target!r}
 try:
     import specguard.pipeline as _p
-    _discover = _p.discover
+    _discover = _p._discover  # what check_paths calls (discover() wraps it)
     def discover(*args, **kwargs):
         found = _discover(*args, **kwargs)
         os.unlink(TARGET)  # the file goes away between discovery and read
         return found
-    _p.discover = discover
+    _p._discover = discover
 except Exception as exc:  # make a broken injection visible
     print("corpus injection failed:", exc)
 """

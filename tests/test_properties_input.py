@@ -234,14 +234,12 @@ def valid_spec(draw):
     if draw(st.booleans()):
         spec["load"] = {"inertia": draw(_q("inertia", 0.0, 1.0))}
     names = draw(st.lists(_name(), min_size=1, max_size=4, unique=True))
-    # No point asks for exactly zero torque: a point at standstill with zero torque
-    # (zero terminal voltage) crashes the supply-window physics and the ripple
-    # remedy today (see the strict xfails test_all_points_idle_supply_window and
-    # test_idle_point_ripple_remedy below); the generator keeps clear of that known
-    # bug so that the property can find others.
+    # Zero torque at standstill (zero terminal voltage) was a bug this property found;
+    # it is pinned by test_all_points_idle_supply_window and
+    # test_idle_point_ripple_remedy below, and the generator now reaches it too.
     spec["operating_points"] = [
         {"name": n, "speed": draw(_q("speed", 0.0, 2000.0)),
-         "torque": draw(_q("torque", 1e-3 if i == 0 else 1e-4, 5.0)),
+         "torque": draw(_q("torque", 0.0, 5.0)),
          "ambient": draw(_q("temperature", 253.15, 333.15))} for i, n in enumerate(names)
     ]
     if draw(st.booleans()):
@@ -328,19 +326,11 @@ IDLE_SPEC = {
 }
 
 
-@pytest.mark.xfail(strict=True, reason=(
-    "bug found by property (c): with every operating point at zero speed and zero torque the "
-    "terminal voltage is 0, and physics.operating.supply_voltage_max_ripple divides by a zero "
-    "bracket (v_floor = 0): ZeroDivisionError -> internal-error, exit 3"))
 def test_all_points_idle_supply_window(repo):
     result = run((to_yaml(IDLE_SPEC) + "\n").encode("utf-8"), repo)
     assert_no_internal_error(result)
 
 
-@pytest.mark.xfail(strict=True, reason=(
-    "same bug through the remedy path: a standstill point with zero torque plus a ripple finding "
-    "there makes the supply_voltage_for_ripple remedy call supply_voltage_max_ripple with a zero "
-    "terminal voltage: ZeroDivisionError -> internal-error in rule ripple-over-rated-current"))
 def test_idle_point_ripple_remedy(repo):
     spec = json.loads(json.dumps(IDLE_SPEC))
     spec["motor"]["rated_current"] = "0.125 A"
@@ -374,10 +364,16 @@ def test_generator_produces_both_motor_types():
 #    `text-encoding`, raw or escaped as \\u001f (policy: no controls in spec text);
 #  * scalars above 64 KiB, or more nodes than the budget, are `yaml-limit`;
 #  * duplicate keys (`yaml-key`) cannot occur here: Python dicts have none.
+def _json_containers(children):
+    return st.one_of(
+        st.lists(children, max_size=5), st.dictionaries(st.text(max_size=8), children, max_size=5)
+    )
+
+
 json_values = st.recursive(
     st.none() | st.booleans() | st.integers(-(2**53), 2**53)
     | st.floats(allow_nan=False, allow_infinity=False) | st.text(max_size=20),
-    lambda children: st.lists(children, max_size=5) | st.dictionaries(st.text(max_size=8), children, max_size=5),
+    _json_containers,
     max_leaves=25,
 )
 

@@ -231,7 +231,7 @@ def catalogue_from_pack(pack) -> dict[str, RuleFacts]:
     return out
 
 
-def load_policy(config_path: Path | None, root: Path):
+def load_policy(config_path: Path | None, root: Path, pack_cache: str | None = None):
     """The effective policy and the rule pack it selects (built-in rules plus the
     config's ``extra_rule_dirs``). Raises :class:`ConfigError` for a bad config or
     a bad rule file of the team; a bad built-in rule file is a bug and raises
@@ -242,10 +242,10 @@ def load_policy(config_path: Path | None, root: Path):
 
     def catalogue_for(extra_dirs: tuple[Path, ...]) -> dict[str, RuleFacts]:
         if not extra_dirs:
-            packs.append(load_pack(()))
+            packs.append(load_pack((), pack_cache))
         else:
             try:
-                packs.append(load_pack(extra_dirs))
+                packs.append(load_pack(extra_dirs, pack_cache))
             except PackError as exc:
                 raise ConfigError([_pack_problem(line, root) for line in exc.problems]) from None
         return catalogue_from_pack(packs[-1])

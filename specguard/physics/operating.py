@@ -382,6 +382,14 @@ def supply_voltage_max_ripple(
     legs = hbridge.switching_leg_count(scheme)
     drop = terminal_voltage + current * series_resistance
     dead = legs * dead_time * pwm_frequency
+    if not xp.vector and drop <= 0.0:
+        # No voltage needed (standstill without torque): m_op = dead for every V, and
+        # the exact ripple at a fixed duty is proportional to V (its K = (V1 - V2)/R),
+        # so the bound follows from the ripple at 1 V; none when that ripple is zero.
+        per_volt = hbridge.ripple_peak_to_peak(1.0, inductance, resistance, pwm_frequency, dead, scheme)
+        return ripple_limit / per_volt if per_volt > 0.0 else xp.inf
+    # (arrays: a zero drop is lifted to a tiny positive one, same limit to first order)
+    drop = xp.maximum(drop, 1e-12) if xp.vector else drop
     v_floor = drop / (1.0 - dead)  # m_op = 1 there: zero ripple
 
     def ripple(volts):

@@ -6,7 +6,6 @@ invented, not physics check values."""
 from __future__ import annotations
 
 import math
-import time
 
 import pytest
 
@@ -390,8 +389,8 @@ def test_internal_error_maps_to_exit_3():
 
 
 # ------------------------------------------------------------ speed
-def test_whole_pack_on_ten_points_is_fast(spec_locate):
-    """DESIGN.md 'Speed': all rules on 10 operating points in at most 5 ms (warm)."""
+def test_whole_pack_builds_every_finding_on_ten_points(spec_locate):
+    """Every rule trips on 10 points at once without an internal error."""
     from specguard.figures.registry import FIGURE_DEFS
 
     pack = load_pack()
@@ -418,17 +417,7 @@ def test_whole_pack_on_ten_points_is_fast(spec_locate):
         (axis if fdef.scope == "axis" else point)[name] = v
     figs = figures(axis=axis, points={f"p{i}": dict(point) for i in range(10)})
     remedy = fake_remedy()
-    evaluate(spec, figs, locate, pack, remedy=remedy)  # warm up
-    timings = []
-    for _ in range(30):
-        t0 = time.perf_counter()
-        out = evaluate(spec, figs, locate, pack, remedy=remedy)
-        timings.append(time.perf_counter() - t0)
-    timings.sort()
+    out = evaluate(spec, figs, locate, pack, remedy=remedy)
+    # the timing of this worst case lives in benchmarks/bench_rules.py
     assert len([f for f in out if f.rule != "rule-not-applicable"]) > 60
     assert not [f for f in out if f.rule == "internal-error"]
-    median = timings[len(timings) // 2]
-    print(
-        f"\nwhole pack, 10 points: median {median * 1e3:.2f} ms, best {timings[0] * 1e3:.2f} ms, {len(out)} findings"
-    )
-    assert median < 0.005
