@@ -45,6 +45,19 @@ _SUBDIR = f"results-v{CACHE_FORMAT}"
 _READ_CAP = 16 * 1024 * 1024  # an entry larger than this is damaged
 
 
+def make_dirs(top: str, directory: str) -> None:
+    """Create ``directory`` under the cache's ``top``; a new top gets a ``.gitignore``
+    of ``*``, so a cache placed inside a work tree never shows in git status."""
+    fresh = not os.path.isdir(top)
+    os.makedirs(directory, exist_ok=True)
+    if fresh:
+        try:
+            with open(os.path.join(top, ".gitignore"), "x") as fh:
+                fh.write("# specguard cache\n*\n")
+        except OSError:
+            pass
+
+
 def default_dir(environ=None) -> str:
     """``$SPECGUARD_CACHE_DIR``, else ``$XDG_CACHE_HOME/specguard``, else
     ``~/.cache/specguard``: outside every repository's tracked files."""
@@ -308,15 +321,7 @@ class ResultCache:
             self.write_problem = str(exc)
 
     def _make_dirs(self, directory: str) -> None:
-        fresh = not os.path.isdir(self.top)
-        os.makedirs(directory, exist_ok=True)
-        if fresh:
-            # A cache placed inside a work tree by --cache-dir never shows in git status.
-            try:
-                with open(os.path.join(self.top, ".gitignore"), "x") as fh:
-                    fh.write("# specguard result cache\n*\n")
-            except OSError:
-                pass
+        make_dirs(self.top, directory)
 
     def warnings(self) -> list[str]:
         out = []

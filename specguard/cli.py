@@ -349,18 +349,11 @@ def _emit(text: str) -> None:
         os.close(devnull)
 
 
-def _run_check(args, paths: list[str], root: Path, select=None) -> int:
-    from .atomic import target_problem
-    from .pipeline import RunOptions, check_paths
-    from .report import text
+def _prepare_run(args, root: Path, denied: tuple):
+    """(config, fail level, RunOptions) for check and report, or an exit status after
+    printing the problem: policy, --fail-level, baseline, waiver date, denied files."""
+    from .pipeline import RunOptions
 
-    # Everything that can make the run a tool error is checked before any analysis.
-    output = Path(args.output) if args.output else None
-    write_baseline = Path(args.write_baseline) if getattr(args, "write_baseline", None) else None
-    for option, target in (("--output", output), ("--write-baseline", write_baseline)):
-        problem = target_problem(target) if target is not None else None
-        if problem is not None:
-            return _fail(f"{option} {target.as_posix()}: {problem}", "output-error")
     policy = _load_policy(args, root)
     if isinstance(policy, int):
         return policy
@@ -377,15 +370,34 @@ def _run_check(args, paths: list[str], root: Path, select=None) -> int:
             baseline = load(path, _display(path, root))
         except BaselineError as exc:
             return _located([exc.finding])
+        denied += (path,)
     try:
         today = _today()
     except ValueError as exc:
         return _fail(str(exc), "config-invalid")
-    denied = tuple(p for p in (output, write_baseline, getattr(args, "baseline", None)) if p)
-    denied += _cache_dir_denied(args)
     options = RunOptions(config=config, pack=pack, today=today,
                          no_waivers=getattr(args, "no_waivers", False), baseline=baseline,
                          strict_baseline=getattr(args, "strict_baseline", False), denied=denied)
+    return config, fail_level, options
+
+
+def _run_check(args, paths: list[str], root: Path, select=None) -> int:
+    from .atomic import target_problem
+    from .pipeline import check_paths
+    from .report import text
+
+    # Everything that can make the run a tool error is checked before any analysis.
+    output = Path(args.output) if args.output else None
+    write_baseline = Path(args.write_baseline) if getattr(args, "write_baseline", None) else None
+    for option, target in (("--output", output), ("--write-baseline", write_baseline)):
+        problem = target_problem(target) if target is not None else None
+        if problem is not None:
+            return _fail(f"{option} {target.as_posix()}: {problem}", "output-error")
+    denied = tuple(p for p in (output, write_baseline) if p) + _cache_dir_denied(args)
+    prepared = _prepare_run(args, root, denied)
+    if isinstance(prepared, int):
+        return prepared
+    config, fail_level, options = prepared
     if select is not None:  # pre-commit mode: the specs to check for the changed files
         paths = select(config.wanted)
         if not paths:
@@ -683,7 +695,7 @@ def _generated_text() -> str | None:
 def _run_report(args) -> int:
     """`specguard report PATH... --html FILE --markdown FILE`: the check of `check`, other outputs."""
     from .atomic import WriteError, target_problem, write_atomic
-    from .pipeline import RunOptions, check_paths, find_root
+    from .pipeline import check_paths, find_root
     from .report import text
 
     targets = [(opt, Path(value)) for opt, value in (("--html", args.html), ("--markdown", args.markdown)) if value]
@@ -701,28 +713,10 @@ def _run_report(args) -> int:
             return _fail(f"--root {args.root}: not a directory", "input-unreadable")
     else:
         root = find_root(Path.cwd())
-    policy = _load_policy(args, root)
-    if isinstance(policy, int):
-        return policy
-    config, pack = policy
-    fail_level = args.fail_level or config.fail_level.value
-    if args.fail_level:
-        config = config.with_fail_level(args.fail_level, "--fail-level")
-    baseline = None
-    if args.baseline:
-        from .engine.baseline import BaselineError, load
-
-        try:
-            baseline = load(Path(args.baseline), _display(Path(args.baseline), root))
-        except BaselineError as exc:
-            return _located([exc.finding])
-    try:
-        today = _today()
-    except ValueError as exc:
-        return _fail(str(exc), "config-invalid")
-    denied = tuple(t for _, t in targets) + ((args.baseline,) if args.baseline else ())
-    options = RunOptions(config=config, pack=pack, today=today, no_waivers=args.no_waivers,
-                         baseline=baseline, strict_baseline=args.strict_baseline, denied=denied)
+    prepared = _prepare_run(args, root, tuple(t for _, t in targets))
+    if isinstance(prepared, int):
+        return prepared
+    config, fail_level, options = prepared
     progress = _Progress(enabled=False if args.quiet else None)
     try:  # never from the result cache: the HTML plots need each spec's model
         report = check_paths(args.paths, root=root, fail_level=fail_level, debug=args.debug,

@@ -63,9 +63,9 @@ def run_work(work, root, options, debug, jobs, result_cache):
         jobs = default_jobs() if len(work) > PARALLEL_MIN_FILES else 1
     jobs = max(1, min(jobs, len(work)))
     if jobs == 1:
+        from .pipeline import analyse_one
         from .source import Limits
         from .source.library import LibraryCache
-        from .pipeline import analyse_one
 
         libs = LibraryCache(Limits())
         for index, path, rel, raw, size, key in work:

@@ -193,7 +193,6 @@ def _pack_cache_file(directory: str, blobs) -> str:
     import os
 
     from .. import __version__
-
     from . import pack as pack_module
 
     digest = hashlib.sha256(f"{PACK_CACHE_FORMAT}\0{__version__}\0".encode())
@@ -227,13 +226,15 @@ def _write_pack_cache(path: str, rules: list[PackRule]) -> None:
     import os
 
     from ..atomic import WriteError, write_atomic
+    from ..cache import make_dirs
 
     document = {
         "pack_cache_format": PACK_CACHE_FORMAT,
         "rules": [{"source": r.source, "rule": r.rule.model_dump(mode="json")} for r in rules],
     }
     try:
-        os.makedirs(os.path.dirname(path), exist_ok=True)
+        folder = os.path.dirname(path)
+        make_dirs(os.path.dirname(folder), folder)
         write_atomic(Path(path), json.dumps(document, sort_keys=True))
     except (OSError, WriteError):
         pass  # the cache is an optimisation only

@@ -10,8 +10,8 @@ is ever guessed.
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass, field
-from typing import Mapping
 
 from .registry import FIGURE_DEFS, REMEDIES, FigureDef
 

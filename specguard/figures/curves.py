@@ -33,7 +33,6 @@ from typing import NamedTuple
 import numpy as np
 
 from specguard.physics import hbridge, operating, remedies, thermal, threephase
-from specguard.physics import rms as rms_mod
 
 # Spec scheme -> (family, physics scheme or strategy name).
 _SCHEMES: dict[str, tuple[str, str]] = {

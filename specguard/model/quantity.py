@@ -10,7 +10,7 @@ with a pattern built from the accepted units, plus ``x-dimension`` and
 from __future__ import annotations
 
 import re
-from functools import lru_cache
+from functools import cache
 from typing import Annotated, Any
 
 from pydantic import AfterValidator, BeforeValidator, WithJsonSchema
@@ -21,7 +21,7 @@ from . import units
 _NUMBER = r"[+-]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]+)?"
 
 
-@lru_cache(maxsize=None)
+@cache
 def unit_pattern(dimension: str) -> str:
     """An anchored regular expression for the accepted spellings (both micro signs)."""
     spellings: set[str] = set()

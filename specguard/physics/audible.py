@@ -8,9 +8,7 @@ phase-shifted unipolar scheme ``2 f_pwm``; its common-mode voltage still carries
 
 from __future__ import annotations
 
-from specguard.physics._num import np
-
-from specguard.physics._num import is_scalar
+from specguard.physics._num import is_scalar, np
 
 __all__ = [
     "AUDIBLE",

@@ -8,10 +8,8 @@ from __future__ import annotations
 
 import math
 
-from specguard.physics._num import np
-
 from specguard.physics import hbridge
-from specguard.physics._num import namespace
+from specguard.physics._num import namespace, np
 
 __all__ = [
     "VACUUM_PERMEABILITY",

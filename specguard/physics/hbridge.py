@@ -37,9 +37,7 @@ from __future__ import annotations
 import math
 from typing import NamedTuple
 
-from specguard.physics._num import np
-
-from specguard.physics._num import namespace
+from specguard.physics._num import namespace, np
 
 __all__ = [
     "SCHEMES",

@@ -12,9 +12,7 @@ import bisect
 import math
 from typing import NamedTuple
 
-from specguard.physics._num import np
-
-from specguard.physics._num import is_scalar
+from specguard.physics._num import is_scalar, np
 
 __all__ = [
     "DEFAULT_DERATING_FACTOR",

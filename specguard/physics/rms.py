@@ -7,9 +7,7 @@ locally constant current; for the exact exponential waveform use
 
 from __future__ import annotations
 
-from specguard.physics._num import np
-
-from specguard.physics._num import namespace
+from specguard.physics._num import namespace, np
 from specguard.physics.inductance import series_resistance_at_frequency
 
 __all__ = [

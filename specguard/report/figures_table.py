@@ -14,7 +14,8 @@ import math
 from .. import __version__
 from ..figures.registry import FIGURE_DEFS, FIGURES
 from ..model.units import format_si
-from .json_report import dumps, figures as figures_json
+from .json_report import dumps
+from .json_report import figures as figures_json
 from .safe import escape_controls
 
 FIGURES_FORMAT = 1

@@ -18,7 +18,8 @@ import os
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from ..findings import Finding, Location, dotted as _dotted
+from ..findings import Finding, Location
+from ..findings import dotted as _dotted
 from . import Limits, LoadResult, ReferenceProblem, load_bytes, open_reference
 
 REFERENCE_KEY = "from"

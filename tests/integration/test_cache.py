@@ -19,7 +19,8 @@ FORMATS = ("text", "json", "sarif")
 
 
 def entries(cache: Path) -> list[Path]:
-    return sorted(cache.rglob("*.json"))
+    """Result entries (the parsed rule pack kept beside them under pack-v*/ is not one)."""
+    return sorted(p for p in cache.rglob("*.json") if not p.relative_to(cache).parts[0].startswith("pack-v"))
 
 
 def outputs(repo: Path, *extra: str) -> dict[str, tuple[int, str]]:
