@@ -802,7 +802,10 @@ def main(argv: list[str] | None = None) -> int:
     received: list[int] = []
     restore = _signal_handlers(received)
     try:
-        return _main(argv)
+        status = _main(argv)
+        # The signal's exception can be swallowed where Python ignores exceptions
+        # (e.g. in a fork hook while workers start); the status still says it came.
+        return max([status, *received])
     except KeyboardInterrupt as exc:  # Ctrl-C, SIGINT or SIGTERM: after the cleanup
         return max([getattr(exc, "status", EXIT_SIGINT), *received])
     except Exception as exc:

@@ -26,7 +26,27 @@ def default_jobs() -> int:
         return max(1, os.cpu_count() or 1)
 
 
+def _block_signals():
+    import signal
+
+    wanted = {signal.SIGINT, signal.SIGTERM}
+    if not hasattr(signal, "pthread_sigmask"):
+        return None
+    return signal.pthread_sigmask(signal.SIG_BLOCK, wanted)
+
+
+def _unblock_signals(previous) -> None:
+    import signal
+
+    if previous is not None:
+        signal.pthread_sigmask(signal.SIG_SETMASK, previous)
+
+
 def _init(root, options, debug, cache_settings) -> None:
+    import signal
+
+    if hasattr(signal, "pthread_sigmask"):  # forked while the parent blocked them
+        signal.pthread_sigmask(signal.SIG_UNBLOCK, {signal.SIGINT, signal.SIGTERM})
     from .source import Limits
     from .source.library import LibraryCache
 
@@ -86,8 +106,16 @@ def run_work(work, root, options, debug, jobs, result_cache):
     pending = {}
     with ProcessPoolExecutor(max_workers=jobs, mp_context=context, initializer=_init,
                              initargs=(root, options, debug, settings)) as pool:
-        for chunk in chunks:
-            pending[pool.submit(_run_chunk, chunk)] = chunk
+        # Workers are forked while the chunks are submitted. A SIGINT/SIGTERM handler
+        # that raised inside the interpreter's fork hooks would be swallowed
+        # ("Exception ignored in ..."), so the signals wait until the submissions are
+        # done and then arrive at a safe point; the workers unblock them in _init.
+        blocked = _block_signals()
+        try:
+            for chunk in chunks:
+                pending[pool.submit(_run_chunk, chunk)] = chunk
+        finally:
+            _unblock_signals(blocked)
         for future in as_completed(pending):
             try:
                 results, problem = future.result()
