@@ -275,15 +275,8 @@ def _electrical(spec: Spec, ax: _Axis, speed: float, torque: float) -> dict[str,
     no_load = motor.no_load_current or 0.0
     kt, ke = _constants(spec)
     if ax.topology in ("dc", "six-step"):
-        if ax.topology == "dc":
-            current = P.operating.current_for_torque(torque, kt, no_load)
-            emf_constant = ke
-        else:
-            # two phases conduct: E_ll on the flat top = 2 E_ph,peak; T = k_e,ll I
-            # for ideal 120-degree blocks (PHYSICS.md §4.2)
-            emf_constant = 2.0 * ke
-            kt_block = motor.torque_constant.value if motor.torque_constant.current == "block" else emf_constant
-            current = P.operating.current_for_torque(torque, kt_block, no_load)
+        emf_constant = _loop_emf_constant(spec)
+        current = P.operating.current_for_torque(torque, _torque_constant_model(spec), no_load)
         emf = P.operating.back_emf(emf_constant, speed)
         v_term = P.operating.terminal_voltage_dc(emf_constant, speed, current, ax.motor_resistance_hot)
         m = P.operating.modulation_required(
@@ -764,12 +757,23 @@ COPPER_RESISTIVITY_20 = 1.724e-8  # ohm*m, annealed copper at 20 degC (IEC 60028
 KELVIN_25C = 298.15
 
 
+def _loop_emf_constant(spec: Spec) -> float:
+    """Back-EMF constant of the current loop [V*s/rad]: the terminal constant (dc),
+    the flat-top line-to-line constant 2 k_e,ph,peak for six-step (two phases
+    conduct, PHYSICS.md §4.2), or the peak phase constant (sinusoidal)."""
+    _kt, ke = _constants(spec)
+    if spec.motor.type == "three-phase" and spec.stage.pwm.scheme.startswith("six-step"):
+        return 2.0 * ke
+    return ke
+
+
 def _torque_constant_model(spec: Spec) -> float:
     """Torque per ampere of the current the figures call ``current`` (dc, block or phase rms)."""
-    kt, ke = _constants(spec)
+    kt, _ke = _constants(spec)
     motor = spec.motor
     if motor.type == "three-phase" and spec.stage.pwm.scheme.startswith("six-step"):
-        return motor.torque_constant.value if motor.torque_constant.current == "block" else 2.0 * ke
+        # T = k_e,ll I for ideal 120-degree blocks (PHYSICS.md §4.2) unless a block constant is given
+        return motor.torque_constant.value if motor.torque_constant.current == "block" else _loop_emf_constant(spec)
     return kt
 
 
@@ -850,7 +854,10 @@ def _plausibility(spec, ax, elec, rows, axis, missing):
 
     # mechanics: mechanical time constant, inertia ratio, speeds
     if motor.rotor_inertia is not None:
-        axis["mechanical_time_constant"] = motor.rotor_inertia * ax.loss_resistance_20 / (kt * kt)
+        # tau_m = R J / (k_t k_e) with k_e = k_t in SI for the current the figures use
+        axis["mechanical_time_constant"] = float(
+            P.control.mechanical_time_constant(ax.loss_resistance_20, motor.rotor_inertia, kt, kt)
+        )
         if spec.load is not None:
             axis["inertia_ratio"] = spec.load.inertia / motor.rotor_inertia
         else:
@@ -858,13 +865,11 @@ def _plausibility(spec, ax, elec, rows, axis, missing):
     else:
         lack(("mechanical_time_constant", "inertia_ratio"), "the spec does not give motor.rotor_inertia")
     v_high = _highest_supply(spec)
-    kt_m, ke_m = _constants(spec)
-    if ax.topology == "dc":
-        no_load = v_high / ke_m
-    elif ax.topology == "six-step":
-        no_load = v_high / (2.0 * ke_m)
+    if ax.topology in ("dc", "six-step"):
+        no_load = v_high / _loop_emf_constant(spec)
     else:
-        no_load = float(P.operating.phase_voltage_peak_max(v_high, ax.scheme, ax.max_duty, ax.dead_time, ax.f_leg)) / ke_m
+        peak = P.operating.phase_voltage_peak_max(v_high, ax.scheme, ax.max_duty, ax.dead_time, ax.f_leg)
+        no_load = float(peak) / _loop_emf_constant(spec)
     speeds = [p.speed for p in spec.operating_points]
     profile_speeds = [s.speed for s in spec.profile.segments] if spec.profile is not None else []
     if motor.max_speed is not None:
