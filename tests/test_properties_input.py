@@ -301,7 +301,7 @@ def test_generated_valid_specs_pass_loader_and_model(spec):
 @FULL_SETTINGS
 @given(spec=valid_spec())
 def test_generated_valid_specs_through_the_pipeline(repo, spec):
-    """Fewer examples through the whole pipeline (figures and 75 rules cost ~100 ms
+    """Fewer examples through the whole pipeline (figures and 76 rules cost ~100 ms
     on some generated specs): no loader or schema finding, figures computed, no
     internal error."""
     raw = (to_yaml(spec) + "\n").encode("utf-8")

@@ -858,12 +858,21 @@ def _plausibility(spec, ax, elec, rows, axis, missing):
         axis["mechanical_time_constant"] = float(
             P.control.mechanical_time_constant(ax.loss_resistance_20, motor.rotor_inertia, kt, kt)
         )
+        if motor.mechanical_time_constant is not None:
+            tau = axis["mechanical_time_constant"]
+            axis["mechanical_time_constant_mismatch"] = (
+                abs(motor.mechanical_time_constant - tau) / max(tau, 1e-300)
+            )
+        else:
+            missing["mechanical_time_constant_mismatch"] = (
+                "the spec does not give motor.mechanical_time_constant")
         if spec.load is not None:
             axis["inertia_ratio"] = spec.load.inertia / motor.rotor_inertia
         else:
             missing["inertia_ratio"] = "the spec gives no load.inertia"
     else:
-        lack(("mechanical_time_constant", "inertia_ratio"), "the spec does not give motor.rotor_inertia")
+        lack(("mechanical_time_constant", "mechanical_time_constant_mismatch", "inertia_ratio"),
+             "the spec does not give motor.rotor_inertia")
     v_high = _highest_supply(spec)
     if ax.topology in ("dc", "six-step"):
         no_load = v_high / _loop_emf_constant(spec)

@@ -202,6 +202,11 @@ FIGURES: tuple[FigureDef, ...] = (
     _d("mechanical_time_constant", "time", "s", "axis",
        "mechanical time constant of the unloaded motor: rotor inertia times loss resistance over the torque constant squared",
        "motor/rotor_inertia", "motor/terminal_resistance", "motor/torque_constant"),
+    _d("mechanical_time_constant_mismatch", "ratio", "1", "axis",
+       "relative difference between the declared (catalogue) mechanical time constant and the one "
+       "computed from rotor inertia, loss resistance and torque constant",
+       "motor/mechanical_time_constant", "motor/rotor_inertia", "motor/terminal_resistance",
+       "motor/torque_constant"),
     _d("inertia_ratio", "ratio", "1", "axis", "load inertia divided by rotor inertia",
        "load/inertia", "motor/rotor_inertia"),
     _d("speed_ratio", "ratio", "1", "point", "speed at the operating point divided by the motor's maximum speed",

@@ -226,6 +226,13 @@ class Motor(_Model):
     rotor_inertia: PositiveInertia | None = Field(
         None, description="rotor moment of inertia"
     )
+    mechanical_time_constant: Duration | None = Field(
+        None,
+        description=(
+            "catalogue mechanical time constant of the unloaded motor; checked against "
+            "the rotor inertia, resistance and torque constant"
+        ),
+    )
     thermal: Thermal | None = Field(None, description="thermal data")
 
 
