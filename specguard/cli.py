@@ -399,7 +399,7 @@ def _run_check(args, paths: list[str], root: Path, select=None) -> int:
         return prepared
     config, fail_level, options = prepared
     if select is not None:  # pre-commit mode: the specs to check for the changed files
-        paths = select(config.wanted)
+        paths = select(config)
         if not paths:
             return EXIT_CLEAN
     result_cache = _result_cache(args, root, config)
@@ -522,10 +522,12 @@ def _main(argv: list[str] | None) -> int:
         else:
             root = find_root(Path.cwd())
 
-        def select(wanted):
+        def select(config):
             from .hook import select as pick
 
-            return pick(args.files, root, wanted)[0]
+            policy = _config_path(args, root)
+            return pick(args.files, root, config.wanted, (policy,) if policy is not None else (),
+                        tuple(config.extra_rule_paths))[0]
 
         return _run_check(args, [], root, select=select)
     if args.command == "compare":

@@ -4,7 +4,10 @@ A changed spec is checked. A changed library file is not checked on its own: eve
 spec of the repository whose reference closure holds it (directly or through a
 chain of ``from:`` references) is checked instead, so editing a shared motor
 file cannot pass the hook while it breaks an axis that uses it (RELIABILITY.md
-FI20, §7.2). Any other file is ignored.
+FI20, §7.2). A changed policy file (the ``.specguard.yaml`` in force, or the ``--config`` file) or
+a changed file inside one of its ``extra_rule_dirs`` can change the outcome of every
+spec, so it makes the hook check every spec the policy picks up. Any other file is
+ignored.
 
 Finding the referencing specs must be fast, so the repository's specs (the
 policy's include/exclude patterns) and the library files they lead to are not
@@ -82,19 +85,36 @@ def referencing_specs(changed: list[str], specs: list[Path], root: Path) -> list
     return hit
 
 
-def select(files: list[str], root: Path, wanted) -> tuple[list[str], int]:
+def _is_policy(real: str, policy_files: tuple[str, ...], rule_dirs: tuple[str, ...]) -> bool:
+    if real in policy_files:
+        return True
+    return any(real.startswith(d.rstrip(os.sep) + os.sep) for d in rule_dirs)
+
+
+def select(files: list[str], root: Path, wanted, policy_files: tuple[Path, ...] = (),
+           rule_dirs: tuple[Path, ...] = ()) -> tuple[list[str], int]:
     """The spec files to check for the changed ``files``: (paths, number of changed
-    library files). ``wanted(rel)`` is the policy's include/exclude test."""
+    library files). ``wanted(rel)`` is the policy's include/exclude test;
+    ``policy_files`` and ``rule_dirs`` are the policy file in force and its team rule
+    directories: a change to one of them selects every spec."""
     from .pipeline import discover, relpath
 
+    real_policy = tuple(os.path.realpath(p) for p in policy_files)
+    real_dirs = tuple(os.path.realpath(d) for d in rule_dirs)
     chosen: dict[str, str] = {}
     others: list[str] = []
+    policy_changed = False
     for name in files:
         rel = relpath(Path(name), root)
-        if wanted(rel):
-            chosen.setdefault(os.path.realpath(name), name)
+        real = os.path.realpath(name)
+        if _is_policy(real, real_policy, real_dirs):
+            policy_changed = True
+        elif wanted(rel):
+            chosen.setdefault(real, name)
         elif os.path.isfile(name):
-            others.append(os.path.realpath(name))
+            others.append(real)
+    if policy_changed:  # every spec the policy picks up, as `specguard check ROOT` finds them
+        return [str(root)], 0
     libraries = 0
     if others:
         specs = [p for p, error in discover([str(root)], root, wanted) if error is None]

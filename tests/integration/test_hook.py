@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import json
 import subprocess
 import sys
 
@@ -69,3 +70,45 @@ def test_spec_and_its_library_reported_once(demo_repo):
                      "library/motors/coreless-22mm-24v.yaml", "library/chokes/choke-47uh-6a.yaml")
     assert "in 1 file" in done.stdout
     assert done.stdout.count("[choke-saturation]") == 1
+
+
+def _policy_repo(repo):
+    """The demo repository with a policy file and a team rule directory of its own."""
+    import shutil
+
+    from .conftest import REPO
+
+    shutil.copytree(REPO / "examples" / "team-rules", repo / "team-rules")
+    (repo / ".specguard.yaml").write_text("format: 1\nextra_rule_dirs: [team-rules]\n", encoding="utf-8")
+    return repo
+
+
+def test_staged_policy_file_checks_every_spec(demo_repo):
+    repo = _policy_repo(demo_repo)
+    done = specguard(repo, "hook", "--format", "json", ".specguard.yaml")
+    # a policy change can change the outcome of any spec: all three demo axes
+    checked = sorted(f["file"] for f in json.loads(done.stdout)["files"])
+    assert checked == ["axes/carousel.axis.yaml", "axes/pipette-x.axis.yaml", "axes/sample-lift.axis.yaml"]
+    assert done.returncode == 1  # sample-lift has errors
+
+
+def test_staged_team_rule_checks_every_spec(demo_repo):
+    repo = _policy_repo(demo_repo)
+    done = specguard(repo, "hook", "team-rules/pwm-medical-minimum.yaml")
+    assert "in 3 files" in done.stdout, done.stdout + done.stderr
+
+
+def test_yaml_outside_the_policy_dirs_is_still_ignored(demo_repo):
+    repo = _policy_repo(demo_repo)
+    (repo / "notes").mkdir()
+    (repo / "notes" / "team-rules.yaml").write_text("x: 1\n", encoding="utf-8")
+    done = specguard(repo, "hook", "notes/team-rules.yaml")
+    assert (done.returncode, done.stdout, done.stderr) == (0, "", "")
+
+
+def test_config_option_names_the_policy_file(demo_repo):
+    (demo_repo / "gate.yaml").write_text("format: 1\nfail_level: warning\n", encoding="utf-8")
+    done = specguard(demo_repo, "hook", "--config", "gate.yaml", "gate.yaml")
+    assert "in 3 files" in done.stdout, done.stdout + done.stderr
+    # without --config the same file is just an unreferenced YAML file
+    assert specguard(demo_repo, "hook", "gate.yaml").stdout == ""
