@@ -16,7 +16,9 @@ The entry stores the spec's reference closure (every library file read, with
 its sha256). A lookup is a hit only when every closure file still has that
 hash; each library file is hashed at most once per run (``_digests``). So an
 edited motor file invalidates every axis using it (FI20), and an edit that
-keeps the mtime is still seen (FI19).
+keeps the mtime is still seen (FI19). A reference that reached its file through
+a symbolic link is stored with the path it named; the lookup is a miss when
+that path now leads elsewhere (a repointed link changes no file's hash).
 
 Waivers are applied after the cache: an entry holds the findings before the
 waivers, plus the spec's waivers and their locations, so a waiver that expires
@@ -263,6 +265,14 @@ class ResultCache:
         self._digests[rel] = digest
         return digest
 
+    def _resolved(self, named: str) -> str | None:
+        """The repo-relative real path ``named`` leads to now (None when it leaves the root)."""
+        real = os.path.realpath(os.path.join(self.root, named))
+        real_root = os.path.realpath(self.root)
+        if not real.startswith(real_root.rstrip(os.sep) + os.sep):
+            return None
+        return os.path.relpath(real, real_root).replace(os.sep, "/")
+
     def lookup(self, key: str, rel: str, spec_sha: str):
         """The stored payload (a dict) when the entry is whole and its closure unchanged."""
         path = self._path(key)
@@ -287,6 +297,11 @@ class ResultCache:
             payload = entry["result"]
             if not isinstance(payload, dict):
                 raise ValueError("no result")
+            links = entry.get("links", [])
+            if not isinstance(links, list) or not all(
+                isinstance(x, list) and len(x) == 2 and all(isinstance(p, str) for p in x) for x in links
+            ):
+                raise ValueError("bad links")
         except Exception:
             self.damaged += 1
             self.misses += 1
@@ -296,15 +311,20 @@ class ResultCache:
             if self._digest(crel) != csha:
                 self.misses += 1
                 return None
+        for named, target in links:  # a repointed symbolic link leaves every hash unchanged
+            if self._resolved(named) != target:
+                self.misses += 1
+                return None
         self.hits += 1
         payload["closure"] = closure
         return payload
 
-    def store(self, key: str, rel: str, closure, payload: dict) -> None:
+    def store(self, key: str, rel: str, closure, payload: dict, links=()) -> None:
         if self.write_problem is not None:
             return
         entry = {"cache_format": CACHE_FORMAT, "key": key, "file": rel,
-                 "closure": [list(c) for c in closure], "result": payload}
+                 "closure": [list(c) for c in closure], "links": [list(x) for x in links],
+                 "result": payload}
         try:
             text = json.dumps(entry, ensure_ascii=True, separators=(",", ":"))
         except (TypeError, ValueError) as exc:  # not representable: just don't cache

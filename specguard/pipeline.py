@@ -29,6 +29,7 @@ class FileResult:
     spec: object | None = None  # specguard.model.Spec when it was built
     closure: tuple[tuple[str, str], ...] = ()
     input_error: str | None = None  # set when the file could not be read (exit 2)
+    links: tuple[tuple[str, str], ...] = ()  # references reached through a symbolic link
     figures: object | None = None  # specguard.figures.FigureSet when computed
 
 
@@ -238,6 +239,7 @@ def analyse(raw: bytes, size: int, path: Path, rel: str, root: Path, cache=None,
         spec=spec,
         closure=tuple(doc.closure),
         figures=figures,
+        links=tuple(doc.links),
     )
     payload = None
     if size <= limits.max_bytes and not any(f.rule in _NOT_CACHED for f in before):
@@ -462,7 +464,7 @@ def analyse_one(path: Path, rel: str, raw: bytes, size: int, root: Path, cache,
             raise
         return internal_error(rel, exc)
     if result_cache is not None and key is not None and payload is not None:
-        result_cache.store(key, rel, result.closure, payload)
+        result_cache.store(key, rel, result.closure, payload, result.links)
     return result
 
 

@@ -15,6 +15,7 @@ from __future__ import annotations
 
 import hashlib
 import os
+import posixpath
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -47,6 +48,9 @@ class Document:
     via: dict[Path_, Location] = field(default_factory=dict)
     # every file read for this document: (repo-relative path, sha256 hex)
     closure: list[tuple[str, str]] = field(default_factory=list)
+    # references that reach their file through a symbolic link: (the path as named,
+    # repo-relative without resolving links; the closure path it resolved to)
+    links: list[tuple[str, str]] = field(default_factory=list)
     parser: str = ""
 
     def locate(self, path: Path_, *, key: bool = False) -> tuple[Location, tuple[Location, ...]]:
@@ -100,6 +104,13 @@ def _rel(root: Path, path: Path) -> str:
         return path.resolve().relative_to(root.resolve()).as_posix()
     except ValueError:
         return path.as_posix()
+
+
+def _named_rel(root: Path, referencing, ref: str) -> str:
+    """The repo-relative path a reference names, symbolic links left unresolved."""
+    base = os.path.dirname(os.path.abspath(os.fspath(referencing)))
+    named = os.path.normpath(os.path.join(base, posixpath.normpath(ref)))
+    return Path(os.path.relpath(named, os.path.abspath(os.fspath(root)))).as_posix()
 
 
 def _index(doc: Document, result: LoadResult, file: str, prefix: Path_, strip: int) -> None:
@@ -204,6 +215,9 @@ class _Closure:
             return None
         real = os.path.realpath(target)
         target_rel = _rel(self.root, target)
+        named = _named_rel(self.root, referencing, ref)
+        if named != target_rel and (named, target_rel) not in self.doc.links:
+            self.doc.links.append((named, target_rel))
         if real in chain:
             names = [_rel(self.root, Path(c)) for c in chain] + [target_rel]
             self._fail("reference cycle: " + " -> ".join(names), at)

@@ -95,6 +95,39 @@ def test_library_change_invalidates_the_specs_using_it(demo_repo, cache_env):
     assert warm.stdout != first  # ten times the choke inductance: other ripple figures
 
 
+@pytest.mark.skipif(not hasattr(os, "symlink") or sys.platform == "win32", reason="needs symbolic links")
+@pytest.mark.parametrize("link", ["file", "directory"])
+def test_repointed_symbolic_link_invalidates(demo_repo, cache_env, link):
+    """A library file or folder reached through a symbolic link and then repointed:
+    no file's content changes, yet the spec now reads other data."""
+    chokes = demo_repo / "library" / "chokes"
+    original = chokes / "choke-47uh-6a.yaml"
+    bigger = chokes / "choke-470uh.yaml"
+    bigger.write_text(original.read_text(encoding="utf-8").replace("47 uH", "470 uH"), encoding="utf-8")
+    spec = demo_repo / "axes" / "sample-lift.axis.yaml"
+    if link == "file":
+        pointer = chokes / "current.yaml"
+        os.symlink("choke-47uh-6a.yaml", pointer)
+        ref, swap = "../library/chokes/current.yaml", lambda: (pointer.unlink(), os.symlink("choke-470uh.yaml", pointer))
+    else:
+        (demo_repo / "variants" / "a").mkdir(parents=True)
+        (demo_repo / "variants" / "b").mkdir()
+        (demo_repo / "variants" / "a" / "choke.yaml").write_text(original.read_text(encoding="utf-8"), encoding="utf-8")
+        (demo_repo / "variants" / "b" / "choke.yaml").write_text(bigger.read_text(encoding="utf-8"), encoding="utf-8")
+        pointer = demo_repo / "variants" / "current"
+        os.symlink("a", pointer)
+        ref, swap = "../variants/current/choke.yaml", lambda: (pointer.unlink(), os.symlink("b", pointer))
+    text = spec.read_text(encoding="utf-8")
+    spec.write_text(text.replace("../library/chokes/choke-47uh-6a.yaml", ref), encoding="utf-8")
+    first = specguard(demo_repo, "check", ".", "--format", "json")
+    assert "choke-saturation" in first.stdout
+    swap()
+    warm = specguard(demo_repo, "check", ".", "--format", "json")
+    cold = specguard(demo_repo, "check", ".", "--format", "json", "--no-cache")
+    assert warm.stdout == cold.stdout
+    assert warm.stdout != first.stdout  # ten times the choke inductance
+
+
 def test_policy_rule_pack_and_version_changes_invalidate(demo_repo, cache_env, tmp_path):
     from specguard import cache as rc
 
