@@ -135,6 +135,61 @@ def test_e5_svpwm_worst_ripple():
     assert fs.value("constant_mismatch") == pytest.approx(0.0, abs=1e-9)
 
 
+def _e5_axis(scheme="space-vector", points=None):
+    data = copy.deepcopy(E4)
+    data["motor"].update(
+        {
+            "type": "three-phase",
+            "terminal_inductance": {"value": "200 uH", "measured_at": "20 kHz"},
+            "torque_constant": {"value": f"{0.05 * math.sqrt(3):.12f} N*m/A", "current": "phase-rms"},
+            "back_emf_constant": {"value": "0.05 V*s/rad", "voltage": "line-to-line-rms"},
+            "pole_pairs": 4,
+        }
+    )
+    data["stage"]["supply"]["voltage"] = "48 V"
+    data["stage"]["pwm"]["scheme"] = scheme
+    if points is not None:
+        data["operating_points"] = points
+    return data
+
+
+@pytest.mark.parametrize("scheme", ["space-vector", "sinusoidal"])
+def test_three_phase_supply_window_top_is_the_ripple_edge(scheme):
+    """The window's upper end for a three-phase axis is the supply at which the
+    highest point's maximum peak-to-peak ripple reaches the window's ripple limit,
+    20 % of the rated current (PHYSICS.md §7.4 [H]). Check: the figures computed
+    again with the supply set there show that ripple (the forward closed form read
+    back through the whole pipeline), 5 % above it more and 5 % below it less."""
+    points = [
+        {"name": "slow", "speed": "300 rpm", "torque": "0.05 N*m", "ambient": "25 degC"},
+        {"name": "fast", "speed": "1500 rpm", "torque": "0.05 N*m", "ambient": "25 degC"},
+    ]
+    data = _e5_axis(scheme, points)
+    data["motor"]["rated_current"] = "5 A"
+    top = figures_of(data).value("supply_max")
+    assert top is not None and 10.0 < top < 48.0, top
+    for factor, above in ((1.0, None), (1.05, True), (0.95, False)):
+        moved = copy.deepcopy(data)
+        moved["stage"]["supply"]["voltage"] = f"{top * factor:.9f} V"
+        fs = figures_of(moved)
+        worst = max(fs.value("ripple_pp", name) for name in ("slow", "fast"))
+        if above is None:
+            assert worst == pytest.approx(0.2 * 5.0, rel=1e-6)
+        else:
+            assert (worst > 1.0) == above
+
+
+def test_three_phase_supply_window_has_no_ripple_top_when_ripple_stays_low():
+    """With four times the inductance the ripple can never reach 20 % of the rated
+    current (its supremum a/(2 L_ph f), PHYSICS.md §2.3): only the duty floor bounds
+    the window, at 2 V_ph / 0.2."""
+    data = _e5_axis(points=[{"name": "p", "speed": "1000 rpm", "torque": "0.05 N*m", "ambient": "25 degC"}])
+    data["motor"]["terminal_inductance"]["value"] = "800 uH"
+    fs = figures_of(data)
+    v_ph = fs.value("terminal_voltage", "p") / math.sqrt(3)
+    assert fs.value("supply_max") == pytest.approx(2 * v_ph / 0.2, rel=1e-9)
+
+
 def test_inconsistent_constants_show():
     # k_e given in V/krpm where V*s/rad was meant: x 104.72 (PHYSICS.md §4.4)
     data = copy.deepcopy(E4)

@@ -481,9 +481,14 @@ def _supply_window(spec, ax, elec, settings, axis, missing):
         v_ph = worst["phase_voltage_peak"]
         v_min = float(P.operating.supply_voltage_min_sinusoidal(v_ph, ax.scheme, ax.max_duty, ax.dead_time, ax.f_leg))
         v_min *= 1.0 + settings.reserve_fraction
-        # duty floor only: M = 2 V_ph / V >= floor (the ripple bound of the
-        # three-phase case is not part of the window yet)
+        # duty floor: M = 2 V_ph / V >= floor at the most demanding point
         v_max = min(ceiling, 2.0 * v_ph / settings.modulation_floor) if v_ph > 0 else ceiling
+        # ripple: the maximum peak-to-peak phase ripple rises with the supply at a
+        # fixed operating point (PHYSICS.md §2.3); every point must stay within it
+        limit = settings.ripple_limit_ratio * rated
+        for e in elec:
+            v_max = min(v_max, P.threephase.supply_voltage_max_for_phase_ripple(
+                e["phase_voltage_peak"], ax.inductance, ax.f_leg, ax.scheme, limit))
     axis["supply_min"] = v_min
     if math.isfinite(v_max):
         axis["supply_max"] = v_max
@@ -687,11 +692,26 @@ def remedy(name: str, spec: Spec, figures: FigureSet, *, point: str | None, limi
         note = " (re-check the inductance there)" if spec.motor.inductance_vs_frequency else ""
         return Remedy(name, f"raise the PWM frequency to at least {_fmt(value, 'frequency')} per leg{note}", float(value), "Hz")
     if name == "supply_voltage_for_ripple":
-        if three:
+        if three and point is not None:
+            point_values = next(values for n, values in figures.points if n == point)
+            phase_peak = float(point_values["terminal_voltage"]) / SQRT3  # peak line-to-line / sqrt3
+            value = P.threephase.supply_voltage_max_for_phase_ripple(
+                phase_peak, ax.inductance, ax.f_leg, ax.scheme, limit * rated)
+            if value == 0.0:
+                return Remedy(
+                    name,
+                    "lowering the supply does not help: the ripple at this point exceeds the limit at every "
+                    "supply voltage; add inductance or raise the PWM frequency",
+                    None,
+                    "V",
+                )
+        elif three:
             worst = figures.value("ripple_pp_worst")
             if not worst:
                 return None
-            value = V * limit * rated / float(worst)  # closed-form ripple is linear in V at fixed M
+            # the worst case sits at the highest reachable M, which the duty limits fix
+            # independently of the supply: the closed-form ripple is linear in V there
+            value = V * limit * rated / float(worst)
         elif point is not None:
             point_values = next(values for n, values in figures.points if n == point)
             value = P.remedies.supply_voltage_max_for_ripple(

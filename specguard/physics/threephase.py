@@ -36,6 +36,7 @@ __all__ = [
     "ripple_peak_to_peak_max_normalised",
     "phase_ripple_rms",
     "phase_ripple_peak_to_peak_max",
+    "supply_voltage_max_for_phase_ripple",
     "NumericRipple",
     "phase_ripple_numeric",
 ]
@@ -260,6 +261,39 @@ def phase_ripple_peak_to_peak_max(
         / (phase_inductance * pwm_frequency)
         * ripple_peak_to_peak_max_normalised(modulation_index, strategy)
     )
+
+
+def supply_voltage_max_for_phase_ripple(phase_voltage_peak, phase_inductance, pwm_frequency, strategy, ripple_limit):
+    """Highest supply voltage at which the maximum peak-to-peak phase ripple of an
+    operating point stays within ``ripple_limit`` [V] (scalars).
+
+    Parameters: phase_voltage_peak [V] fundamental phase voltage ``V_ph1,pk`` the
+    operating point needs (independent of the supply in the linear range);
+    phase_inductance [H] star-equivalent at ``f_pwm``; pwm_frequency [Hz];
+    strategy ``"spwm"``/``"svpwm"``; ripple_limit [A] peak to peak.
+
+    At a fixed operating point ``M = 2 a / V`` (``a = V_ph1,pk``), so the maximum
+    ripple of :func:`phase_ripple_peak_to_peak_max` is, times ``L_ph f_pwm``:
+    SPWM ``a/2 - a^2/(2V)`` for ``M <= 2 - 2/sqrt3`` and SVPWM ``a/2 - 3a^2/(4V)`` for
+    ``M <= 4/3 (1 - 1/sqrt3)``, and ``a/(2 sqrt3)`` (independent of V) above. The
+    ripple never falls as V rises and tends to ``a/(2 L_ph f_pwm)``; inverting the
+    low-M branch for ``X = ripple_limit L_ph f_pwm`` gives SPWM ``V = a^2/(a - 2X)``,
+    SVPWM ``V = 3a^2/(2a - 4X)``. Returns +inf when no supply voltage exceeds the
+    limit (``X >= a/2``, and at standstill) and 0.0 when every supply voltage that
+    keeps the point in the linear range exceeds it (``X < a/(2 sqrt3)``): then only
+    more inductance or a higher PWM frequency helps.
+    Source: PHYSICS.md §2.3 [D], exact inverse of the closed form above.
+    """
+    _check_strategy(strategy)
+    a = float(phase_voltage_peak)
+    x = float(ripple_limit) * float(phase_inductance) * float(pwm_frequency)
+    if a <= 0.0 or x >= 0.5 * a:
+        return math.inf
+    if x < a / (2.0 * _SQRT3):
+        return 0.0
+    if strategy == SPWM:
+        return a * a / (a - 2.0 * x)
+    return 3.0 * a * a / (2.0 * a - 4.0 * x)
 
 
 class NumericRipple(NamedTuple):

@@ -144,6 +144,49 @@ def test_three_phase_against_own_inverter_simulation(strategy, m):
     assert numeric.peak_to_peak_max == pytest.approx(pp_sim, rel=1e-2)
 
 
+@pytest.mark.parametrize("strategy", ["spwm", "svpwm"])
+@pytest.mark.parametrize("limit_share", [0.35, 0.45])
+def test_supply_bound_for_phase_ripple_against_simulation(strategy, limit_share):
+    """The highest supply voltage that keeps an operating point's ripple within a limit.
+    Check values: the own inverter simulation above, at the bound (ripple equals the
+    limit), and a root search (scipy brentq) over the supply voltage on the exact
+    per-period path. The ripple flattens towards a/(2 L f) as the supply rises, so the
+    comparison is made in ripple, where a 1 % simulation error stays 1 %."""
+    optimize = pytest.importorskip("scipy.optimize")
+    a, inductance, f_pwm = 20.0, 0.3e-3, 20e3  # phase voltage peak [V], L_ph [H], f [Hz]
+    limit = limit_share * a / (inductance * f_pwm)  # between a/(2 sqrt3) and a/2 of the bound
+    bound = p.threephase.supply_voltage_max_for_phase_ripple(a, inductance, f_pwm, strategy, limit)
+    simulated = bound * _inverter_simulation(2.0 * a / bound, strategy)[1] / (inductance * f_pwm)
+    assert simulated == pytest.approx(limit, rel=1e-2)
+    for factor in (0.8, 1.25):  # below the bound inside the limit, above it outside
+        volts = factor * bound
+        pp = volts * _inverter_simulation(2.0 * a / volts, strategy)[1] / (inductance * f_pwm)
+        assert (pp < limit) == (factor < 1.0)
+
+    def excess(volts):
+        m = 2.0 * a / volts
+        return p.phase_ripple_numeric(volts, inductance, f_pwm, m, strategy, angle_count=720).peak_to_peak_max - limit
+
+    low = 2.0 * a / p.threephase.modulation_index_limit(strategy) * 1.001
+    assert optimize.brentq(excess, low, 50.0 * a, xtol=1e-9) == pytest.approx(bound, rel=1e-3)
+
+
+def test_supply_bound_for_phase_ripple_limits():
+    """No bound when the ripple can never reach the limit (it tends to a/(2 L f) as
+    the supply rises, and vanishes at standstill); no voltage at all when the ripple
+    exceeds it even at the top of the linear range (a/(2 sqrt3 L f), PHYSICS.md §2.3)."""
+    bound = p.threephase.supply_voltage_max_for_phase_ripple
+    a, inductance, f_pwm = 20.0, 0.3e-3, 20e3
+    unit = a / (inductance * f_pwm)
+    for strategy in ("spwm", "svpwm"):
+        assert bound(a, inductance, f_pwm, strategy, 0.5 * unit) == math.inf
+        assert bound(0.0, inductance, f_pwm, strategy, 1e-3) == math.inf
+        assert bound(a, inductance, f_pwm, strategy, 0.99 * unit / (2.0 * math.sqrt(3.0))) == 0.0
+    # closed forms: SPWM a^2/(a - 2X), SVPWM 3a^2/(2a - 4X) with X = limit L f
+    assert bound(a, 1.0, 1.0, "spwm", 0.4 * a) == pytest.approx(a * a / (a - 0.8 * a))
+    assert bound(a, 1.0, 1.0, "svpwm", 0.4 * a) == pytest.approx(3 * a * a / (2 * a - 1.6 * a))
+
+
 def test_rms_prefactor_one_over_24_from_simulation():
     # PHYSICS.md §2.3: the 1/24 prefactor was set by simulation; guard it here.
     rms_sim, _ = _inverter_simulation(0.7, "spwm")
