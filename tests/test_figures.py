@@ -135,6 +135,21 @@ def test_e5_svpwm_worst_ripple():
     assert fs.value("constant_mismatch") == pytest.approx(0.0, abs=1e-9)
 
 
+def test_dc_supply_window_top_holds_at_a_standstill_point():
+    """Bipolar PWM: the ripple bound is tightest where the terminal voltage is lowest,
+    V_ripple = L f dI + sqrt((L f dI)^2 + V_req^2), about 2 L f dI at standstill
+    (PHYSICS.md §4.6, linear form; the figures solve the exact ripple, within 1 % of
+    it at T_pwm/tau_e = 0.25, PHYSICS.md §1.5). The E4 point alone sets a higher top."""
+    alone = figures_of(E4).value("supply_max")
+    data = copy.deepcopy(E4)
+    data["operating_points"].append({"name": "hold", "speed": "0 rpm", "torque": "0.03 N*m", "ambient": "25 degC"})
+    fs = figures_of(data)
+    lf_di = 0.20e-3 * 20e3 * 0.2 * 2.0  # L f dI_max with dI_max = 20 % of the 2 A rated current
+    v_req = fs.value("terminal_voltage", "hold")
+    assert fs.value("supply_max") == pytest.approx(lf_di + math.sqrt(lf_di**2 + v_req**2), rel=1e-2)
+    assert fs.value("supply_max") < alone
+
+
 def _e5_axis(scheme="space-vector", points=None):
     data = copy.deepcopy(E4)
     data["motor"].update(

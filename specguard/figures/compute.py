@@ -477,6 +477,16 @@ def _supply_window(spec, ax, elec, settings, axis, missing):
             controller_voltage_max=ceiling,
         )
         v_min, v_max = float(window.minimum), float(window.maximum)
+        # the ripple bound holds at every point, not only the most demanding one: the
+        # bipolar bound is tightest at low terminal voltage (2 L f dI_max at
+        # standstill, PHYSICS.md §4.6), the unipolar one is not monotonic in V_req
+        limit = settings.ripple_limit_ratio * rated
+        for e in elec:
+            if e is worst:
+                continue
+            v_max = min(v_max, float(P.operating.supply_voltage_max_ripple(
+                e["terminal_voltage"], ax.inductance, ax.resistance_hot, ax.f_leg, limit, ax.scheme,
+                e["current"], ax.series_resistance, ax.dead_time)))
     else:
         v_ph = worst["phase_voltage_peak"]
         v_min = float(P.operating.supply_voltage_min_sinusoidal(v_ph, ax.scheme, ax.max_duty, ax.dead_time, ax.f_leg))
