@@ -78,7 +78,9 @@ def test_base_spec_builds_with_si_values():
 
 def test_model_is_frozen():
     spec, _ = run(BASE)
-    with pytest.raises(Exception):
+    import pydantic
+
+    with pytest.raises(pydantic.ValidationError, match="frozen"):
         spec.motor.rated_current = 3.0  # type: ignore[misc]
 
 

@@ -401,7 +401,7 @@ def compute(spec: Spec, settings: FigureSettings | None = None) -> FigureSet:
     elif freewheel == "synchronous":
         missing["conduction_margin"] = "synchronous freewheeling: the current reverses, conduction stays continuous"
     else:
-        for row, e in zip(rows, elec):
+        for row, e in zip(rows, elec, strict=True):
             row["conduction_margin"] = abs(e["current"]) / max(e["ripple_pp"] / 2.0, 1e-300)
 
     _supply_window(spec, ax, elec, settings, axis, missing)
@@ -435,7 +435,7 @@ def compute(spec: Spec, settings: FigureSettings | None = None) -> FigureSet:
 
     point_rows = tuple(
         (point.name, {key: _scalar(value) for key, value in row.items()})
-        for point, row in zip(spec.operating_points, rows)
+        for point, row in zip(spec.operating_points, rows, strict=True)
     )
     return FigureSet(axis={k: _scalar(v) for k, v in axis.items()}, points=point_rows, missing=missing, notes=notes)
 
@@ -535,7 +535,7 @@ def _thermal(spec, ax, elec, rows, axis, missing, notes):
     r20 = ax.loss_resistance_20
     limit = ax.temperature_limit
     runaway = False
-    for row, e in zip(rows, elec):
+    for row, e in zip(rows, elec, strict=True):
         i_rms = e["rms_current"]
         row["runaway_number"] = P.thermal.runaway_number(i_rms, r20, r_wh, r_ha)
         t_w = P.thermal.winding_temperature_steady(i_rms, r20, r_wh, r_ha, row["ambient"])
@@ -837,7 +837,7 @@ def _plausibility(spec, ax, elec, rows, axis, missing):
         ratios = [r / r_terminal for _f, r in series]
         axis["table_resistance_ratio_min"] = min(ratios)
         axis["table_resistance_ratio_max"] = max(ratios)
-        axis["table_resistance_falling"] = any(b < a for a, b in zip(ratios, ratios[1:]))
+        axis["table_resistance_falling"] = any(b < a for a, b in zip(ratios, ratios[1:], strict=False))
     else:
         lack(("table_resistance_ratio_min", "table_resistance_ratio_max", "table_resistance_falling"),
              "the inductance table gives no series_resistance")
@@ -997,7 +997,7 @@ def _plausibility(spec, ax, elec, rows, axis, missing):
     # stage currents against the motor and the operating points
     limits = stage.current_limit
     if limits is not None:
-        for row, e in zip(rows, elec):
+        for row, e in zip(rows, elec, strict=True):
             row["stage_current_ratio"] = e["rms_current"] / limits.continuous
         axis["stage_to_motor_current"] = limits.continuous / rated
         if limits.peak is not None:

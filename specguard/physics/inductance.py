@@ -55,14 +55,14 @@ def _table(frequencies, values):
 
 def _table_floats(frequencies, values) -> tuple[list[float], list[float]]:
     """The same checks as :func:`_table`, on Python floats (no numpy import)."""
-    pairs = sorted(zip((float(x) for x in frequencies), (float(y) for y in values)))
+    pairs = sorted(zip((float(x) for x in frequencies), (float(y) for y in values), strict=True))
     if not pairs or len(pairs) != len(list(frequencies)) or len(list(frequencies)) != len(list(values)):
         raise ValueError("table needs equal-length 1-D frequency and value sequences")
     f = [p[0] for p in pairs]
     v = [p[1] for p in pairs]
     if min(f) <= 0.0 or min(v) <= 0.0:
         raise ValueError("log-log interpolation needs positive frequencies and values")
-    if any(b == a for a, b in zip(f, f[1:])):
+    if any(b == a for a, b in zip(f, f[1:], strict=False)):
         raise ValueError("duplicate frequency in table")
     return f, v
 
@@ -134,7 +134,7 @@ def table_non_monotonic(table_frequencies, table_inductances) -> bool:
     Source: PHYSICS.md §5.2 [D].
     """
     _, v = _table_floats(table_frequencies, table_inductances)
-    return any(b > a for a, b in zip(v, v[1:]))
+    return any(b > a for a, b in zip(v, v[1:], strict=False))
 
 
 def inductance_derated(catalogue_inductance, derating_factor=DEFAULT_DERATING_FACTOR):

@@ -55,7 +55,7 @@ def render_text(report) -> str:
                 lines.append(f"   {fdef.name:<{width}}  {shown(fdef.name, fs.axis[fdef.name])}")
         if names:
             cols = [max(12, len(n)) for n in names]
-            head = "  ".join(f"{n:>{c}}" for n, c in zip(names, cols))
+            head = "  ".join(f"{n:>{c}}" for n, c in zip(names, cols, strict=True))
             lines.append("")
             lines.append(f"   {'point figure':<{width}}  {head}")
             for fdef in FIGURES:
@@ -64,7 +64,7 @@ def render_text(report) -> str:
                 cells = [shown(fdef.name, values.get(fdef.name)) for _, values in fs.points]
                 if all(c == "-" for c in cells):
                     continue
-                row = "  ".join(f"{c:>{w}}" for c, w in zip(cells, cols))
+                row = "  ".join(f"{c:>{w}}" for c, w in zip(cells, cols, strict=True))
                 lines.append(f"   {fdef.name:<{width}}  {row}")
         if fs.missing:
             lines.append("")

@@ -289,7 +289,7 @@ def _plot_sweeps(p: _Plotter, freq, ind, salt: str) -> str:
         panels = [s for s in (freq, ind) if s is not None]
         fig = p.figure(len(panels))
         axes = fig.subplots(1, len(panels), squeeze=False)[0]
-        for ax, sweep in zip(axes, panels):
+        for ax, sweep in zip(axes, panels, strict=True):
             if sweep.variable == "frequency":
                 x = sweep.x / 1e3
                 setting, needed = sweep.setting / 1e3, sweep.x_at_limit

@@ -137,12 +137,15 @@ def _merge(base: object, override: object) -> object:
     return override
 
 
+_DEFAULT_LIMITS = Limits()  # frozen: one shared default is safe
+
+
 def assemble(
     raw: bytes,
     size: int,
     file_path: Path,
     root: Path,
-    limits: Limits = Limits(),
+    limits: Limits = _DEFAULT_LIMITS,
     cache: LibraryCache | None = None,
     denied: tuple = (),
 ) -> Document:

@@ -55,7 +55,7 @@ def test_cached_result_round_trips_exactly(demo_repo, cache_env):
     again_cache = rc.ResultCache(str(cache_env), salt, str(demo_repo))
     again = check_paths([str(demo_repo)], root=demo_repo, options=options, result_cache=again_cache)
     assert again_cache.hits == 3 and again_cache.misses == 0
-    for a, b in zip(fresh.files, again.files):
+    for a, b in zip(fresh.files, again.files, strict=True):
         assert a.findings == b.findings
         assert a.closure == b.closure
         assert a.figures.axis == b.figures.axis and a.figures.points == b.figures.points

@@ -107,9 +107,9 @@ def test_frequency_sweep_at_setting_equals_ripple_pp_worst_and_tanh_form():
         assert sweep.ripple_at_setting == pytest.approx(fs.value("ripple_pp_worst"), rel=1e-6), result.file
         if spec.stage.pwm.scheme == "unipolar-phase-shifted":
             # PHYSICS.md §1.4: dI_max = (V1 - V2)/R tanh(R / (4 f_r L)), f_r = 2 f_pwm, V1 - V2 = V.
-            v, r, l = fs.value("supply_voltage"), fs.value("loop_resistance_hot"), fs.value("loop_inductance")
+            v, r, ind = fs.value("supply_voltage"), fs.value("loop_resistance_hot"), fs.value("loop_inductance")
             f_r = 2.0 * fs.value("pwm_frequency_leg")
-            assert sweep.ripple_at_setting == pytest.approx(v / r * math.tanh(r / (4.0 * f_r * l)), rel=1e-9)
+            assert sweep.ripple_at_setting == pytest.approx(v / r * math.tanh(r / (4.0 * f_r * ind)), rel=1e-9)
 
 
 def test_inductance_remedy_matches_textbook_e2():

@@ -7,7 +7,6 @@ import subprocess
 import sys
 from pathlib import Path
 
-
 from .figset import REPO
 
 RENDER = """

@@ -160,8 +160,9 @@ def test_injected_report_is_inert(injected_html):
 
 
 def test_every_payload_reaches_the_report_escaped(injected_html):
-    from specguard.report.safe import escape_controls
     import html
+
+    from specguard.report.safe import escape_controls
 
     for p in PAYLOADS:
         assert html.escape(escape_controls(p), quote=True) in injected_html, p
