@@ -4,7 +4,10 @@ Run: ``python benchmarks/bench_rules.py``. Public tools only (time.perf_counter)
 Uses the ~5 KB, 10-operating-point spec of bench_check.py. Prints medians of:
 - figures.compute (budget 2 ms),
 - evaluate() of the whole pack with the real figures and remedies (budget 5 ms),
-- the floor of the same stack: C parse + JSON-Schema validation of the same file.
+- the floor of the same stack: C parse + JSON-Schema validation of the same file;
+- figures.compute of a brushed-DC spec (the demo's sample lift) with 10 and with 500
+  operating points, the most a spec may hold: the DC supply window solves the exact
+  ripple bound point by point (bisection), the costliest per-point step.
 """
 
 from __future__ import annotations
@@ -29,6 +32,28 @@ def median_ms(fn, runs: int = 300) -> float:
         fn()
         times.append(time.perf_counter() - start)
     return statistics.median(times) * 1e3
+
+
+def _dc_spec(points: int):
+    """The demo's brushed-DC sample lift with ``points`` operating points spread over
+    its speed and torque range."""
+    from specguard.model import build
+    from specguard.source import Limits
+    from specguard.source.library import LibraryCache, assemble
+
+    root = ROOT / "examples"
+    path = root / "robot" / "axes" / "sample-lift.axis.yaml"
+    raw = path.read_bytes()
+    doc = assemble(raw, len(raw), path, root, Limits(), LibraryCache(Limits()))
+    data = dict(doc.data)
+    data["operating_points"] = [
+        {"name": f"p{i}", "speed": f"{(i * 7919) % 7800} rpm", "torque": f"{5 + (i * 31) % 20} mN*m",
+         "ambient": "40 degC"}
+        for i in range(points)
+    ]
+    spec, findings = build(data, doc.locate)
+    assert spec is not None, findings
+    return spec
 
 
 def main() -> None:
@@ -56,6 +81,7 @@ def main() -> None:
     text = raw.decode()
     yaml = YAML(typ="safe")
 
+    dc_specs = {n: _dc_spec(n) for n in (10, 500)}
     rows = {
         "figures.compute, 10 points [ms]": median_ms(lambda: compute(spec)),
         f"evaluate, {len(pack.rules)} rules, 10 points [ms]": median_ms(
@@ -64,6 +90,8 @@ def main() -> None:
         "floor: C parse + jsonschema, same file [ms]": median_ms(
             lambda: list(validator.iter_errors(yaml.load(text)))
         ),
+        "figures.compute, brushed DC, 10 points [ms]": median_ms(lambda: compute(dc_specs[10])),
+        "figures.compute, brushed DC, 500 points [ms]": median_ms(lambda: compute(dc_specs[500]), runs=30),
     }
     print(f"# figures and rules, warm ({len(raw)} B spec, {len(out)} findings)")
     width = max(map(len, rows))

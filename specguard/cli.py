@@ -799,10 +799,28 @@ def _signal_handlers(received: list[int]):
     return restore
 
 
+def _quiet_interrupts(previous):
+    """An unraisable-exception hook that says nothing of our own :class:`Interrupted`.
+
+    Where Python cannot raise (a ``__del__``, a fork hook, a callback from compiled
+    code such as a validator's pattern match) it prints "Exception ignored in ..."
+    with a traceback; for the signal's exception that is noise, since :func:`main`
+    still exits with the signal's status. Everything else goes to ``previous``."""
+
+    def hook(unraisable):
+        if isinstance(unraisable.exc_value, Interrupted):
+            return
+        previous(unraisable)
+
+    return hook
+
+
 def main(argv: list[str] | None = None) -> int:
     debug = "--debug" in (argv if argv is not None else sys.argv[1:])
     received: list[int] = []
     restore = _signal_handlers(received)
+    unraisable = sys.unraisablehook
+    sys.unraisablehook = _quiet_interrupts(unraisable)
     try:
         status = _main(argv)
         # The signal's exception can be swallowed where Python ignores exceptions
@@ -811,6 +829,11 @@ def main(argv: list[str] | None = None) -> int:
     except KeyboardInterrupt as exc:  # Ctrl-C, SIGINT or SIGTERM: after the cleanup
         return max([getattr(exc, "status", EXIT_SIGINT), *received])
     except Exception as exc:
+        if received and not debug:
+            # The signal's exception was swallowed inside compiled code, which then
+            # failed in its own way (a pattern "did not match"): the signal is the
+            # cause, so its status, not a bug report.
+            return max(received)
         if debug:
             raise
         sys.stderr.write(
@@ -819,6 +842,7 @@ def main(argv: list[str] | None = None) -> int:
         )
         return EXIT_INTERNAL
     finally:
+        sys.unraisablehook = unraisable
         restore()
 
 

@@ -165,6 +165,47 @@ def test_second_signal_during_cleanup_highest_wins(monkeypatch, capsys):
     assert signal.getsignal(signal.SIGTERM) == before  # handlers put back after main()
 
 
+def test_signal_swallowed_by_compiled_code_keeps_its_status(monkeypatch, capsys):
+    """Found by a CI run (FI07 with -j2): SIGINT arrived while a validator's compiled
+    code called a regular expression; the signal's exception was swallowed there
+    ("Exception ignored in ...") and the validator then failed with a pattern
+    error, which read as a bug (exit 3). The signal is the cause: 130, no bug report,
+    no "Exception ignored" traceback."""
+
+    class Callback:
+        def __del__(self):  # Python cannot raise here: the unraisable hook gets it
+            os.kill(os.getpid(), signal.SIGINT)
+            time.sleep(1)
+
+    def run(argv):
+        holder = Callback()
+        del holder  # the handler's exception is swallowed in __del__
+        raise ValueError("String should match pattern '^[a-z][a-z0-9_]*$'")
+
+    monkeypatch.setattr(cli, "_main", run)
+    assert cli.main(["check", "x"]) == 130
+    err = capsys.readouterr().err
+    assert "this is a bug" not in err and "Exception ignored" not in err, err
+
+
+def test_unrelated_unraisable_exceptions_are_still_reported(monkeypatch, capsys):
+    seen = []
+    monkeypatch.setattr("sys.unraisablehook", lambda u: seen.append(type(u.exc_value).__name__))
+
+    class Broken:
+        def __del__(self):
+            raise RuntimeError("not a signal")
+
+    def run(argv):
+        holder = Broken()
+        del holder
+        return 0
+
+    monkeypatch.setattr(cli, "_main", run)
+    assert cli.main(["check", "x"]) == 0
+    assert seen == ["RuntimeError"]
+
+
 def test_sigterm_alone_in_process(monkeypatch):
     def run(argv):
         os.kill(os.getpid(), signal.SIGTERM)
