@@ -22,6 +22,8 @@ import time
 from collections.abc import Iterator
 from pathlib import Path
 
+from .interrupt import stop_if_signalled
+
 # Prefix and suffix of our temporary files; the stale-temp sweep matches them only.
 _TEMP_PREFIX = ".specguard-"
 _TEMP_SUFFIX = ".tmp"
@@ -80,6 +82,7 @@ def write_atomic(path: Path | str, data: bytes | str) -> None:
     file (``mkstemp`` creates 0600, FI23). On any failure the target is untouched
     and the temporary file is gone.
     """
+    stop_if_signalled()  # nothing is written after a signal (specguard.interrupt)
     target = Path(path)
     payload = data.encode("utf-8") if isinstance(data, str) else bytes(data)
     problem = target_problem(target)

@@ -13,6 +13,7 @@ import sys
 from pathlib import Path
 
 from . import SPEC_FORMAT_VERSION, __version__
+from .interrupt import EXIT_SIGINT, RECEIVED, Interrupted, stop_if_signalled
 
 EXIT_CLEAN, EXIT_FINDINGS, EXIT_USAGE, EXIT_INTERNAL = 0, 1, 2, 3
 
@@ -328,6 +329,7 @@ def _u_escape(error: UnicodeEncodeError):
 def _emit(text: str) -> None:
     """Write to stdout; characters the stream cannot encode are escaped, and a
     reader that went away (``| head``) ends the output quietly."""
+    stop_if_signalled()
     stream = sys.stdout
     try:
         try:
@@ -743,21 +745,6 @@ def _run_report(args) -> int:
     return status
 
 
-# Exit status after a signal, as shells report it: 128 + the signal number
-# (RELIABILITY.md, "The error contract": 130 on SIGINT, 143 on SIGTERM).
-EXIT_SIGINT, EXIT_SIGTERM = 130, 143
-
-
-class Interrupted(KeyboardInterrupt):
-    """SIGINT or SIGTERM in the main process. A KeyboardInterrupt, so it unwinds
-    through every ``finally`` and temp-file cleanup that lets KeyboardInterrupt
-    pass (it is no ``Exception``); :func:`main` then returns ``status``."""
-
-    def __init__(self, status: int) -> None:
-        super().__init__(status)
-        self.status = status
-
-
 def _signal_handlers(received: list[int]):
     """Install handlers turning SIGINT and SIGTERM into :class:`Interrupted`;
     return a function that puts the previous handlers back.
@@ -817,7 +804,8 @@ def _quiet_interrupts(previous):
 
 def main(argv: list[str] | None = None) -> int:
     debug = "--debug" in (argv if argv is not None else sys.argv[1:])
-    received: list[int] = []
+    received = RECEIVED
+    received.clear()
     restore = _signal_handlers(received)
     unraisable = sys.unraisablehook
     sys.unraisablehook = _quiet_interrupts(unraisable)

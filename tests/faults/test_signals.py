@@ -188,6 +188,33 @@ def test_signal_swallowed_by_compiled_code_keeps_its_status(monkeypatch, capsys)
     assert "this is a bug" not in err and "Exception ignored" not in err, err
 
 
+def test_nothing_is_written_after_a_swallowed_signal(monkeypatch, capsys, tmp_path):
+    """The run goes on after its signal's exception was swallowed; the next write
+    (a report, a cache entry, a baseline: all go through the atomic writer) and the
+    next line on stdout stop it instead, so a result computed after the signal is
+    never kept."""
+    from specguard.atomic import write_atomic
+
+    target = tmp_path / "report.json"
+    target.write_bytes(OLD)
+
+    class Callback:
+        def __del__(self):
+            os.kill(os.getpid(), signal.SIGINT)
+            time.sleep(1)
+
+    def run(argv):
+        holder = Callback()
+        del holder
+        write_atomic(target, "computed after the signal")
+        raise AssertionError("the write went ahead")
+
+    monkeypatch.setattr(cli, "_main", run)
+    assert cli.main(["check", "x"]) == 130
+    assert target.read_bytes() == OLD and temps(tmp_path) == []
+    assert capsys.readouterr().out == ""
+
+
 def test_unrelated_unraisable_exceptions_are_still_reported(monkeypatch, capsys):
     seen = []
     monkeypatch.setattr("sys.unraisablehook", lambda u: seen.append(type(u.exc_value).__name__))
