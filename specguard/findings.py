@@ -93,3 +93,24 @@ def dotted(path: tuple[str | int, ...]) -> str:
         else:
             out += f".{part}" if out else str(part)
     return out
+
+
+def kind_of(value) -> str:
+    """The kind of a plain value as messages name it, in the words of the format
+    reference (docs/format.md): "null", "a boolean", "an integer", "a number", "a
+    string", "a mapping", "a list"."""
+    if value is None:
+        return "null"
+    if value is True or value is False:
+        return "a boolean"
+    if isinstance(value, int):
+        return "an integer"
+    if isinstance(value, float):
+        return "a number"
+    if isinstance(value, str):
+        return "a string"
+    if isinstance(value, dict):
+        return "a mapping"
+    if isinstance(value, list):
+        return "a list"
+    return f"a {type(value).__name__}"

@@ -17,7 +17,7 @@ from typing import Any
 
 from pydantic import BaseModel, ValidationError
 
-from ..findings import Finding, Location, dotted
+from ..findings import Finding, Location, dotted, kind_of
 from .spec import Spec
 
 Locate = Callable[..., tuple[Location, tuple[Location, ...]]]
@@ -35,24 +35,6 @@ _KIND = {
 }
 
 _YAML11_BOOLEANS = {"yes", "no", "on", "off", "y", "n", "Yes", "No", "On", "Off", "YES", "NO"}
-
-
-def _type_name(value: Any) -> str:
-    if value is None:
-        return "null"
-    if isinstance(value, bool):
-        return "a boolean"
-    if isinstance(value, int):
-        return "an integer"
-    if isinstance(value, float):
-        return "a number"
-    if isinstance(value, str):
-        return "a string"
-    if isinstance(value, dict):
-        return "a mapping"
-    if isinstance(value, list):
-        return "a list"
-    return type(value).__name__
 
 
 def _lookup(data: Any, path: tuple) -> tuple[bool, Any]:
@@ -137,7 +119,7 @@ def _error_to_finding(err: dict, data: dict, locate: Locate) -> Finding:
         expected = err.get("ctx", {}).get("expected", "")
         message = f"{where}: {value!r} is not allowed; expected one of {expected}"
     elif kind in _KIND:
-        message = f"{where}: expected {_KIND[kind]}, got {_type_name(value) if exists else 'nothing'}"
+        message = f"{where}: expected {_KIND[kind]}, got {kind_of(value) if exists else 'nothing'}"
         if kind == "bool_type" and isinstance(value, str) and value in _YAML11_BOOLEANS:
             message += " (YAML 1.2 booleans are true and false only)"
         elif kind in ("int_type", "float_type") and isinstance(value, str) and ":" in value:

@@ -12,7 +12,7 @@ import re
 from collections.abc import Callable
 from typing import Any
 
-from specguard.findings import Finding, Location
+from specguard.findings import Finding, Location, kind_of
 
 from ._errors import exception_finding
 from ._text import FORBIDDEN, TextIndex, describe_char
@@ -83,23 +83,6 @@ def fmt_size(n: int) -> str:
 def _short(s: str, n: int = 40) -> str:
     s = s.replace("\n", "\\n").replace("\r", "\\r").replace("\t", "\\t")
     return s if len(s) <= n else s[: n - 3] + "..."
-
-
-def _type_name(value: Any) -> str:
-    """The kind of a plain value, with its article."""
-    if value is None:
-        return "a null"
-    if value is True or value is False:
-        return "a boolean"
-    if isinstance(value, int):
-        return "an integer"
-    if isinstance(value, float):
-        return "a number"
-    if isinstance(value, dict):
-        return "a mapping"
-    if isinstance(value, list):
-        return "a sequence"
-    return f"a {type(value).__name__}"
 
 
 class _Map:
@@ -374,7 +357,7 @@ def compose(
                 add(
                     "yaml-key",
                     "error",
-                    f"keys must be strings; this key is {_type_name(value)}",
+                    f"keys must be strings; this key is {kind_of(value)}",
                     span,
                     f.path or (),
                 )
@@ -647,7 +630,7 @@ def compose(
         add(
             "yaml-structure",
             "error",
-            f"the document is {_type_name(root)}, expected a mapping of keys to values{where}",
+            f"the document is {kind_of(root)}, expected a mapping of keys to values{where}",
             None,
         )
         return None, locs, findings
