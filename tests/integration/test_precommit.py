@@ -100,3 +100,14 @@ def test_commits_through_the_real_hook(hook_env):
     assert "axes/carousel.axis.yaml" in out  # the axis that uses the stage is named
     assert subprocess.run(["git", "status", "--porcelain"], cwd=work, capture_output=True,
                           text=True).stdout.strip() == "M  library/stages/inverter-48v-10a.yaml"
+    subprocess.run(["git", "reset", "-q", "--hard"], cwd=work, check=True)
+
+    # 4. a policy file alone (the hook's file pattern takes it) re-checks every spec:
+    # a tighter ripple threshold makes the committed clean axis fail
+    (work / ".specguard.yaml").write_text(
+        "format: 1\nrules:\n  ripple-over-rated-current:\n    thresholds: {error: 0.05}\n", encoding="utf-8")
+    subprocess.run(["git", "add", ".specguard.yaml"], cwd=work, check=True)
+    done = _commit(work, env, "tighter ripple policy")
+    out = done.stdout + done.stderr
+    assert done.returncode != 0, out
+    assert "axes/carousel.axis.yaml" in out and "[ripple-over-rated-current]" in out
