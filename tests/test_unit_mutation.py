@@ -68,15 +68,16 @@ FACTORS = {
 PREFIX_FACTORS = ("x1000", "x0.001")
 # Where each non-prefix slip can actually happen (RELIABILITY.md G04): rpm against
 # rad/s in speeds and in back-EMF constants per speed; peak against RMS in
-# currents, voltages and the constants; line-to-line against phase in voltages,
-# currents (delta windings), resistances, inductances and the constants. The kill
-# rate over these fields is printed beside the G13 rate over every field; it is
-# information for the reader, the gate is the G13 rate.
+# currents, voltages and the constants; line-to-line against phase (sqrt 3) in
+# voltages, currents (delta windings) and the constants. (Resistance and inductance
+# differ by 2 between terminals and a star phase, not by sqrt 3.) The kill rate over
+# these fields is printed beside the G13 rate over every field; it is information
+# for the reader, the gate is the G13 rate.
 SLIP_PRONE = {
     "x9.549": {"speed", "back_emf_constant"},
     "x0.1047": {"speed", "back_emf_constant"},
     "xsqrt2": {"current", "voltage", "torque_constant", "back_emf_constant"},
-    "xsqrt3": {"current", "voltage", "resistance", "inductance", "torque_constant", "back_emf_constant"},
+    "xsqrt3": {"current", "voltage", "torque_constant", "back_emf_constant"},
 }
 PREFIX_REQUIRED = 0.90
 OTHER_REQUIRED = 0.70
