@@ -194,6 +194,25 @@ def test_three_phase_supply_window_top_is_the_ripple_edge(scheme):
             assert (worst > 1.0) == above
 
 
+def test_rms_rating_standing_in_for_a_peak_counts_as_its_amplitude():
+    """Peak ratings are instantaneous; with no peak rating given, the rated (motor) or
+    continuous (stage) RMS phase current of a sinusoidal axis stands in as its
+    amplitude, sqrt 2 times it (a sinusoid's peak; fact of the trade). Before, a
+    motor run exactly at its rated current read as 141 % of its limit."""
+    data = _e5_axis(points=[{"name": "p", "speed": "1000 rpm", "torque": "0.075 N*m", "ambient": "25 degC"}])
+    data["motor"]["rated_current"] = "1 A"  # k_t = 0.0866 N*m/A: the point needs 0.866 A RMS
+    data["motor"]["terminal_inductance"]["value"] = "4 mH"  # a small ripple beside 1.22 A amplitude
+    data["stage"]["current_limit"] = {"continuous": "2 A"}
+    fs = figures_of(data)
+    peak = fs.value("peak_current")
+    assert fs.value("peak_current_ratio_motor") == pytest.approx(peak / (math.sqrt(2) * 1.0), rel=1e-12)
+    assert fs.value("peak_current_ratio_stage") == pytest.approx(peak / (math.sqrt(2) * 2.0), rel=1e-12)
+    assert fs.value("peak_current_ratio_motor") < 1.0  # below rated: no peak-current error
+    # a brushed DC axis keeps the DC rating as it is (PHYSICS.md E4: 2.0 A)
+    dc = figures_of(E4)
+    assert dc.value("peak_current_ratio_motor") == pytest.approx(dc.value("peak_current") / 2.0, rel=1e-12)
+
+
 def test_three_phase_supply_window_has_no_ripple_top_when_ripple_stays_low():
     """With four times the inductance the ripple can never reach 20 % of the rated
     current (its supremum a/(2 L_ph f), PHYSICS.md §2.3): only the duty floor bounds

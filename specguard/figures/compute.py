@@ -423,12 +423,15 @@ def compute(spec: Spec, settings: FigureSettings | None = None) -> FigureSet:
 
     peak = max(e["peak"] for e in elec)
     axis["peak_current"] = peak
+    # peak ratings are instantaneous values; a continuous rating standing in for a
+    # missing one is an RMS phase current on a sinusoidal axis, so its amplitude counts
+    amplitude = SQRT2 if ax.topology == "sinusoidal" else 1.0
     limits = stage.current_limit
     if limits is not None:
-        axis["peak_current_ratio_stage"] = peak / (limits.peak or limits.continuous)
+        axis["peak_current_ratio_stage"] = peak / (limits.peak or limits.continuous * amplitude)
     else:
         missing["peak_current_ratio_stage"] = "the spec has no stage.current_limit"
-    axis["peak_current_ratio_motor"] = peak / (motor.peak_current or motor.rated_current)
+    axis["peak_current_ratio_motor"] = peak / (motor.peak_current or motor.rated_current * amplitude)
     _chokes(spec, ax, elec, axis, missing, notes)
     _braking(spec, axis, missing)
     _plausibility(spec, ax, elec, rows, axis, missing)

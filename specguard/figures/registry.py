@@ -138,9 +138,11 @@ FIGURES: tuple[FigureDef, ...] = (
     _d("peak_current", "current", "A", "axis",
        "largest instantaneous current: largest operating current plus half its ripple", "operating_points"),
     _d("peak_current_ratio_stage", "ratio", "1", "axis",
-       "peak current divided by the stage's peak (else continuous) current limit", "stage/current_limit"),
+       "peak current divided by the stage's peak current limit (else the continuous one; its amplitude "
+       "on a sinusoidal axis)", "stage/current_limit"),
     _d("peak_current_ratio_motor", "ratio", "1", "axis",
-       "peak current divided by the motor's peak (else rated) current", "motor/peak_current"),
+       "peak current divided by the motor's peak current (else the rated one; its amplitude on a "
+       "sinusoidal axis)", "motor/peak_current"),
     _d("choke_peak_current", "current", "A", "axis",
        "peak choke current: the motor's or stage's peak current plus half the ripple", "chokes"),
     _d("choke_saturation_ratio", "ratio", "1", "axis",

@@ -212,10 +212,25 @@ class Motor(_Model):
     )
     torque_constant: TorqueConstant
     back_emf_constant: BackEmfConstant
-    rated_current: Current = Field(description="continuous (rated) current")
-    peak_current: Current | None = Field(None, description="permitted peak current")
+    rated_current: Current = Field(
+        description=(
+            "continuous (rated) current: the DC current of a brushed motor, the RMS phase "
+            "current of a three-phase motor"
+        )
+    )
+    peak_current: Current | None = Field(
+        None,
+        description=(
+            "permitted peak current as an instantaneous value: for a three-phase motor the "
+            "amplitude of the phase current (sqrt 2 times an RMS figure)"
+        ),
+    )
     no_load_current: CurrentOrZero | None = Field(
-        None, description="no-load (friction) current, added to the torque current"
+        None,
+        description=(
+            "no-load (friction) current, added to the torque current (RMS phase current "
+            "for a three-phase motor)"
+        ),
     )
     pole_pairs: Integer | None = Field(
         None, ge=1, le=200, description="number of pole pairs (three-phase motors)"
@@ -284,8 +299,16 @@ class Pwm(_Model):
 class CurrentLimits(_Model):
     """Current limits of the power stage."""
 
-    continuous: Current = Field(description="continuous output current")
-    peak: Current | None = Field(None, description="peak output current")
+    continuous: Current = Field(
+        description="continuous output current (the RMS phase current of a three-phase stage)"
+    )
+    peak: Current | None = Field(
+        None,
+        description=(
+            "peak output current as an instantaneous value (the amplitude of the phase "
+            "current of a three-phase stage)"
+        ),
+    )
 
 
 class CurrentLoop(_Model):
