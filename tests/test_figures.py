@@ -213,6 +213,19 @@ def test_rms_rating_standing_in_for_a_peak_counts_as_its_amplitude():
     assert dc.value("peak_current_ratio_motor") == pytest.approx(dc.value("peak_current") / 2.0, rel=1e-12)
 
 
+def test_choke_peak_from_an_rms_operating_current_is_its_amplitude():
+    """With neither a stage peak limit nor a motor peak current, the choke's peak is
+    the largest operating current plus half the worst ripple (PHYSICS.md §7.5); on a
+    sinusoidal axis that current is an RMS phase current, so its amplitude (sqrt 2
+    times it) is what the choke carries at the crest."""
+    data = _e5_axis(points=[{"name": "p", "speed": "1000 rpm", "torque": "0.075 N*m", "ambient": "25 degC"}])
+    data["chokes"] = {"inductance": "100 uH", "placement": "per-phase", "count": 3, "saturation_current": "5 A"}
+    fs = figures_of(data)
+    i_rms = fs.value("current", "p")
+    expected = math.sqrt(2) * i_rms + fs.value("ripple_pp_worst") / 2
+    assert fs.value("choke_peak_current") == pytest.approx(expected, rel=1e-12)
+
+
 def test_three_phase_supply_window_has_no_ripple_top_when_ripple_stays_low():
     """With four times the inductance the ripple can never reach 20 % of the rated
     current (its supremum a/(2 L_ph f), PHYSICS.md §2.3): only the duty floor bounds

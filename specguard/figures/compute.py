@@ -625,7 +625,9 @@ def _chokes(spec, ax, elec, axis, missing, notes):
     elif spec.motor.peak_current is not None:
         base, source = spec.motor.peak_current, "the motor's peak current"
     else:
-        base, source = max(e["current"] for e in elec), "the largest operating current"
+        # an RMS phase current on a sinusoidal axis: its amplitude is what saturates
+        amplitude = SQRT2 if ax.topology == "sinusoidal" else 1.0
+        base, source = max(e["current"] for e in elec) * amplitude, "the largest operating current"
     i_pk = float(P.choke.choke_peak_current(base, worst_ripple))
     axis["choke_peak_current"] = i_pk
     notes["choke_peak_current"] = f"{source} plus half the worst-case ripple"
