@@ -830,6 +830,7 @@ def main(argv: list[str] | None = None) -> int:
         )
         return EXIT_INTERNAL
     finally:
+        received.clear()  # the statuses above are taken; the next run starts clean
         sys.unraisablehook = unraisable
         restore()
 

@@ -213,6 +213,8 @@ def test_nothing_is_written_after_a_swallowed_signal(monkeypatch, capsys, tmp_pa
     assert cli.main(["check", "x"]) == 130
     assert target.read_bytes() == OLD and temps(tmp_path) == []
     assert capsys.readouterr().out == ""
+    write_atomic(target, "after the run")  # the signal belonged to that run only
+    assert target.read_text(encoding="utf-8") == "after the run"
 
 
 def test_unrelated_unraisable_exceptions_are_still_reported(monkeypatch, capsys):
