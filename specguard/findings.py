@@ -19,7 +19,9 @@ BUILTIN_IDS: dict[str, str] = {
     "input-unreadable": "an input path is missing, unreadable or not a regular file (exit 2)",
     "text-encoding": "the file is not valid UTF-8 text, or holds forbidden characters",
     "yaml-syntax": "the YAML text cannot be parsed",
-    "yaml-structure": "the document has the wrong shape (empty, several documents, root not a mapping, directive, undefined alias)",
+    "yaml-structure": (
+        "the document has the wrong shape (empty, several documents, root not a mapping, directive, undefined alias)"
+    ),
     "yaml-limit": "a size, depth, alias or node budget of the loader was exceeded",
     "yaml-tag": "an explicit YAML tag was used; specs carry plain values only",
     "yaml-key": "a mapping key is duplicated or is not a string",

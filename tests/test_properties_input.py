@@ -149,7 +149,9 @@ def valid_spec(draw):
     motor = {
         "type": "three-phase" if three else "brushed-dc",
         "winding": draw(st.sampled_from(["iron-core", "coreless", "slotless"])),
-        "terminal_resistance": {"value": draw(_q("resistance", 0.01, 50.0)), "at": draw(_q("temperature", 283.15, 323.15))},
+        "terminal_resistance": {
+            "value": draw(_q("resistance", 0.01, 50.0)), "at": draw(_q("temperature", 283.15, 323.15)),
+        },
         "torque_constant": {
             "value": draw(_q("torque_constant", 1e-3, 2.0)),
             "current": draw(st.sampled_from(["phase-rms", "phase-peak", "block"])) if three else "dc",

@@ -30,6 +30,7 @@ from . import FigureSet, Remedy
 SQRT2 = math.sqrt(2.0)
 SQRT3 = math.sqrt(3.0)
 KELVIN_20C = 293.15
+_CHOKES_NOT_IN_EVERY_PHASE = "; chokes not fitted in every phase are not counted"
 
 
 @dataclass(frozen=True)
@@ -195,7 +196,7 @@ def _axis(spec: Spec, settings: FigureSettings) -> _Axis:
 
     if topology in ("dc", "six-step"):
         if topology == "six-step" and chokes and n_choke < 3:
-            notes["loop_inductance"] = notes.get("loop_inductance", "") + "; chokes not fitted in every phase are not counted"
+            notes["loop_inductance"] = notes.get("loop_inductance", "") + _CHOKES_NOT_IN_EVERY_PHASE
             n_choke = 0
         n_in_loop = n_choke if topology == "dc" else (2 if n_choke == 3 else 0)
         added = n_in_loop * l_choke + 2.0 * l_out
@@ -215,7 +216,7 @@ def _axis(spec: Spec, settings: FigureSettings) -> _Axis:
             l_phase_cat = float(P.threephase.star_equivalent_inductance(l_catalogue))
         per_phase_choke = l_choke if n_choke == 3 else 0.0
         if chokes and n_choke < 3:
-            notes["loop_inductance"] = notes.get("loop_inductance", "") + "; chokes not fitted in every phase are not counted"
+            notes["loop_inductance"] = notes.get("loop_inductance", "") + _CHOKES_NOT_IN_EVERY_PHASE
         inductance = l_phase + per_phase_choke + l_out
         inductance_cat = l_phase_cat + per_phase_choke + l_out
         series = r_switch + (r_choke if n_choke == 3 else 0.0) + r_cable
@@ -361,7 +362,9 @@ def compute(spec: Spec, settings: FigureSettings | None = None) -> FigureSet:
         "loop_inductance_catalogue": ax.inductance_catalogue,
         "loop_resistance_hot": ax.resistance_hot,
         "electrical_time_constant": ax.inductance / ax.resistance_hot,
-        "ripple_period_over_tau": float(P.hbridge.ripple_period_to_time_constant(ax.resistance_hot, ax.inductance, ax.f_ripple)),
+        "ripple_period_over_tau": float(
+            P.hbridge.ripple_period_to_time_constant(ax.resistance_hot, ax.inductance, ax.f_ripple)
+        ),
     }
     axis.update(ax.flags)
     missing = dict(ax.missing)
@@ -680,12 +683,16 @@ def remedy(name: str, spec: Spec, figures: FigureSet, *, point: str | None, limi
     if name == "added_inductance":
         if three:
             M = modulation if modulation is not None else P.threephase.modulation_index_limit(ax.scheme)
-            value = P.remedies.added_phase_inductance_min(V, ax.inductance, ax.f_leg, min(M, P.threephase.modulation_index_limit(ax.scheme)), ax.scheme, rated, limit)
+            value = P.remedies.added_phase_inductance_min(
+                V, ax.inductance, ax.f_leg, min(M, P.threephase.modulation_index_limit(ax.scheme)), ax.scheme,
+                rated, limit)
             where = "per phase (one choke in each phase)"
         else:
             m = None if modulation is None else min(max(modulation, 0.0), 1.0)
-            value = P.remedies.added_inductance_min(V, ax.inductance, ax.resistance_hot, ax.f_leg, ax.scheme, rated, limit, modulation=m)
-            where = "in total, split over both motor leads" if ax.topology == "dc" else "in the two conducting phases together"
+            value = P.remedies.added_inductance_min(
+                V, ax.inductance, ax.resistance_hot, ax.f_leg, ax.scheme, rated, limit, modulation=m)
+            where = ("in total, split over both motor leads" if ax.topology == "dc"
+                     else "in the two conducting phases together")
             if value is not None and ax.topology == "dc" and value > 0:
                 return Remedy(name, f"add at least {_fmt(value / 2.0, 'inductance')} per lead", float(value) / 2.0, "H")
         if value is None:
@@ -696,16 +703,19 @@ def remedy(name: str, spec: Spec, figures: FigureSet, *, point: str | None, limi
     if name == "pwm_frequency":
         if three:
             M = modulation if modulation is not None else P.threephase.modulation_index_limit(ax.scheme)
-            value = P.remedies.pwm_frequency_min_three_phase(V, ax.inductance, min(M, P.threephase.modulation_index_limit(ax.scheme)), ax.scheme, rated, limit)
+            value = P.remedies.pwm_frequency_min_three_phase(
+                V, ax.inductance, min(M, P.threephase.modulation_index_limit(ax.scheme)), ax.scheme, rated, limit)
         else:
             m = None if modulation is None else min(max(modulation, 0.0), 1.0)
-            value = P.remedies.pwm_frequency_min(V, ax.inductance, ax.resistance_hot, ax.scheme, rated, limit, modulation=m)
+            value = P.remedies.pwm_frequency_min(
+                V, ax.inductance, ax.resistance_hot, ax.scheme, rated, limit, modulation=m)
         if value is None:
             return Remedy(name, "no PWM frequency below 1 MHz reaches the limit", None, "Hz")
         if value <= 0 or value <= ax.f_leg:
             return None
         note = " (re-check the inductance there)" if spec.motor.inductance_vs_frequency else ""
-        return Remedy(name, f"raise the PWM frequency to at least {_fmt(value, 'frequency')} per leg{note}", float(value), "Hz")
+        text = f"raise the PWM frequency to at least {_fmt(value, 'frequency')} per leg{note}"
+        return Remedy(name, text, float(value), "Hz")
     if name == "supply_voltage_for_ripple":
         if three and point is not None:
             point_values = next(values for n, values in figures.points if n == point)
@@ -737,7 +747,8 @@ def remedy(name: str, spec: Spec, figures: FigureSet, *, point: str | None, limi
                 dead_time=ax.dead_time,
             )
         else:
-            value = P.remedies.supply_voltage_max_for_ripple(ax.inductance, ax.resistance_hot, ax.f_leg, ax.scheme, rated, limit)
+            value = P.remedies.supply_voltage_max_for_ripple(
+                ax.inductance, ax.resistance_hot, ax.f_leg, ax.scheme, rated, limit)
         if value is None or not math.isfinite(value) or value >= V:
             return None
         needed = figures.value("supply_min")
@@ -757,7 +768,9 @@ def remedy(name: str, spec: Spec, figures: FigureSet, *, point: str | None, limi
         value = V * float(needed) / limit  # m scales as 1/V for fixed terminal voltage
         if value >= V:
             return None
-        return Remedy(name, f"lower the supply to at most {_fmt(value, 'voltage')} (modulation then {limit:.0%} at the most demanding point)", value, "V")
+        text = (f"lower the supply to at most {_fmt(value, 'voltage')} "
+                f"(modulation then {limit:.0%} at the most demanding point)")
+        return Remedy(name, text, value, "V")
     if name == "supply_voltage_min":
         value = figures.value("supply_min")
         if value is None:
@@ -766,7 +779,9 @@ def remedy(name: str, spec: Spec, figures: FigureSet, *, point: str | None, limi
     if name == "pwm_frequency_inaudible":
         ratio = ax.f_ripple / ax.f_leg
         value = limit / ratio
-        return Remedy(name, f"raise the PWM frequency to at least {_fmt(value, 'frequency')} per leg (ripple then at {_fmt(limit, 'frequency')})", value, "Hz")
+        text = (f"raise the PWM frequency to at least {_fmt(value, 'frequency')} per leg "
+                f"(ripple then at {_fmt(limit, 'frequency')})")
+        return Remedy(name, text, value, "Hz")
     if name == "choke_saturation_current":
         i_pk = figures.value("choke_peak_current")
         if i_pk is None or limit <= 0:
@@ -779,7 +794,8 @@ def remedy(name: str, spec: Spec, figures: FigureSet, *, point: str | None, limi
             return None
         sampling = ax.f_leg * (2.0 if loop.sampling == "double-update" else 1.0)
         value = limit * sampling
-        return Remedy(name, f"lower the current-loop bandwidth to at most {_fmt(value, 'frequency')}, or raise the PWM frequency", value, "Hz")
+        text = f"lower the current-loop bandwidth to at most {_fmt(value, 'frequency')}, or raise the PWM frequency"
+        return Remedy(name, text, value, "Hz")
     return None
 
 
@@ -885,7 +901,8 @@ def _plausibility(spec, ax, elec, rows, axis, missing):
             axis["winding_limit_over_class"] = thermal.max_winding_temperature - float(
                 P.thermal.insulation_class_temperature(thermal.insulation_class))
         else:
-            missing["winding_limit_over_class"] = "motor.thermal does not give both max_winding_temperature and insulation_class"
+            missing["winding_limit_over_class"] = (
+                "motor.thermal does not give both max_winding_temperature and insulation_class")
 
     # mechanics: mechanical time constant, inertia ratio, speeds
     if motor.rotor_inertia is not None:

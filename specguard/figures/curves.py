@@ -286,7 +286,8 @@ def ripple_vs_added_inductance(spec, figures, fraction: float = DEFAULT_RIPPLE_F
     if fam in ("hbridge", "six_step"):
         bridge = scheme if fam == "hbridge" else threephase.six_step_equivalent_scheme(scheme)
         value = _finite(
-            remedies.added_inductance_min(voltage, inductance, resistance, frequency, bridge, limit / fraction, fraction)
+            remedies.added_inductance_min(
+                voltage, inductance, resistance, frequency, bridge, limit / fraction, fraction)
         )
         needed = None if value is None else value / factor
     span = max(2.0 * needed if needed else 0.0, 4.0 * inductance / factor)

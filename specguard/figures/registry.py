@@ -73,7 +73,8 @@ FIGURES: tuple[FigureDef, ...] = (
     _d("ripple_ratio", "ratio", "1", "point", "peak-to-peak ripple divided by the rated current",
        *_PWM, *_L, "motor/rated_current"),
     _d("ripple_pp_worst", "current", "A", "axis",
-       "largest peak-to-peak ripple over the envelope of duty cycles or modulation indices the axis can reach", *_PWM, *_L),
+       "largest peak-to-peak ripple over the envelope of duty cycles or modulation indices the axis can reach",
+       *_PWM, *_L),
     _d("ripple_ratio_worst", "ratio", "1", "axis", "worst-case ripple divided by the rated current",
        *_PWM, *_L, "motor/rated_current"),
     _d("ripple_rms", "current", "A", "point", "RMS of the ripple component alone", *_PWM, *_L),
@@ -202,7 +203,8 @@ FIGURES: tuple[FigureDef, ...] = (
        "declared maximum winding temperature minus the temperature of the declared insulation class",
        "motor/thermal/max_winding_temperature", "motor/thermal/insulation_class"),
     _d("mechanical_time_constant", "time", "s", "axis",
-       "mechanical time constant of the unloaded motor: rotor inertia times loss resistance over the torque constant squared",
+       "mechanical time constant of the unloaded motor: rotor inertia times loss resistance over the torque "
+       "constant squared",
        "motor/rotor_inertia", "motor/terminal_resistance", "motor/torque_constant"),
     _d("mechanical_time_constant_mismatch", "ratio", "1", "axis",
        "relative difference between the declared (catalogue) mechanical time constant and the one "

@@ -45,8 +45,10 @@ FILL = "#c9d3dc"
 FILL_BAD = "#d9a38b"
 
 _STYLE = """
-body{font-family:system-ui,sans-serif;color:#222;background:#fff;margin:0 auto;max-width:62rem;padding:1rem 1.5rem;line-height:1.4}
-h1{font-size:1.5rem;margin:.5rem 0}h2{font-size:1.25rem;margin:2rem 0 .5rem;border-bottom:2px solid #bbb;padding-bottom:.2rem}
+body{font-family:system-ui,sans-serif;color:#222;background:#fff;margin:0 auto;max-width:62rem;
+padding:1rem 1.5rem;line-height:1.4}
+h1{font-size:1.5rem;margin:.5rem 0}
+h2{font-size:1.25rem;margin:2rem 0 .5rem;border-bottom:2px solid #bbb;padding-bottom:.2rem}
 h3{font-size:1.05rem;margin:1.2rem 0 .4rem}
 .caution{border:1px solid #999;background:#f4f4f4;padding:.6rem .8rem;margin:.8rem 0}
 .verdict{display:inline-block;padding:.1rem .5rem;border:1px solid #666;font-weight:600}
@@ -142,7 +144,8 @@ def verdict(result, fail_level: str) -> tuple[str, str]:
         if not _suppressed(f) and SEVERITY_ORDER.get(f.severity, 2) >= threshold
     ]
     if any(f.rule in _UNREADABLE for f in failing) and result.spec is None:
-        return "v-unread", f"could not be read ({len(failing)} finding{'s' if len(failing) != 1 else ''} at or above {fail_level})"
+        plural = "s" if len(failing) != 1 else ""
+        return "v-unread", f"could not be read ({len(failing)} finding{plural} at or above {fail_level})"
     if failing:
         return "v-fail", f"fails: {len(failing)} finding{'s' if len(failing) != 1 else ''} at or above {fail_level}"
     return "v-pass", "passes"
@@ -458,7 +461,8 @@ def _figures_tables(fs) -> str:
             axis_rows.append(
                 f'<tr><th scope="row" title="{text(d.meaning)}">{text(name)}'
                 f'<span class="meaning">{text(d.meaning)}</span></th>'
-                f'<td>{text(d.unit or DASH)}</td><td class="num">{text(show_value(fs.axis[name], d.dimension, d.unit))}</td>'
+                f'<td>{text(d.unit or DASH)}</td>'
+                f'<td class="num">{text(show_value(fs.axis[name], d.dimension, d.unit))}</td>'
                 f"{_note(fs, name)}</tr>"
             )
     for name in sorted(k for k in fs.axis if k not in FIGURE_DEFS):
@@ -650,5 +654,6 @@ def render(report, *, generated: str | None = None, ripple_fraction: float = 0.2
     if toc:
         intro.append(f'<ul class="toc">{toc}</ul>')
     sections = [_axis_section(plotter, r, i, report.fail_level, ripple_fraction) for i, r in enumerate(report.files)]
-    foot = '<p class="muted">Written by specguard. Values in SI internally; shown in readable units.</p></body></html>\n'
+    foot = ('<p class="muted">Written by specguard. Values in SI internally; shown in readable units.</p>'
+            '</body></html>\n')
     return head + "".join(intro) + "".join(sections) + foot

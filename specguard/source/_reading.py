@@ -130,7 +130,8 @@ def _check_text(ref: str) -> None:
     if _CONTROL.search(ref):
         raise ReferenceProblem(f"reference {q} contains a NUL, line break or control character")
     if ref.startswith("\\\\") or ref.startswith("//"):
-        raise ReferenceProblem(f"reference {q} is a network (UNC) path; it must be a relative path inside the repository")
+        raise ReferenceProblem(
+            f"reference {q} is a network (UNC) path; it must be a relative path inside the repository")
     if ref.startswith("/") or ref.startswith("\\"):
         raise ReferenceProblem(f"reference {q} is an absolute path; it must be a relative path inside the repository")
     if _DRIVE.match(ref):
@@ -185,7 +186,8 @@ def open_reference(
     for d in denied:
         d_real = os.path.realpath(os.fspath(d))
         if real == d_real or _inside(real, d_real):
-            raise ReferenceProblem(f"reference {q} points to '{_rel(d_real, real_root)}', which specs may not reference")
+            raise ReferenceProblem(
+                f"reference {q} points to '{_rel(d_real, real_root)}', which specs may not reference")
     try:
         st = os.lstat(real)
     except FileNotFoundError:

@@ -104,7 +104,9 @@ def decode(raw: bytes, max_problems: int = 10) -> tuple[str | None, list[TextPro
     body = raw[skip:] if skip else raw
     if _looks_wide(body):
         return None, [
-            TextProblem("text-encoding", "file looks like UTF-16 or UTF-32 (zero bytes between letters); it must be UTF-8")
+            TextProblem(
+                "text-encoding", "file looks like UTF-16 or UTF-32 (zero bytes between letters); it must be UTF-8"
+            )
         ]
     try:
         text = body.decode("utf-8")

@@ -108,7 +108,8 @@ def test_repointed_symbolic_link_invalidates(demo_repo, cache_env, link):
     if link == "file":
         pointer = chokes / "current.yaml"
         os.symlink("choke-47uh-6a.yaml", pointer)
-        ref, swap = "../library/chokes/current.yaml", lambda: (pointer.unlink(), os.symlink("choke-470uh.yaml", pointer))
+        ref = "../library/chokes/current.yaml"
+        swap = lambda: (pointer.unlink(), os.symlink("choke-470uh.yaml", pointer))  # noqa: E731
     else:
         (demo_repo / "variants" / "a").mkdir(parents=True)
         (demo_repo / "variants" / "b").mkdir()
@@ -116,7 +117,8 @@ def test_repointed_symbolic_link_invalidates(demo_repo, cache_env, link):
         (demo_repo / "variants" / "b" / "choke.yaml").write_text(bigger.read_text(encoding="utf-8"), encoding="utf-8")
         pointer = demo_repo / "variants" / "current"
         os.symlink("a", pointer)
-        ref, swap = "../variants/current/choke.yaml", lambda: (pointer.unlink(), os.symlink("b", pointer))
+        ref = "../variants/current/choke.yaml"
+        swap = lambda: (pointer.unlink(), os.symlink("b", pointer))  # noqa: E731
     text = spec.read_text(encoding="utf-8")
     spec.write_text(text.replace("../library/chokes/choke-47uh-6a.yaml", ref), encoding="utf-8")
     first = specguard(demo_repo, "check", ".", "--format", "json")

@@ -13,7 +13,8 @@ HEAVY = ("pydantic", "ruamel", "numpy", "jsonschema", "specguard.engine", "specg
 
 def test_no_files_exits_zero_without_loading_the_checker(demo_repo):
     code = ("import sys; from specguard.cli import main; status = main(['hook']); "
-            f"print(status, sorted({{m.split('.')[0] if not m.startswith('specguard') else m for m in sys.modules}} & set({HEAVY!r})))")
+            "print(status, sorted({m.split('.')[0] if not m.startswith('specguard') else m for m in sys.modules}"
+            f" & set({HEAVY!r})))")
     done = subprocess.run([sys.executable, "-c", code], cwd=demo_repo, capture_output=True, text=True)
     assert done.stdout.strip() == "0 []", done.stdout + done.stderr
     assert specguard(demo_repo, "hook").returncode == 0

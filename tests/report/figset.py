@@ -99,7 +99,8 @@ def make_figures(spec) -> FigureSet:
             m_max = threephase.modulation_index_limit(scheme) * float(stage.pwm.max_duty)
             pp = float(threephase.phase_ripple_peak_to_peak_max(volts, loop_l, f_leg, m, scheme))
             r_rms = float(threephase.phase_ripple_rms(volts, loop_l, f_leg, m, scheme))
-            vals.update(terminal_voltage=v_pk, modulation=m, duty=0.5 + 0.5 * m / threephase.modulation_index_limit(scheme),
+            vals.update(terminal_voltage=v_pk, modulation=m,
+                        duty=0.5 + 0.5 * m / threephase.modulation_index_limit(scheme),
                         modulation_ratio=m / m_max)
         vals.update(ripple_pp=pp, ripple_ratio=pp / rated, ripple_rms=r_rms)
         i_rms = float(rms.three_phase_current_rms(current, r_rms))

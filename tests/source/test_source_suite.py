@@ -42,7 +42,9 @@ WRONG_VALUE = {
 # Our documented rejections of valid YAML: not a single mapping document, tags,
 # directives, non-string keys, escaped control characters. Every rejection must
 # still be one of these located rules.
-ALLOWED_REJECTIONS = {"yaml-structure", "yaml-tag", "yaml-key", "yaml-syntax", "text-encoding", "number-invalid", "yaml-limit"}
+ALLOWED_REJECTIONS = {
+    "yaml-structure", "yaml-tag", "yaml-key", "yaml-syntax", "text-encoding", "number-invalid", "yaml-limit",
+}
 
 
 def _outcomes(kind: str):
