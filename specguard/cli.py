@@ -311,10 +311,12 @@ def _render(report, fmt: str, colour: bool) -> str:
 _ESCAPE_ERRORS = "specguard-uescape"
 
 
-def _u_escape(error: UnicodeEncodeError):
+def _u_escape(error: UnicodeError) -> tuple[str, int]:
     """Codec error handler: each character the encoding lacks as ``\\uXXXX`` (a UTF-16
     pair above U+FFFF), readable in text and still valid inside JSON strings, where
     "backslashreplace" would write ``\\xfc``, which JSON does not accept (FI18)."""
+    if not isinstance(error, UnicodeEncodeError):  # registered for encoding only
+        raise error
     out = []
     for ch in error.object[error.start:error.end]:
         cp = ord(ch)
@@ -393,7 +395,7 @@ def _run_check(args, paths: list[str], root: Path, select=None) -> int:
     write_baseline = Path(args.write_baseline) if getattr(args, "write_baseline", None) else None
     for option, target in (("--output", output), ("--write-baseline", write_baseline)):
         problem = target_problem(target) if target is not None else None
-        if problem is not None:
+        if target is not None and problem is not None:
             return _fail(f"{option} {target.as_posix()}: {problem}", "output-error")
     denied = tuple(p for p in (output, write_baseline) if p) + _cache_dir_denied(args)
     prepared = _prepare_run(args, root, denied)

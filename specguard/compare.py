@@ -148,7 +148,7 @@ class Comparison:
     exit_status: int
 
 
-def _figure_rows(fs) -> dict[tuple[str | None, str], object]:
+def _figure_rows(fs) -> dict[tuple[str | None, str], float | bool]:
     if fs is None:
         return {}
     rows: dict = {(None, k): v for k, v in fs.axis.items()}
@@ -222,6 +222,7 @@ def compare_reports(old_report, new_report, rev: str, commit: str, fail_level: s
     for name in sorted(set(old_files) | set(new_files)):
         o, n = old_files.get(name), new_files.get(name)
         if o is None:
+            assert n is not None  # the name comes from one side or the other
             fc = FileComparison(name, "added", [], list(n.findings),
                                 [], [], n.input_error)
         elif n is None:
@@ -230,8 +231,8 @@ def compare_reports(old_report, new_report, rev: str, commit: str, fail_level: s
         else:
             added, gone, same = _match(o.findings, n.findings)
             figs = _figure_changes(o.figures, n.figures)
-            status = "changed" if (added or gone or figs) else "unchanged"
-            fc = FileComparison(name, status, figs, added, gone, same, n.input_error)
+            change = "changed" if (added or gone or figs) else "unchanged"
+            fc = FileComparison(name, change, figs, added, gone, same, n.input_error)
         files.append(fc)
         for f in fc.new:
             if not f.suppressed and SEVERITY_ORDER[f.severity] >= threshold:

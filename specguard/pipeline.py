@@ -11,8 +11,14 @@ import datetime as _dt
 import os
 from dataclasses import dataclass, field, replace
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from .findings import SEVERITY_ORDER, Finding, Location
+
+if TYPE_CHECKING:  # for the annotations only: these modules load on use
+    from .engine.baseline import Baseline, BaselineOutcome
+    from .engine.config import EffectiveConfig
+    from .engine.pack import Pack
 
 # File pattern for specs found by searching a directory (documented in README).
 SPEC_SUFFIXES = (".axis.yaml", ".axis.yml")
@@ -50,11 +56,11 @@ class RuleDoc:
 class RunOptions:
     """The policy of one run, applied after the rules (engine: config, waivers, baseline)."""
 
-    config: object | None = None  # specguard.engine.config.EffectiveConfig
-    pack: object | None = None  # specguard.engine.pack.Pack
+    config: EffectiveConfig | None = None
+    pack: Pack | None = None
     today: _dt.date | None = None  # reference date for waiver expiry (None: today)
     no_waivers: bool = False  # --no-waivers: ignore every waiver
-    baseline: object | None = None  # specguard.engine.baseline.Baseline
+    baseline: Baseline | None = None
     strict_baseline: bool = False
     # files specs may not reference: the baseline and the reports (RELIABILITY.md H11)
     denied: tuple = ()
@@ -66,7 +72,7 @@ class Report:
     fail_level: str = "error"
     parser: str = ""
     extra: dict = field(default_factory=dict)
-    baseline: object | None = None  # specguard.engine.baseline.BaselineOutcome
+    baseline: BaselineOutcome | None = None
     rules: tuple[RuleDoc, ...] = ()
 
     @property
@@ -426,7 +432,9 @@ def check_paths(
         if progress is not None:
             progress(done, total)
     rules = rule_docs(options.pack) if options is not None and options.pack is not None else ()
-    report = Report(tuple(results), fail_level=fail_level, parser=parser_path(), rules=rules)
+    checked = tuple(r for r in results if r is not None)
+    assert len(checked) == len(results)  # every file has its result by now
+    report = Report(checked, fail_level=fail_level, parser=parser_path(), rules=rules)
     if options is not None and options.baseline is not None:
         report = apply_baseline(report, options.baseline, root, options.strict_baseline)
     return report

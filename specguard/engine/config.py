@@ -482,6 +482,10 @@ class EffectiveConfig:
 _BAND_ORDER = {"info": 0, "warning": 1, "error": 2}
 
 
+def _band_rank(band: str) -> int:
+    return _BAND_ORDER.get(band, len(_BAND_ORDER))
+
+
 def _show(value: Any, key: str) -> str:
     if value is None and key == "severity":
         return "per band (as the rule file says)"
@@ -783,7 +787,7 @@ def validate(
                             locate,
                             where,
                             f"rule '{rule}' has no '{band}' band "
-                            f"(it has: {', '.join(sorted(facts.bands, key=_BAND_ORDER.get))})",
+                            f"(it has: {', '.join(sorted(facts.bands, key=_band_rank))})",
                             key=True,
                         )
                     )

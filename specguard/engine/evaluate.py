@@ -327,7 +327,9 @@ def example_data(prule: PackRule, which: str) -> dict:
             ]
         )
     overlay = prule.rule.examples.pass_ if which == "pass" else prule.rule.examples.fail
-    return merge_overlay(result.data, overlay)
+    merged = merge_overlay(result.data, overlay)
+    assert isinstance(merged, dict)  # a mapping merged with a mapping overlay
+    return merged
 
 
 # ---------------------------------------------------------------- overrides
@@ -618,16 +620,16 @@ def evaluate(
 
         remedy = remedy_default
     resolved: dict[str, RuleOverride] = {}
-    for name, override in overrides.items():
+    for name, given in overrides.items():
         prule = pack.get(name)
         if prule is None:
             raise OverrideError(f"unknown rule '{name}' in the overrides")
-        resolved[prule.id] = override
+        resolved[prule.id] = given
     point_values = dict(figures.points)
     point_index = {op.name: i for i, op in enumerate(spec.operating_points)}
     out: list[Finding] = []
     for prule in pack.rules:
-        override = resolved.get(prule.id)
+        override: RuleOverride | None = resolved.get(prule.id)
         if override is not None and not override.enabled:
             continue
         if override is not None and override.thresholds:

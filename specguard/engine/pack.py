@@ -513,7 +513,7 @@ class OverrideError(ValueError):
 
 
 # ------------------------------------------------------------- text helpers
-def format_value(value: object, dimension: str) -> str:
+def format_value(value: float | bool, dimension: str) -> str:
     """A figure value for messages: SI with its unit, ratios as percent, flags yes/no."""
     if dimension == "flag":
         return "yes" if value else "no"

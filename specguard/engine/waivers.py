@@ -28,7 +28,7 @@ import difflib
 from collections.abc import Callable, Iterable, Mapping
 from dataclasses import replace
 
-from ..findings import BUILTIN_IDS, Finding, Location
+from ..findings import BUILTIN_IDS, Finding, Location, Severity
 from .types import RuleOverride
 
 Locate = Callable[..., tuple[Location, tuple[Location, ...]]]
@@ -67,7 +67,7 @@ def apply_waivers(
         rule = (names or {}).get(waiver.rule, waiver.rule)
 
         def problem(
-            message: str, severity: str = "error", field: str | None = None, base: tuple = base
+            message: str, severity: Severity = "error", field: str | None = None, base: tuple = base
         ) -> None:
             loc, related = locate(base + ((field,) if field else ()))
             problems.append(Finding("waiver-invalid", severity, message, loc, related))

@@ -126,7 +126,7 @@ def _motor_inductance(spec: Spec, f_ripple: float, settings: FigureSettings, ax_
         flags["inductance_table_rising"] = bool(P.inductance.table_non_monotonic(freqs, values))
         ax_notes["loop_inductance"] = "motor inductance interpolated (log-log) in the measured table"
         catalogue = motor.terminal_inductance.value if motor.terminal_inductance else values[0]
-        return float(result.value), float(catalogue)
+        return float(result.value), float(catalogue)  # type: ignore[arg-type]  # a float for float input
     assert motor.terminal_inductance is not None  # the model guarantees one of the two
     catalogue = motor.terminal_inductance.value
     if motor.terminal_inductance.measured_at >= f_ripple:
@@ -594,9 +594,11 @@ def _thermal(spec, ax, elec, rows, axis, missing, notes):
 
 def _profile_segments(spec: Spec, ax: _Axis) -> list:
     """Thermal segments of the motion profile: duration and RMS current with ripple."""
+    profile = spec.profile
+    assert profile is not None  # called for specs with a profile only
     return [
         P.thermal.Segment(s.duration, _electrical(spec, ax, s.speed, s.torque)["rms_current"], 0.0)
-        for s in spec.profile.segments
+        for s in profile.segments
     ]
 
 

@@ -12,7 +12,7 @@ from __future__ import annotations
 import difflib
 import types
 import typing
-from collections.abc import Callable
+from collections.abc import Callable, Mapping
 from typing import Any
 
 from pydantic import BaseModel, ValidationError
@@ -85,7 +85,7 @@ def _field_path(loc: tuple) -> tuple:
     return tuple(p for p in loc if isinstance(p, (str, int)))
 
 
-def _error_to_finding(err: dict, data: dict, locate: Locate) -> Finding:
+def _error_to_finding(err: Mapping[str, Any], data: dict, locate: Locate) -> Finding:
     path = _field_path(err.get("loc", ()))
     kind = err.get("type", "")
     where = dotted(path) or "spec"

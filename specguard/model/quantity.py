@@ -10,9 +10,11 @@ with a pattern built from the accepted units, plus ``x-dimension`` and
 from __future__ import annotations
 
 import re
+from collections.abc import Iterator
 from functools import cache
-from typing import Annotated, Any
+from typing import Any
 
+from annotated_types import GroupedMetadata
 from pydantic import AfterValidator, BeforeValidator, WithJsonSchema
 from pydantic_core import PydanticCustomError
 
@@ -66,36 +68,46 @@ def _range_check(dimension: str, gt: float | None, ge: float | None, le: float |
     return check
 
 
-def Quantity(
-    dimension: str,
-    description: str,
-    *,
-    gt: float | None = None,
-    ge: float | None = None,
-    le: float | None = None,
-) -> Any:
-    """An ``Annotated[float, ...]`` type for a dimensional field.
+class Quantity(GroupedMetadata):
+    """The metadata of a dimensional field: ``Annotated[float, Quantity(...)]``.
 
-    ``gt``/``ge``/``le`` are SI bounds checked after conversion (the schema
-    cannot express them on a string; they appear as ``x-si-minimum`` etc.).
+    The field takes a string ``"value unit"`` of ``dimension`` and holds its SI value.
+    ``gt``/``ge``/``le`` are SI bounds checked after conversion (the schema cannot
+    express them on a string; they appear as ``x-si-minimum`` etc.). Pydantic
+    unpacks the group into its validators and JSON Schema; to a type checker the
+    field is a plain float.
     """
-    dim = units.DIMENSIONS[dimension]
-    schema: dict[str, Any] = {
-        "type": "string",
-        "pattern": unit_pattern(dimension),
-        "x-dimension": dimension,
-        "x-si-unit": dim.si_unit,
-        "examples": [dim.example],
-    }
-    if gt is not None:
-        schema["x-si-exclusive-minimum"] = gt
-    if ge is not None:
-        schema["x-si-minimum"] = ge
-    if le is not None:
-        schema["x-si-maximum"] = le
-    return Annotated[
-        float,
-        BeforeValidator(_parser(dimension)),
-        AfterValidator(_range_check(dimension, gt, ge, le)),
-        WithJsonSchema(schema),
-    ]
+
+    def __init__(
+        self,
+        dimension: str,
+        description: str,
+        *,
+        gt: float | None = None,
+        ge: float | None = None,
+        le: float | None = None,
+    ) -> None:
+        dim = units.DIMENSIONS[dimension]
+        schema: dict[str, Any] = {
+            "type": "string",
+            "pattern": unit_pattern(dimension),
+            "x-dimension": dimension,
+            "x-si-unit": dim.si_unit,
+            "examples": [dim.example],
+        }
+        if gt is not None:
+            schema["x-si-exclusive-minimum"] = gt
+        if ge is not None:
+            schema["x-si-minimum"] = ge
+        if le is not None:
+            schema["x-si-maximum"] = le
+        self.dimension = dimension
+        self.description = description
+        self._items = (
+            BeforeValidator(_parser(dimension)),
+            AfterValidator(_range_check(dimension, gt, ge, le)),
+            WithJsonSchema(schema),
+        )
+
+    def __iter__(self) -> Iterator[Any]:
+        return iter(self._items)

@@ -64,28 +64,28 @@ ShortText = Annotated[str, StringConstraints(min_length=1, max_length=200)]
 Url = Annotated[str, StringConstraints(max_length=500, pattern=r"^https://[^\s]+$")]
 
 # Dimensional field types (SI value after conversion).
-Voltage = Quantity("voltage", "voltage", gt=0)
-Current = Quantity("current", "current", gt=0)
-Resistance = Quantity("resistance", "resistance", gt=0)
-ResistanceOrZero = Quantity("resistance", "resistance", ge=0)
-Inductance = Quantity("inductance", "inductance", gt=0)
-InductanceOrZero = Quantity("inductance", "inductance", ge=0)
-Frequency = Quantity("frequency", "frequency", gt=0)
-Duration = Quantity("time", "duration", gt=0)
-DurationOrZero = Quantity("time", "duration", ge=0)
+Voltage = Annotated[float, Quantity("voltage", "voltage", gt=0)]
+Current = Annotated[float, Quantity("current", "current", gt=0)]
+Resistance = Annotated[float, Quantity("resistance", "resistance", gt=0)]
+ResistanceOrZero = Annotated[float, Quantity("resistance", "resistance", ge=0)]
+Inductance = Annotated[float, Quantity("inductance", "inductance", gt=0)]
+InductanceOrZero = Annotated[float, Quantity("inductance", "inductance", ge=0)]
+Frequency = Annotated[float, Quantity("frequency", "frequency", gt=0)]
+Duration = Annotated[float, Quantity("time", "duration", gt=0)]
+DurationOrZero = Annotated[float, Quantity("time", "duration", ge=0)]
 # Absolute temperatures: above absolute zero and below 1000 degC (plausibility).
-Temperature = Quantity("temperature", "absolute temperature", gt=0, le=1273.15)
-CurrentOrZero = Quantity("current", "current", ge=0)
-TorqueConstantValue = Quantity("torque_constant", "torque constant", gt=0)
-BackEmfConstantValue = Quantity("back_emf_constant", "back-EMF constant", gt=0)
-ThermalResistance = Quantity("thermal_resistance", "thermal resistance", gt=0)
-PositiveSpeed = Quantity("speed", "speed", gt=0)
-Speed = Quantity("speed", "speed", ge=0)
-Torque = Quantity("torque", "torque", ge=0)
-PositiveInertia = Quantity("inertia", "inertia", gt=0)
-Inertia = Quantity("inertia", "inertia", ge=0)
-Capacitance = Quantity("capacitance", "capacitance", gt=0)
-Length = Quantity("length", "length", gt=0)
+Temperature = Annotated[float, Quantity("temperature", "absolute temperature", gt=0, le=1273.15)]
+CurrentOrZero = Annotated[float, Quantity("current", "current", ge=0)]
+TorqueConstantValue = Annotated[float, Quantity("torque_constant", "torque constant", gt=0)]
+BackEmfConstantValue = Annotated[float, Quantity("back_emf_constant", "back-EMF constant", gt=0)]
+ThermalResistance = Annotated[float, Quantity("thermal_resistance", "thermal resistance", gt=0)]
+PositiveSpeed = Annotated[float, Quantity("speed", "speed", gt=0)]
+Speed = Annotated[float, Quantity("speed", "speed", ge=0)]
+Torque = Annotated[float, Quantity("torque", "torque", ge=0)]
+PositiveInertia = Annotated[float, Quantity("inertia", "inertia", gt=0)]
+Inertia = Annotated[float, Quantity("inertia", "inertia", ge=0)]
+Capacitance = Annotated[float, Quantity("capacitance", "capacitance", gt=0)]
+Length = Annotated[float, Quantity("length", "length", gt=0)]
 
 
 # --------------------------------------------------------------------- axis

@@ -19,6 +19,7 @@ Rules the formulas follow so that both paths behave alike:
 from __future__ import annotations
 
 import math
+from typing import Any
 
 __all__ = ["SCALAR", "VECTOR", "namespace", "is_scalar", "np"]
 
@@ -31,7 +32,7 @@ class _LazyNumpy:
     array argument imports it.
     """
 
-    _module = None
+    _module: Any = None
 
     def __getattr__(self, name: str):
         module = _LazyNumpy._module

@@ -11,10 +11,13 @@ overmodulation are not covered: the closed forms return NaN outside
 from __future__ import annotations
 
 import math
-from typing import NamedTuple
+from typing import TYPE_CHECKING, NamedTuple
 
 from specguard.physics import hbridge
 from specguard.physics._num import namespace, np
+
+if TYPE_CHECKING:
+    import numpy
 
 __all__ = [
     "SPWM",
@@ -301,9 +304,9 @@ class NumericRipple(NamedTuple):
 
     rms: float  # [A] over the fundamental period
     peak_to_peak_max: float  # [A]
-    angles: np.ndarray  # [rad] fundamental angles evaluated
-    peak_to_peak: np.ndarray  # [A] per angle
-    mean_square: np.ndarray  # [A^2] per angle
+    angles: numpy.ndarray  # [rad] fundamental angles evaluated
+    peak_to_peak: numpy.ndarray  # [A] per angle
+    mean_square: numpy.ndarray  # [A^2] per angle
 
 
 def phase_ripple_numeric(

@@ -22,6 +22,7 @@ import math
 import re
 import urllib.parse
 import warnings
+from typing import Any
 
 from ..findings import SEVERITY_ORDER
 from .safe import escape_controls
@@ -106,7 +107,7 @@ def anchor_id(index: int) -> str:
 
 
 # ------------------------------------------------------------------- values
-def show_value(value: object, dimension: str, unit: str = "") -> str:
+def show_value(value: float | bool | None, dimension: str, unit: str = "") -> str:
     """A figure value for display (plain text, not yet escaped)."""
     from ..model.units import format_si
 
@@ -181,10 +182,10 @@ class _Plotter:
         matplotlib.use("Agg", force=True)
         from matplotlib.figure import Figure
 
-        self._mpl = matplotlib
+        self._mpl: Any = matplotlib
         self._Figure = Figure
         self._count = 0
-        self.rc = {
+        self.rc: dict[str, Any] = {
             "svg.fonttype": "none",
             "text.parse_math": False,
             "text.usetex": False,
@@ -482,8 +483,8 @@ def _figures_tables(fs) -> str:
         head = "".join(f'<th scope="col">{text(p)}</th>' for p in points)
         rows = []
         for name in names:
-            d = FIGURE_DEFS.get(name)
-            meaning, dim, unit = (d.meaning, d.dimension, d.unit) if d else ("", "", "")
+            known = FIGURE_DEFS.get(name)
+            meaning, dim, unit = (known.meaning, known.dimension, known.unit) if known else ("", "", "")
             cells = "".join(
                 f'<td class="num">{text(show_value(vals.get(name), dim, unit))}</td>' for _, vals in fs.points
             )
@@ -559,8 +560,9 @@ def _plots(plotter, spec, fs, index: int, ripple_fraction: float) -> str:
             f"{text(show_value(wave.average, 'current'))}, rated {text(show_value(wave.rated_current, 'current'))}.")
     freq = curves.ripple_vs_frequency(spec, fs, ripple_fraction) if fs is not None else None
     ind = curves.ripple_vs_added_inductance(spec, fs, ripple_fraction) if fs is not None else None
-    if freq is not None or ind is not None:
-        limit = freq.limit if freq is not None else ind.limit
+    drawn = freq if freq is not None else ind
+    if drawn is not None:
+        limit = drawn.limit
         fig(_plot_sweeps(plotter, freq, ind, f"{salt}-sweep"),
             f"Worst case over the reachable duty range; limit {text(show_value(limit, 'current'))} "
             f"peak-to-peak ({_g4(ripple_fraction * 100)} % of rated current). The dot is the spec as written.")

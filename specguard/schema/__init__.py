@@ -87,8 +87,8 @@ def _kind(schema: dict, node: dict) -> tuple[str, dict | None]:
         if "prefixItems" in node:
             inner = [_kind(schema, i)[0] for i in node["prefixItems"]]
             return f"list [{', '.join(inner)}]", None
-        item_kind, target = _kind(schema, node.get("items", {}))
-        return f"list of {item_kind}", target
+        item_kind, item_target = _kind(schema, node.get("items", {}))
+        return f"list of {item_kind}", item_target
     if t == "string" and "pattern" in node:
         return "text", None
     return str(t or "value"), None

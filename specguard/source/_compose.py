@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import re
 from collections.abc import Callable
-from typing import Any
+from typing import Any, NoReturn
 
 from specguard.findings import Finding, Location, kind_of
 
@@ -172,7 +172,7 @@ def compose(
             loc = Location(file, span.line, span.column, span.end_line, span.end_column, path or ())
         findings.append(Finding(rule, severity, message, loc, related=tuple(related)))
 
-    def stop(rule, message, span, path=()):
+    def stop(rule, message, span, path=()) -> NoReturn:
         add(rule, "error", message, span, path)
         raise _Stop
 
@@ -266,7 +266,7 @@ def compose(
                 return value
             return value
         if _INT10.fullmatch(value):
-            result = int(value)
+            result: int | float = int(value)
             digits = value.lstrip("+-")
             if not as_key and len(digits) > 1 and digits[0] == "0":
                 octal = ""
@@ -535,7 +535,8 @@ def compose(
                     value = f.items
                     item_spans = f.spans
                 if f.anchor and anchors.get(f.anchor) is f:
-                    anchors[f.anchor] = (value, nodes - f.count0, f.height, span)
+                    frame: Any = f  # (the identity test narrowed f to the dict's value type)
+                    anchors[frame.anchor] = (value, nodes - frame.count0, frame.height, span)
                 emit(value, span, f.height, False, item_spans)
             elif t is MappingStartEvent or t is SequenceStartEvent:
                 sm = event.start_mark
@@ -634,6 +635,7 @@ def compose(
             None,
         )
         return None, locs, findings
+    assert root_span is not None  # set together with root by emit()
     locs[()] = NodeLoc(None, root_span)
     return root, locs, findings
 
