@@ -310,6 +310,11 @@ def _electrical(spec: Spec, ax: _Axis, speed: float, torque: float) -> dict[str,
     l_q_fundamental = motor.q_axis_inductance or ax.inductance_catalogue
     v_ph = P.operating.phase_voltage_peak_dq(speed, p, flux, ax.resistance_hot, l_q_fundamental, i_q)
     v_ph_max = P.operating.phase_voltage_peak_max(V, ax.scheme, ax.max_duty, ax.dead_time, ax.f_leg)
+    # need against what the duty range gives, the dead-time loss counted on the need's
+    # side as the H-bridge's m_op does: finite and above 1 even when the dead times
+    # leave no voltage at all (the ratio v_ph / v_ph_max would turn negative there)
+    v_ph_duty = P.operating.phase_voltage_peak_max(V, ax.scheme, ax.max_duty)
+    dead_loss = v_ph_duty - v_ph_max
     M = P.operating.modulation_index(v_ph, V)
     M_clip = _clip(M, 0.0, P.threephase.modulation_index_limit(ax.scheme))
     ripple_pp = P.threephase.phase_ripple_peak_to_peak_max(V, ax.inductance, ax.f_leg, M_clip, ax.scheme)
@@ -322,7 +327,7 @@ def _electrical(spec: Spec, ax: _Axis, speed: float, torque: float) -> dict[str,
         "terminal_voltage": v_ph * SQRT3,  # peak line-to-line
         "modulation": M,
         "duty": duty,
-        "modulation_ratio": v_ph / v_ph_max,
+        "modulation_ratio": (v_ph + dead_loss) / v_ph_duty,
         "ripple_pp": ripple_pp,
         "ripple_rms": ripple_rms,
         "ripple_pp_catalogue": ripple_cat,
@@ -452,6 +457,12 @@ def _scalar(value) -> float | bool:
     return float(value)
 
 
+def _no_window(missing):
+    why = "the dead times leave no usable duty at this PWM frequency: no supply voltage reaches the load"
+    for name in ("supply_min", "supply_max", "supply_window_width"):
+        missing[name] = why
+
+
 def _supply_window(spec, ax, elec, settings, axis, missing):
     stage = spec.stage
     rated = spec.motor.rated_current
@@ -464,6 +475,11 @@ def _supply_window(spec, ax, elec, settings, axis, missing):
     ceiling = stage.max_supply_voltage if stage.max_supply_voltage is not None else math.inf
     worst = max(elec, key=lambda e: e["terminal_voltage"])
     if ax.topology in ("dc", "six-step"):
+        legs = P.hbridge.switching_leg_count(ax.scheme)
+        usable = float(P.operating.modulation_max(ax.max_duty, ax.scheme)) - legs * ax.dead_time * ax.f_leg
+        if usable <= 0.0:  # the dead times eat the whole duty range (dead-time-large says so)
+            _no_window(missing)
+            return
         window = P.operating.supply_voltage_window(
             worst["terminal_voltage"],
             worst["terminal_voltage"],
@@ -496,6 +512,9 @@ def _supply_window(spec, ax, elec, settings, axis, missing):
     else:
         v_ph = worst["phase_voltage_peak"]
         v_min = float(P.operating.supply_voltage_min_sinusoidal(v_ph, ax.scheme, ax.max_duty, ax.dead_time, ax.f_leg))
+        if not math.isfinite(v_min):  # the dead times eat the whole duty range
+            _no_window(missing)
+            return
         v_min *= 1.0 + settings.reserve_fraction
         # duty floor: M = 2 V_ph / V >= floor at the most demanding point
         v_max = min(ceiling, 2.0 * v_ph / settings.modulation_floor) if v_ph > 0 else ceiling

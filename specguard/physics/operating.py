@@ -188,13 +188,16 @@ def supply_voltage_min_sinusoidal(
 
     SVPWM ``V >= sqrt3 V_ph / (2 D_max - 1 - k)``, SPWM ``V >= 2 V_ph / (2 D_max - 1 - k)``
     with the dead-time term ``k = (4/pi) sqrt3 (or 2) t_dead f_pwm`` / ... see
-    :func:`phase_voltage_peak_max`, of which this is the inverse.
+    :func:`phase_voltage_peak_max`, of which this is the inverse. +inf when the
+    duty range minus the dead-time loss leaves no fundamental voltage at all.
     Source: PHYSICS.md §4.3 [D]; dead-time fundamental derived here from the
     per-leg loss of §1.6 (square wave of amplitude ``V t_d f`` -> fundamental x 4/pi).
     """
+    xp = namespace(phase_voltage_peak, max_duty, dead_time, pwm_frequency)
     factor = _strategy_factor(strategy)
     per_volt = (2.0 * max_duty - 1.0) / factor - (4.0 / math.pi) * dead_time * pwm_frequency
-    return phase_voltage_peak / per_volt
+    safe = xp.where(per_volt > 0.0, per_volt, 1.0)
+    return xp.where(per_volt > 0.0, phase_voltage_peak / safe, xp.inf)
 
 
 def phase_voltage_peak_max(
