@@ -282,3 +282,19 @@ def test_ambiguous_frequency_reads_conservatively():
     # taken as the ripple frequency (the lower reading): ripple at 20 kHz, legs at 10 kHz
     assert fs.value("ripple_frequency") == pytest.approx(20e3)
     assert fs.value("pwm_frequency_leg") == pytest.approx(10e3)
+
+
+def test_runaway_profile_is_reported_not_crashed():
+    """A profile whose current makes the winding's R(T) feedback outrun its cooling
+    (runaway number far above 1, PHYSICS.md §6.3) has no periodic steady state: the
+    profile figures are missing with that reason. Found by a boundary scan: a torque
+    constant slipped by 1e-9 divided by zero in the thermal eigenvalues (exit 3)."""
+    data = copy.deepcopy(E4)
+    data["motor"]["thermal"].update({"winding_time_constant": "15 s", "motor_time_constant": "600 s"})
+    data["profile"] = {"ambient": "25 degC", "segments": [
+        {"duration": "1 s", "speed": "1000 rpm", "torque": "3e7 N*m"},
+        {"duration": "2 s", "speed": "0 rpm", "torque": "0.01 N*m"},
+    ]}
+    fs = figures_of(data)
+    assert fs.value("profile_peak_temperature") is None
+    assert "runaway" in fs.missing["profile_peak_temperature"]

@@ -263,11 +263,14 @@ def _eigen(a11, a12, a21, a22, xp):
     # Real and distinct: discriminant (a11 - a22)^2/4 + a12 a21 > 0 since a12 a21 > 0.
     half_trace = 0.5 * (a11 + a22)
     root = xp.sqrt(0.25 * (a11 - a22) ** 2 + a12 * a21)
-    # Larger (slow) eigenvalue by the stable product form to avoid cancellation.
-    lam_fast = half_trace - root
     det = a11 * a22 - a12 * a21
-    lam_slow = det / lam_fast
-    return lam_fast, lam_slow
+    # The eigenvalue of larger magnitude without cancellation (half_trace and root
+    # added with the same sign), the other from the product det; never 0 / 0, since
+    # root > 0. The sum form alone cancels to 0 when a large R(T) feedback makes a11
+    # positive (a runaway), which divided by zero.
+    big = xp.where(half_trace >= 0.0, half_trace + root, half_trace - root)
+    other = det / big
+    return xp.minimum(big, other), xp.maximum(big, other)  # (fast, slow)
 
 
 def two_node_time_constants(

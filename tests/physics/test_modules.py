@@ -228,3 +228,21 @@ def test_inductance_helpers():
     assert p.inductance_from_measured_ripple(24.0, 12.0, 0.5, 50e-6, 1.5) == pytest.approx(2e-4)
     with pytest.raises(ValueError):
         p.inductance_at_frequency(1e3, [1e3, 1e3], [1e-4, 2e-4])
+
+
+@pytest.mark.parametrize(
+    "extra_conductance",
+    [0.0, 0.3, 0.9, 1e3, 1e9, 1e15],  # 0: no R(T) feedback; above 1/R_wh: runaway
+)
+def test_two_node_eigenvalues_against_lapack(extra_conductance):
+    """The eigenvalues of the two-node thermal matrix (PHYSICS.md §6.2) against
+    numpy.linalg.eigvals (LAPACK). With a large R(T) feedback the winding entry turns
+    positive (runaway) and the plain sum form cancelled to 0 and divided by zero."""
+    from specguard.physics import thermal
+    from specguard.physics._num import namespace
+
+    a = thermal._system(4.0, 200.0, 2.5, 6.5, extra_conductance=extra_conductance)
+    fast, slow = thermal._eigen(*a, namespace(1.0))
+    expected = sorted(np.linalg.eigvals(np.array([[a[0], a[1]], [a[2], a[3]]])).real)
+    assert fast == pytest.approx(expected[0], rel=1e-9)
+    assert slow == pytest.approx(expected[1], rel=1e-9, abs=1e-18)
