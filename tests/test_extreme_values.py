@@ -2,12 +2,16 @@
 
 For every numeric field of the unit-mutation reference specs (tests/test_unit_mutation.py)
 and the two demo specs not among them, the value is multiplied by 1e-9, 1e-6, 1e6 and
-1e9 (nanoamperes, kiloseconds, megahenry: wild but still valid numbers) and the spec
-is run through the model, the figures and the rule pack in this process. Each mutant
-must come back as findings: no exception (which the CLI turns into exit 3), no
-internal-error finding, and no message or fix that says "inf" or "nan" instead of a
-number. This scan found a division by zero in the thermal eigenvalues of a runaway
-profile (a torque constant times 1e-9).
+1e9 (nanoamperes, kiloseconds, megahenry: wild but mostly still valid numbers), and
+then replaced by the edge values 0, -1, 5e-324 (the smallest float), 1e-300 and
+1e300 in its own unit (plain numbers: 0, 0.5, 1, -1, 1e300). Each spec is run
+through the model, the figures and the rule pack in this process and must come back
+as findings: no exception (which the CLI turns into exit 3), no internal-error
+finding, and no message or fix that says "inf" or "nan" instead of a number. This
+scan found a division by zero in the thermal eigenvalues of a runaway profile (a
+torque constant times 1e-9), and divisions by zero and "inf %" messages for the
+edge values, which the model now rejects (a nonzero SI magnitude outside 1e-12 to
+1e12, model/quantity.py).
 """
 
 from __future__ import annotations
@@ -19,10 +23,28 @@ import pytest
 
 from specguard.engine.evaluate import load_pack
 
-from .test_unit_mutation import SPECS, Checker, _leaves, _set, assemble_spec, mutate_value
+from .test_unit_mutation import _QUANTITY, SPECS, Checker, _leaves, _set, assemble_spec, mutate_value
 
 EXTRA = ("examples/robot/axes/pipette-x.axis.yaml", "examples/medical/axes/infusion-drive.axis.yaml")
 FACTORS = (1e-9, 1e-6, 1e6, 1e9)
+EDGE_NUMBERS = ("0", "-1", "5e-324", "1e-300", "1e300")
+EDGE_PLAIN = (0, 0.5, 1, -1, 1e300)
+
+
+def _variants(value):
+    for factor in FACTORS:
+        new = mutate_value(value, factor)
+        if new is not None:
+            yield f"x{factor:g}", new
+    if isinstance(value, str):
+        m = _QUANTITY.match(value)
+        lead, _number, space, unit, trail = m.groups()
+        for text in EDGE_NUMBERS:
+            yield f"= {text}", f"{lead}{text}{space}{unit}{trail}"
+    else:
+        for plain in EDGE_PLAIN:
+            if plain != value:
+                yield f"= {plain}", plain
 _NOT_A_NUMBER = re.compile(r"(?<![\w.])-?(inf|nan)(?![\w])", re.IGNORECASE)
 
 
@@ -34,14 +56,11 @@ def problems():
     for rel in SPECS + EXTRA:
         doc = assemble_spec(rel)
         for path, value in list(_leaves(doc.data)):
-            for factor in FACTORS:
-                new = mutate_value(value, factor)
-                if new is None:
-                    continue
+            for how, new in _variants(value):
                 count += 1
                 data = copy.deepcopy(doc.data)
                 _set(data, path, new)
-                where = f"{rel} {'/'.join(map(str, path))} x{factor:g}"
+                where = f"{rel} {'/'.join(map(str, path))} {how}"
                 try:
                     findings = checker.findings(data, doc.locate)
                 except Exception as exc:  # the CLI would report exit 3
@@ -58,5 +77,5 @@ def problems():
 
 def test_extreme_values_give_findings_not_crashes(problems):
     count, found = problems
-    assert count > 500  # five specs, dozens of numeric fields each, four factors
+    assert count > 1500  # five specs, dozens of numeric fields each, nine variants
     assert not found, "\n".join(found[:20])

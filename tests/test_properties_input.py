@@ -30,6 +30,7 @@ from hypothesis import strategies as st
 
 from specguard.findings import Location
 from specguard.model import build
+from specguard.model.quantity import SI_MAGNITUDE
 from specguard.model.units import DIMENSIONS
 from specguard.pipeline import analyse, check_paths
 from specguard.report.text import render
@@ -122,12 +123,17 @@ def test_yaml_token_grammar_never_crashes(repo, text):
 
 # ------------------------------------------------- (c) valid specs from the model
 def _q(dimension: str, low: float, high: float):
-    """A unit string in one of the accepted units of ``dimension``, SI value in [low, high]."""
+    """A unit string in one of the accepted units of ``dimension``, SI value in [low, high]:
+    exactly zero (when ``low`` is 0) or a magnitude the model accepts (SI_MAGNITUDE)."""
     dim = DIMENSIONS[dimension]
+    floor = max(low, SI_MAGNITUDE[0] * 1.01)  # (the 6-digit text must not round below it)
+    values = st.floats(floor, high, allow_nan=False, allow_infinity=False)
+    if low == 0.0:
+        values = st.just(0.0) | values
 
     @st.composite
     def build(draw):
-        si = draw(st.floats(low, high, allow_nan=False, allow_infinity=False))
+        si = draw(values)
         unit = draw(st.sampled_from(list(dim.units)))
         factor, offset = dim.units[unit]
         number = (si - offset) / factor

@@ -22,6 +22,11 @@ from . import units
 
 _NUMBER = r"[+-]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]+)?"
 
+# Magnitudes far outside any electric drive, in SI: a nonzero value below 1e-12 or
+# above 1e12 (a femtoampere, a terahertz, a 5e-324 that is a float's last bit) is a
+# slip or a probe, and it would only drive the figures into overflow and 0 / 0.
+SI_MAGNITUDE = (1e-12, 1e12)  # (the message below spells these two numbers out)
+
 
 @cache
 def unit_pattern(dimension: str) -> str:
@@ -47,9 +52,18 @@ def _parser(dimension: str):
 
 
 def _range_check(dimension: str, gt: float | None, ge: float | None, le: float | None):
+    si_unit = units.DIMENSIONS[dimension].si_unit
+    low, high = SI_MAGNITUDE
+
     def check(value: float) -> float:
         def shown(limit: float) -> str:
             return units.format_si(limit, dimension)
+
+        if value != 0.0 and not low <= abs(value) <= high:
+            raise PydanticCustomError(
+                "value_range", "{message}",
+                {"message": f"must be between 1e-12 and 1e12 {si_unit} in size (far outside any drive)"},
+            )
 
         if gt is not None and not value > gt:
             raise PydanticCustomError(
@@ -95,6 +109,7 @@ class Quantity(GroupedMetadata):
             "x-si-unit": dim.si_unit,
             "examples": [dim.example],
         }
+        schema["x-si-magnitude"] = list(SI_MAGNITUDE)
         if gt is not None:
             schema["x-si-exclusive-minimum"] = gt
         if ge is not None:

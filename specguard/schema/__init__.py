@@ -102,7 +102,9 @@ def format_reference() -> str:
         "",
         "Generated from the model by `python -m specguard.schema`; do not edit by hand.",
         "Every dimensional value is a string with its unit (see [units.md](units.md));",
-        "the unit column gives the SI unit the value is converted to.",
+        "the unit column gives the SI unit the value is converted to. A nonzero value",
+        "must lie between 1e-12 and 1e12 in that SI unit (`x-si-magnitude` in the",
+        "schema): nothing in an electric drive is further out, and such a number is a slip.",
         "",
     ]
     seen: set[str] = set()
