@@ -26,6 +26,7 @@ from typing import Annotated, Any, Literal
 from pydantic import BaseModel, BeforeValidator, ConfigDict, Field, StringConstraints
 
 from ..figures.registry import FIGURE_DEFS, REMEDIES, FigureDef
+from ..model.spec import PwmScheme
 from ..model.units import UnitError, format_si, parse_quantity
 
 SEVERITIES = ("info", "warning", "error")  # least severe first
@@ -120,18 +121,7 @@ class Applies(_Model):
         (), description="only these motor types (empty: all)"
     )
     schemes: Annotated[
-        tuple[
-            Literal[
-                "bipolar",
-                "unipolar-single",
-                "unipolar-phase-shifted",
-                "six-step-chop-one",
-                "six-step-chop-both",
-                "sinusoidal",
-                "space-vector",
-            ],
-            ...,
-        ],
+        tuple[PwmScheme, ...],
         AsTuple,
     ] = Field((), description="only these PWM schemes (empty: all)")
     windings: Annotated[tuple[Literal["iron-core", "coreless", "slotless"], ...], AsTuple] = Field(

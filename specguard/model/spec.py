@@ -53,6 +53,17 @@ def _integral(value: object) -> object:
 
 Integer = Annotated[int, BeforeValidator(_integral)]
 
+# PWM schemes and commutations (also the values a rule's `applies.schemes` may name)
+PwmScheme = Literal[
+    "bipolar",
+    "unipolar-single",
+    "unipolar-phase-shifted",
+    "six-step-chop-one",
+    "six-step-chop-both",
+    "sinusoidal",
+    "space-vector",
+]
+
 
 Name = Annotated[
     str,
@@ -275,15 +286,7 @@ class Pwm(_Model):
             "effective frequency of the current ripple seen by the motor"
         ),
     )
-    scheme: Literal[
-        "bipolar",
-        "unipolar-single",
-        "unipolar-phase-shifted",
-        "six-step-chop-one",
-        "six-step-chop-both",
-        "sinusoidal",
-        "space-vector",
-    ] = Field(description="PWM scheme or commutation")
+    scheme: PwmScheme = Field(description="PWM scheme or commutation")
     freewheeling: Literal["synchronous", "diode"] | None = Field(
         None, description="how the off-time current flows: synchronous switches or diodes only"
     )
