@@ -353,11 +353,9 @@ def _emit(text: str) -> None:
         os.close(devnull)
 
 
-def _prepare_run(args, root: Path, denied: tuple):
-    """(config, fail level, RunOptions) for check and report, or an exit status after
-    printing the problem: policy, --fail-level, baseline, waiver date, denied files."""
-    from .pipeline import RunOptions
-
+def _policy_with_fail_level(args, root: Path):
+    """(config, pack, fail level) with --fail-level applied over the policy's, or an
+    exit status after printing the problem."""
     policy = _load_policy(args, root)
     if isinstance(policy, int):
         return policy
@@ -365,6 +363,18 @@ def _prepare_run(args, root: Path, denied: tuple):
     fail_level = args.fail_level or config.fail_level.value
     if args.fail_level:
         config = config.with_fail_level(args.fail_level, "--fail-level")
+    return config, pack, fail_level
+
+
+def _prepare_run(args, root: Path, denied: tuple):
+    """(config, fail level, RunOptions) for check and report, or an exit status after
+    printing the problem: policy, --fail-level, baseline, waiver date, denied files."""
+    from .pipeline import RunOptions
+
+    policy = _policy_with_fail_level(args, root)
+    if isinstance(policy, int):
+        return policy
+    config, pack, fail_level = policy
     baseline = None
     if getattr(args, "baseline", None):
         from .engine.baseline import BaselineError, load
@@ -495,6 +505,19 @@ def _write_baseline(report, path: Path, root: Path):
     return apply_baseline(report, written, root)
 
 
+def _root_or_usage(args, parser) -> Path:
+    """--root when given (a usage error unless it is a directory), else the root found
+    upwards from the working directory."""
+    if args.root is not None:
+        root = Path(args.root)
+        if not root.is_dir():
+            parser.error(f"--root {args.root}: not a directory")
+        return root
+    from .pipeline import find_root
+
+    return find_root(Path.cwd())
+
+
 def _main(argv: list[str] | None) -> int:
     parser = build_parser()
     args = parser.parse_args(argv)
@@ -505,26 +528,11 @@ def _main(argv: list[str] | None) -> int:
         parser.print_help(sys.stderr)
         return EXIT_USAGE
     if args.command == "check":
-        from .pipeline import find_root
-
-        if args.root is not None:
-            root = Path(args.root)
-            if not root.is_dir():
-                parser.error(f"--root {args.root}: not a directory")
-        else:
-            root = find_root(Path.cwd())
-        return _run_check(args, args.paths, root)
+        return _run_check(args, args.paths, _root_or_usage(args, parser))
     if args.command == "hook":
         if not args.files:  # nothing staged that the hook's file filter passes
             return EXIT_CLEAN
-        from .pipeline import find_root
-
-        if args.root is not None:
-            root = Path(args.root)
-            if not root.is_dir():
-                parser.error(f"--root {args.root}: not a directory")
-        else:
-            root = find_root(Path.cwd())
+        root = _root_or_usage(args, parser)
 
         def select(config):
             from .hook import select as pick

@@ -435,13 +435,10 @@ def run_compare(args) -> int:
         commit = resolve_rev(args.rev, top)
     except CompareError as exc:
         return cli._fail(str(exc), "input-unreadable")
-    policy = cli._load_policy(args, root)
+    policy = cli._policy_with_fail_level(args, root)
     if isinstance(policy, int):
         return policy
-    config, pack = policy
-    fail_level = args.fail_level or config.fail_level.value
-    if args.fail_level:
-        config = config.with_fail_level(args.fail_level, "--fail-level")
+    config, pack, fail_level = policy
     try:
         today = cli._today()
     except ValueError as exc:
