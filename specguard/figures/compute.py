@@ -39,15 +39,15 @@ class FigureSettings:
 
     # Effective inductance at tens of kHz as a fraction of a ~1 kHz catalogue value
     # when no measured table exists: common practice, no published source
-    # (PHYSICS.md §5.3 [H]); the result is labelled an estimate.
+    # (docs/physics.md §5.3); the result is labelled an estimate.
     inductance_derating: float = P.inductance.DEFAULT_DERATING_FACTOR
-    # Ripple limit used for the supply window (PHYSICS.md §7.4 [H]: 10-20 %).
+    # Ripple limit used for the supply window (docs/physics.md §7.4; 10-20 %: common practice).
     ripple_limit_ratio: float = 0.2
-    # Lowest acceptable modulation, for the supply window (PHYSICS.md §4.6 [H]).
+    # Lowest acceptable modulation, for the supply window (docs/physics.md §4.6; common practice).
     modulation_floor: float = 0.2
-    # Practice reserve on the minimum supply (PHYSICS.md §4.5 [H]: 10-20 %).
+    # Practice reserve on the minimum supply (docs/physics.md §4.5; 10-20 %: common practice).
     reserve_fraction: float = 0.1
-    # Phase margin for the delay-limited loop bandwidth (PHYSICS.md §7.3).
+    # Phase margin for the delay-limited loop bandwidth (docs/physics.md §7.3).
     phase_margin_deg: float = 45.0
 
 
@@ -221,7 +221,7 @@ def _axis(spec: Spec, settings: FigureSettings) -> _Axis:
         inductance_cat = l_phase_cat + per_phase_choke + l_out
         series = r_switch + (r_choke if n_choke == 3 else 0.0) + r_cable
         motor_r = float(P.threephase.star_equivalent_resistance(r_motor_hot))
-        # P_cu = 1.5 R_tt I_ph,rms^2 (PHYSICS.md §3.1)
+        # P_cu = 1.5 R_tt I_ph,rms^2 (docs/physics.md §3.1)
         loss_r20 = 1.5 * r20_terminal
     return _Axis(
         topology=topology,
@@ -343,7 +343,7 @@ def _worst_ripple(spec: Spec, ax: _Axis, inductance: float) -> float:
         return float(P.hbridge.ripple_peak_to_peak_worst(V, inductance, ax.resistance_hot, ax.f_leg, ax.scheme))
     v_ph_max = P.operating.phase_voltage_peak_max(V, ax.scheme, ax.max_duty, ax.dead_time, ax.f_leg)
     M_reach = min(P.operating.modulation_index(v_ph_max, V), P.threephase.modulation_index_limit(ax.scheme))
-    # the maximum peak-to-peak grows with M over the linear range (PHYSICS.md §2.3
+    # the maximum peak-to-peak grows with M over the linear range (docs/physics.md §2.3
     # table); a coarse grid guards the claim at little cost
     grid = [M_reach * k / 16 for k in range(17)]
     return max(P.threephase.phase_ripple_peak_to_peak_max(V, inductance, ax.f_leg, M, ax.scheme) for M in grid)
@@ -400,7 +400,7 @@ def compute(spec: Spec, settings: FigureSettings | None = None) -> FigureSet:
     axis["ripple_ratio_worst"] = worst / rated
     axis["modulation_max"] = max(e["modulation"] for e in elec)
 
-    # discontinuous conduction: only with diode freewheeling (PHYSICS.md §1.6)
+    # discontinuous conduction: only with diode freewheeling (docs/physics.md §1.6)
     freewheel = stage.pwm.freewheeling
     if ax.topology == "sinusoidal":
         missing["conduction_margin"] = "not modelled for sinusoidal commutation"
@@ -468,7 +468,7 @@ def _supply_window(spec, ax, elec, settings, axis, missing):
     rated = spec.motor.rated_current
     loop = stage.current_loop
     # control headroom for a step of the rated current at the loop bandwidth
-    # (PHYSICS.md §4.5: V_headroom >= omega_c L dI_step)
+    # (docs/physics.md §4.5: V_headroom >= omega_c L dI_step)
     headroom = 0.0
     if loop is not None:
         headroom = float(P.control.current_step_headroom_voltage(loop.bandwidth, ax.inductance_catalogue, rated))
@@ -501,7 +501,7 @@ def _supply_window(spec, ax, elec, settings, axis, missing):
         v_min, v_max = float(window.minimum), float(window.maximum)
         # the ripple bound holds at every point, not only the most demanding one: the
         # bipolar bound is tightest at low terminal voltage (2 L f dI_max at
-        # standstill, PHYSICS.md §4.6), the unipolar one is not monotonic in V_req
+        # standstill, docs/physics.md §4.6), the unipolar one is not monotonic in V_req
         limit = settings.ripple_limit_ratio * rated
         for e in elec:
             if e is worst:
@@ -519,7 +519,7 @@ def _supply_window(spec, ax, elec, settings, axis, missing):
         # duty floor: M = 2 V_ph / V >= floor at the most demanding point
         v_max = min(ceiling, 2.0 * v_ph / settings.modulation_floor) if v_ph > 0 else ceiling
         # ripple: the maximum peak-to-peak phase ripple rises with the supply at a
-        # fixed operating point (PHYSICS.md §2.3); every point must stay within it
+        # fixed operating point (docs/physics.md §2.3); every point must stay within it
         limit = settings.ripple_limit_ratio * rated
         for e in elec:
             v_max = min(v_max, P.threephase.supply_voltage_max_for_phase_ripple(
@@ -641,7 +641,7 @@ def _chokes(spec, ax, elec, axis, missing, notes):
             missing[name] = "the spec has no chokes"
         return
     # the choke carries what the controller can drive: its peak limit, else the
-    # motor's peak current, else the largest operating current (PHYSICS.md §7.5)
+    # motor's peak current, else the largest operating current (docs/physics.md §7.5)
     limits = spec.stage.current_limit
     worst_ripple = float(axis["ripple_pp_worst"])
     if limits is not None and limits.peak is not None:
@@ -832,7 +832,7 @@ KELVIN_25C = 298.15
 def _loop_emf_constant(spec: Spec) -> float:
     """Back-EMF constant of the current loop [V*s/rad]: the terminal constant (dc),
     the flat-top line-to-line constant 2 k_e,ph,peak for six-step (two phases
-    conduct, PHYSICS.md §4.2), or the peak phase constant (sinusoidal)."""
+    conduct, docs/physics.md §4.2), or the peak phase constant (sinusoidal)."""
     _kt, ke = _constants(spec)
     if spec.motor.type == "three-phase" and spec.stage.pwm.scheme.startswith("six-step"):
         return 2.0 * ke
@@ -844,7 +844,7 @@ def _torque_constant_model(spec: Spec) -> float:
     kt, _ke = _constants(spec)
     motor = spec.motor
     if motor.type == "three-phase" and spec.stage.pwm.scheme.startswith("six-step"):
-        # T = k_e,ll I for ideal 120-degree blocks (PHYSICS.md §4.2) unless a block constant is given
+        # T = k_e,ll I for ideal 120-degree blocks (docs/physics.md §4.2) unless a block constant is given
         return motor.torque_constant.value if motor.torque_constant.current == "block" else _loop_emf_constant(spec)
     return kt
 

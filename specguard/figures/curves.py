@@ -16,7 +16,7 @@ Adapter assumptions (to be kept in step with ``figures.compute``):
 * ``loop_inductance`` and ``loop_resistance_hot`` are the inductance and the hot
   resistance of the loop the ripple flows in: the lead-to-lead loop for brushed DC
   motors and six-step commutation, the per-phase (star-equivalent) loop for
-  sinusoidal and space-vector PWM (PHYSICS.md §1.1, §2.1-2.3).
+  sinusoidal and space-vector PWM (docs/physics.md §1.1, §2.1-2.3).
 * External inductance "per lead" adds twice to a lead-to-lead loop and once to a
   per-phase loop.
 * The waveform's source voltage is the effective back-EMF ``E = m V - I R`` that
@@ -46,7 +46,7 @@ _SCHEMES: dict[str, tuple[str, str]] = {
 }
 
 # Ripple limit used when the report does not know the rule's threshold:
-# 20 % of rated current (PHYSICS.md §7.4, common practice).
+# 20 % of rated current (docs/physics.md §7.4, common practice).
 DEFAULT_RIPPLE_FRACTION = 0.2
 
 # Points of the sweeps; fixed so that the output is deterministic.
@@ -197,7 +197,7 @@ def current_waveform(spec, figures, point: str | None = None) -> Waveform | None
     sinusoidal PWM the ripple changes over the electrical revolution and
     :func:`ripple_vs_frequency` carries the worst case instead.
     Physics: hbridge.current_waveform, ripple_peak_to_peak, current_average,
-    load_wave_duty (PHYSICS.md §1.2, §1.4).
+    load_wave_duty (docs/physics.md §1.2, §1.4).
     """
     loop = _loop(spec, figures)
     if loop is None or loop[4] == "sinusoidal":
@@ -354,7 +354,7 @@ def profile_temperature(spec, figures=None) -> ProfileTrace | None:
 
     The temperature at each sample is the cycle-start temperature of the same
     profile rotated to begin there (thermal.winding_temperature_cyclic, exact with
-    R(T), PHYSICS.md §6.5); the segments are split into equal pieces so that about
+    R(T), docs/physics.md §6.5); the segments are split into equal pieces so that about
     :data:`PROFILE_SAMPLES` samples cover the cycle.  Needs the profile, the
     thermal resistances and both thermal time constants.
     """

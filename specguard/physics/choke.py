@@ -1,6 +1,6 @@
 """External series chokes: saturation, RMS rating and their share of the loop.
 
-PHYSICS.md §1.6, §2.1 and §7.5.
+docs/physics.md §1.6, §2.1 and §7.5.
 """
 
 from __future__ import annotations
@@ -23,7 +23,7 @@ def loop_inductance(motor_inductance, choke_inductance=0.0, choke_count=1):
     Parameters: motor_inductance [H] at the ripple frequency; choke_inductance [H]
     at the operating current and f_r; choke_count [-] chokes in the loop (H-bridge
     with one per lead: 2; three-phase per phase: 1 added to L_ph).
-    Source: PHYSICS.md §1.6 and §2.1 [D].
+    Source: derived here (docs/physics.md §1.6 and §2.1).
     """
     return motor_inductance + choke_count * choke_inductance
 
@@ -40,7 +40,7 @@ def loop_resistance(
     """Ripple-loop / drop resistance [Ohm]: motor (hot) + chokes + cable + switches + shunt.
 
     Parameters: resistances [Ohm]; choke_count and switch_count [-] conducting in the
-    path (H-bridge: two switches).  Source: PHYSICS.md §1.6, §4.1 and §7.5 [D].
+    path (H-bridge: two switches).  Source: derived here (docs/physics.md §1.6, §4.1 and §7.5).
     """
     return (
         motor_resistance
@@ -58,7 +58,8 @@ def choke_peak_current(largest_average_current, ripple_peak_to_peak):
     average current, not the continuous one; ripple_peak_to_peak [A] computed with
     the choke inductance at that current.  (For the exact asymmetric waveform use
     hbridge.ripple_peak_offset instead of dI/2.)
-    Source: PHYSICS.md §7.5 [D; M: McLyman, Transformer and Inductor Design Handbook].
+    Source: derived here; McLyman, Transformer and Inductor Design Handbook, 4th ed., 2011
+    (docs/physics.md §7.5).
     """
     xp = namespace(largest_average_current, ripple_peak_to_peak)
     return xp.abs(largest_average_current) + 0.5 * ripple_peak_to_peak
@@ -69,7 +70,8 @@ def saturation_current_required(peak_current, margin=0.25):
 
     Parameters: peak_current [A]; margin [-] (20-30 %: common practice, no published
     source; ferrite saturation flux falls with temperature).  E14: 15.5 A, 25 % ->
-    19.375 A.  Source: PHYSICS.md §7.5 [D; H for the margin].
+    19.375 A.  Source: derived here; margin: common practice, no published source
+    (docs/physics.md §7.5).
     """
     return peak_current * (1.0 + margin)
 
@@ -77,7 +79,7 @@ def saturation_current_required(peak_current, margin=0.25):
 def saturation_margin(saturation_current, peak_current):
     """Relative saturation margin ``I_sat / I_pk - 1`` [-] (< 0: saturates).
 
-    Source: PHYSICS.md §7.5 [D].
+    Source: derived here (docs/physics.md §7.5).
     """
     return saturation_current / peak_current - 1.0
 
@@ -85,6 +87,6 @@ def saturation_margin(saturation_current, peak_current):
 def rms_current_utilisation(current_rms, rated_rms_current):
     """Choke thermal utilisation ``I_rms,total / I_rated,rms`` [-] (> 1: overloaded).
 
-    Source: PHYSICS.md §7.5 [D].
+    Source: derived here (docs/physics.md §7.5).
     """
     return current_rms / rated_rms_current

@@ -1,6 +1,6 @@
 """Consistency of motor constants under declared conventions.
 
-PHYSICS.md §4.4.  In SI, energy conservation ties the torque constant to the back-EMF
+docs/physics.md §4.4.  In SI, energy conservation ties the torque constant to the back-EMF
 constant; the factor depends on what current and voltage the constants refer to.
 """
 
@@ -41,7 +41,7 @@ CONVENTIONS = {
 def back_emf_constant_from_volts_per_krpm(volts_per_krpm):
     """Convert a back-EMF constant in V/krpm to V s/rad (divide by 104.72) [V s/rad].
 
-    Source: PHYSICS.md §4.4 [D].
+    Source: derived here (docs/physics.md §4.4).
     """
     return volts_per_krpm / RADIANS_PER_SECOND_PER_KRPM
 
@@ -50,7 +50,7 @@ def flux_linkage_from_line_back_emf_peak(line_back_emf_constant_peak, pole_pairs
     """Peak phase flux linkage ``psi_pm = k_e,ll,pk / (sqrt3 p)`` [Wb].
 
     Parameters: line_back_emf_constant_peak [V s/rad mechanical]; pole_pairs [-].
-    Source: PHYSICS.md §4.4 [D].
+    Source: derived here (docs/physics.md §4.4).
     """
     return line_back_emf_constant_peak / (math.sqrt(3.0) * pole_pairs)
 
@@ -62,7 +62,7 @@ def torque_constant_expected(back_emf_constant, convention: str):
     ``dc`` (k_t = k_e), ``line_peak_per_phase_rms`` (sqrt(3/2) k_e,ll,pk),
     ``line_rms_per_phase_rms`` (sqrt3 k_e,ll,rms), ``line_peak_per_phase_peak``
     ((sqrt3/2) k_e,ll,pk = 1.5 p psi), ``six_step_flat`` (k_e,ll,flat).
-    Source: PHYSICS.md §4.4 [D].
+    Source: derived here (docs/physics.md §4.4).
     """
     try:
         factor = CONVENTIONS[convention]
@@ -84,7 +84,8 @@ def torque_constant_mismatch(torque_constant, back_emf_constant, convention: str
     """Relative mismatch of a declared k_t against the one implied by k_e [-].
 
     Beyond about 5 % it indicates a unit or convention error (severity error; the 5 %
-    is common practice, no published source).  Source: PHYSICS.md §4.4 [D; H].
+    is common practice, no published source).  Source: derived here; common practice, no
+    published source (docs/physics.md §4.4).
     """
     return relative_mismatch(
         torque_constant, torque_constant_expected(back_emf_constant, convention)
@@ -98,7 +99,8 @@ def back_emf_constant_at_temperature(
 
     Parameters: back_emf_constant_20 [V s/rad] at 20 degC; magnet_temperature [K];
     reversible_coefficient [1/K] of remanence (NdFeB about -0.0009 ... -0.0012,
-    ferrite about -0.002, SmCo -0.0003 ... -0.00045; typical magnet data, from memory).
-    ``k_e(T) = k_e,20 (1 + alpha_Br (T - 20 degC))``.  Source: PHYSICS.md §4.4 [M].
+    ferrite about -0.002, SmCo -0.0003 ... -0.00045; typical magnet data, common practice).
+    ``k_e(T) = k_e,20 (1 + alpha_Br (T - 20 degC))``.  Source: common practice (typical
+    magnet data) (docs/physics.md §4.4).
     """
     return back_emf_constant_20 * (1.0 + reversible_coefficient * (magnet_temperature - 293.15))

@@ -1,6 +1,6 @@
 """Control and timing: current-loop bandwidth, speed ripple, PWM resolution, pulses.
 
-PHYSICS.md §4.5, §7.2, §7.3 and §7.8.
+docs/physics.md §4.5, §7.2, §7.3 and §7.8.
 """
 
 from __future__ import annotations
@@ -25,9 +25,11 @@ def sampling_delay(pwm_frequency, delay_periods=1.5, double_update=False):
     """Total loop delay ``T_d`` [s]: 1.5 PWM periods single update, half with double.
 
     Parameters: pwm_frequency [Hz]; delay_periods [-] (1.5 for PWM-synchronous
-    sampling with one-period computation, Buso & Mattavelli, from memory);
+    sampling with one-period computation, Buso & Mattavelli, Digital Control in Power
+    Electronics, 2006);
     double_update sampling twice per period (halves the delay).
-    Source: PHYSICS.md §7.3 [M: Buso & Mattavelli; D].
+    Source: Buso and Mattavelli, Digital Control in Power Electronics, 2006; derived here
+    (docs/physics.md §7.3).
     """
     delay = delay_periods / pwm_frequency
     return 0.5 * delay if double_update else delay
@@ -43,8 +45,8 @@ def current_loop_bandwidth_max(
     PI on an R-L plant (phase about -90 deg at crossover) with delay ``T_d``:
     ``PM = pi/2 - 2 pi f_c T_d`` so ``f_c = (pi/2 - PM) / (2 pi T_d)``; 1.5 periods ->
     ``f_pwm/12`` at 45 deg, ``f_pwm/18`` at 60 deg; double update doubles it.
-    Source: PHYSICS.md §7.3 [F: sensemagic.nl control-loop-bandwidth article; M: Buso
-    & Mattavelli; D].
+    Source: derived here (docs/physics.md §7.3); Buso and Mattavelli, Digital Control in Power
+    Electronics, 2006; sensemagic.nl control-loop-bandwidth article.
     """
     delay = sampling_delay(pwm_frequency, delay_periods, double_update)
     return (0.5 * math.pi - phase_margin) / (2.0 * math.pi * delay)
@@ -55,7 +57,7 @@ def current_step_headroom_voltage(bandwidth, inductance, current_step):
 
     Parameters: bandwidth [Hz] crossover ``f_c``; inductance [H] loop;
     current_step [A].  First-order response without saturating.
-    Source: PHYSICS.md §4.5 [D].
+    Source: derived here (docs/physics.md §4.5).
     """
     return 2.0 * math.pi * bandwidth * inductance * current_step
 
@@ -65,7 +67,7 @@ def speed_ripple_peak_to_peak(torque_constant, ripple_peak_to_peak, inertia, rip
 
     Parameters: torque_constant [N m/A]; ripple_peak_to_peak [A]; inertia [kg m^2]
     total; ripple_frequency [Hz].  ``dw_pp = k_t dI / (8 J f_r)`` (symmetric triangle).
-    Source: PHYSICS.md §7.2 [D].
+    Source: derived here (docs/physics.md §7.2).
     """
     return torque_constant * ripple_peak_to_peak / (8.0 * inertia * ripple_frequency)
 
@@ -73,7 +75,8 @@ def speed_ripple_peak_to_peak(torque_constant, ripple_peak_to_peak, inertia, rip
 def mechanical_time_constant(resistance, inertia, torque_constant, back_emf_constant):
     """Mechanical time constant ``tau_m = R J / (k_t k_e)`` [s].
 
-    Source: PHYSICS.md §7.2 [D; M: Hughes & Drury].
+    Source: derived here; Hughes and Drury, Electric Motors and Drives, 4th ed., 2013, ch.
+    3 (docs/physics.md §7.2).
     """
     return resistance * inertia / (torque_constant * back_emf_constant)
 
@@ -81,7 +84,7 @@ def mechanical_time_constant(resistance, inertia, torque_constant, back_emf_cons
 def pwm_resolution_counts(clock_frequency, pwm_frequency, centre_aligned=True):
     """Timer counts per PWM period ``f_clock / f_pwm`` (halved centre-aligned) [-].
 
-    Source: PHYSICS.md §4.6 and §7.8 [D].
+    Source: derived here (docs/physics.md §4.6 and §7.8).
     """
     counts = clock_frequency / pwm_frequency
     return 0.5 * counts if centre_aligned else counts
@@ -90,7 +93,8 @@ def pwm_resolution_counts(clock_frequency, pwm_frequency, centre_aligned=True):
 def pwm_counts_used(counts, modulation):
     """Usable counts at the operating point ``|m| counts`` [-] (< ~100: info).
 
-    Source: PHYSICS.md §7.8 [H for the 100].
+    Source: derived here; the 100 is common practice, no published source (docs/physics.md
+    §7.8).
     """
     return (
         abs(modulation) * counts
@@ -102,7 +106,7 @@ def pwm_counts_used(counts, modulation):
 def pulse_on_time(duty, pwm_frequency):
     """On-time of a leg ``D T_pwm`` [s] (compare with the minimum pulse / sampling window).
 
-    Source: PHYSICS.md §7.8 [D].
+    Source: derived here (docs/physics.md §7.8).
     """
     return duty / pwm_frequency
 
@@ -110,7 +114,7 @@ def pulse_on_time(duty, pwm_frequency):
 def pulse_off_time(duty, pwm_frequency):
     """Off-time of a leg ``(1 - D) T_pwm`` [s] (bootstrap refresh, low-side shunt sampling).
 
-    Source: PHYSICS.md §7.8 [D].
+    Source: derived here (docs/physics.md §7.8).
     """
     return (1.0 - duty) / pwm_frequency
 
@@ -118,6 +122,7 @@ def pulse_off_time(duty, pwm_frequency):
 def dead_time_fraction(dead_time, pwm_frequency):
     """Share of the supply voltage lost per switching leg ``t_dead f_pwm`` [-].
 
-    500 ns at 20 kHz -> 1 %.  Source: PHYSICS.md §1.6 [M: Murai et al. 1987].
+    500 ns at 20 kHz -> 1 %.  Source: Murai, Watanabe, Iwasaki, IEEE Trans. Ind. Appl.
+    23(5), 1987 (docs/physics.md §1.6).
     """
     return dead_time * pwm_frequency

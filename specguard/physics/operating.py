@@ -1,9 +1,9 @@
 """Operating point: required voltage, modulation, headroom and the supply window.
 
-PHYSICS.md §4.  Motoring convention: speed, current and voltages positive.
+docs/physics.md §4.  Motoring convention: speed, current and voltages positive.
 Bridge drops are written as a series resistance (switches, shunt, cable, choke DCR)
 carrying the load current all the time, plus the dead-time loss of about
-``V t_dead f_pwm`` per switching leg (Murai et al. 1987, from memory; §1.6), so the
+``V t_dead f_pwm`` per switching leg (Murai et al., IEEE Trans. Ind. Appl. 23(5), 1987; §1.6), so the
 average load voltage available is ``m V - I R_series - n_legs V t_dead f_pwm``.
 """
 
@@ -47,7 +47,8 @@ def back_emf(back_emf_constant, angular_speed):
 
     Parameters: back_emf_constant [V s/rad] in the convention of the drive (DC: k_e;
     six-step: flat-top line-to-line); angular_speed [rad/s] mechanical.
-    Source: PHYSICS.md §4.1 [M: Hughes & Drury].
+    Source: Hughes and Drury, Electric Motors and Drives, 4th ed., 2013, ch. 3
+    (docs/physics.md §4.1).
     """
     return back_emf_constant * angular_speed
 
@@ -56,7 +57,8 @@ def current_for_torque(torque, torque_constant, no_load_current=0.0):
     """Current for a load torque ``I = T / k_t + I_0`` [A].
 
     Parameters: torque [N m]; torque_constant [N m/A]; no_load_current [A] friction.
-    Source: PHYSICS.md §4.1 [M: Hughes & Drury].
+    Source: Hughes and Drury, Electric Motors and Drives, 4th ed., 2013, ch. 3
+    (docs/physics.md §4.1).
     """
     return torque / torque_constant + no_load_current
 
@@ -67,7 +69,8 @@ def terminal_voltage_dc(back_emf_constant, angular_speed, current, resistance, b
     Parameters: back_emf_constant [V s/rad]; angular_speed [rad/s]; current [A];
     resistance [Ohm] HOT winding resistance (thermal.resistance_at_temperature);
     brush_drop [V].  Steady state (the ``L dI/dt`` term of profiles omitted).
-    Source: PHYSICS.md §4.1 [M: Hughes & Drury; D].
+    Source: Hughes and Drury, Electric Motors and Drives, 4th ed., 2013, ch. 3; derived
+    here (docs/physics.md §4.1).
     """
     return back_emf_constant * angular_speed + resistance * current + brush_drop
 
@@ -80,7 +83,8 @@ def terminal_voltage_six_step(
     Parameters: line_back_emf_constant [V s/rad] flat-top line-to-line ``k_e,ll``;
     angular_speed [rad/s]; current [A] block current; terminal_resistance [Ohm] hot
     ``R_tt`` (+ chokes, cable); switch_resistance [Ohm] per conducting switch.
-    Source: PHYSICS.md §4.2 [D; M: Krishnan 2010].
+    Source: derived here; Krishnan, Permanent Magnet Synchronous and Brushless DC Motor
+    Drives, 2010 (docs/physics.md §4.2).
     """
     return (
         line_back_emf_constant * angular_speed
@@ -95,7 +99,8 @@ def torque_dq(
 
     Parameters: pole_pairs [-]; flux_linkage [Wb] peak phase ``psi_pm``; q_current,
     d_current [A] peak; d_inductance, q_inductance [H].
-    ``T = 1.5 p (psi i_q + (L_d - L_q) i_d i_q)``.  Source: PHYSICS.md §4.3 [M: Krishnan].
+    ``T = 1.5 p (psi i_q + (L_d - L_q) i_d i_q)``.  Source: Krishnan, Permanent Magnet
+    Synchronous and Brushless DC Motor Drives, 2010 (docs/physics.md §4.3).
     """
     return (
         1.5
@@ -107,7 +112,8 @@ def torque_dq(
 def q_current_for_torque(torque, pole_pairs, flux_linkage):
     """Peak q-axis current for a torque with ``i_d = 0`` ``T / (1.5 p psi)`` [A].
 
-    Source: PHYSICS.md §4.3 [M: Krishnan].
+    Source: Krishnan, Permanent Magnet Synchronous and Brushless DC Motor Drives, 2010
+    (docs/physics.md §4.3).
     """
     return torque / (1.5 * pole_pairs * flux_linkage)
 
@@ -132,7 +138,8 @@ def phase_voltage_peak_dq(
 
     ``omega_e = p omega_m``, ``v_d = R i_d - omega_e L_q i_q``,
     ``v_q = R i_q + omega_e (L_d i_d + psi)``, ``V_ph = sqrt(v_d^2 + v_q^2)``.
-    Source: PHYSICS.md §4.3 [M: Krishnan 2010; D].
+    Source: Krishnan, Permanent Magnet Synchronous and Brushless DC Motor Drives, 2010;
+    derived here (docs/physics.md §4.3).
     """
     xp = namespace(
         mechanical_speed,
@@ -154,7 +161,7 @@ def phase_voltage_peak_dq(
 def modulation_index(phase_voltage_peak, supply_voltage):
     """Three-phase modulation index ``M = 2 V_ph1,pk / V`` [-].
 
-    Source: PHYSICS.md §0.2 and §4.3 [D].
+    Source: derived here (docs/physics.md §0.2 and §4.3).
     """
     return 2.0 * phase_voltage_peak / supply_voltage
 
@@ -173,7 +180,7 @@ def dead_time_voltage(supply_voltage, dead_time, pwm_frequency, switching_legs=1
     Parameters: supply_voltage [V]; dead_time [s]; pwm_frequency [Hz];
     switching_legs [-] legs switching in the current path (H-bridge: see
     hbridge.switching_leg_count).  500 ns at 20 kHz -> 1 % of V per leg.
-    Source: PHYSICS.md §1.6 [M: Murai et al. 1987].
+    Source: Murai, Watanabe, Iwasaki, IEEE Trans. Ind. Appl. 23(5), 1987 (docs/physics.md §1.6).
     """
     return switching_legs * supply_voltage * dead_time * pwm_frequency
 
@@ -190,7 +197,7 @@ def supply_voltage_min_sinusoidal(
     with the dead-time term ``k = (4/pi) sqrt3 (or 2) t_dead f_pwm`` / ... see
     :func:`phase_voltage_peak_max`, of which this is the inverse. +inf when the
     duty range minus the dead-time loss leaves no fundamental voltage at all.
-    Source: PHYSICS.md §4.3 [D]; dead-time fundamental derived here from the
+    Source: derived here (docs/physics.md §4.3); dead-time fundamental derived here from the
     per-leg loss of §1.6 (square wave of amplitude ``V t_d f`` -> fundamental x 4/pi).
     """
     xp = namespace(phase_voltage_peak, max_duty, dead_time, pwm_frequency)
@@ -208,7 +215,8 @@ def phase_voltage_peak_max(
     ``(2 D_max - 1) V / sqrt3`` (SVPWM) or ``(2 D_max - 1) V / 2`` (SPWM), minus the
     fundamental of the dead-time error, ``(4/pi) V t_dead f_pwm`` (the per-leg loss of
     §1.6 is a square wave following the current sign).
-    Source: PHYSICS.md §4.3 [D]; dead-time term derived here (Murai 1987, from memory).
+    Source: derived here (docs/physics.md §4.3), including the dead-time term (per-leg error of
+    Murai et al., IEEE Trans. Ind. Appl. 23(5), 1987).
     """
     factor = _strategy_factor(strategy)
     return supply_voltage * (
@@ -233,10 +241,10 @@ def modulation_required(
     switching legs for the dead-time loss).
 
     ``m_op = (V_term + I R_series) / V + n_legs t_dead f_pwm``; the leg duty follows
-    from hbridge.leg_duty.  Deviation: PHYSICS.md §4.1 writes
+    from hbridge.leg_duty.  Deviation: docs/physics.md §4.1 writes
     ``V_term / (V - I R - V_dead)``; the form here is the exact inverse of its own
     ``V_avail = m V - I R - V_dead`` (the drops do not scale with m); both agree to
-    first order in the drops.  Source: PHYSICS.md §4.1 [D].
+    first order in the drops.  Source: derived here (docs/physics.md §4.1).
     """
     legs = hbridge.switching_leg_count(scheme)
     return (
@@ -250,7 +258,8 @@ def modulation_max(max_duty, scheme):
     unipolar_single ``m_max = D_max``; bipolar and phase-shifted ``2 D_max - 1``.
     ``D_max`` (bootstrap refresh, minimum off time, sampling window) is typically
     0.95-0.99 (common practice, no published source): take it from the spec.
-    Source: PHYSICS.md §4.1 [D; H for the typical values].
+    Source: derived here; typical values: common practice, no published source
+    (docs/physics.md §4.1).
     """
     return hbridge.modulation_from_leg_duty(max_duty, scheme)
 
@@ -258,7 +267,7 @@ def modulation_max(max_duty, scheme):
 def modulation_headroom(required_modulation, maximum_modulation):
     """Relative headroom to the duty limit ``1 - m_op / m_max`` [-] (< 0: unreachable).
 
-    Source: PHYSICS.md §4.1 and §7.9 [D] (warn below 10 %: common practice).
+    Source: derived here (docs/physics.md §4.1 and §7.9) (warn below 10 %: common practice).
     """
     return 1.0 - required_modulation / maximum_modulation
 
@@ -285,7 +294,7 @@ def supply_voltage_min(
 
     ``V_min = (V_req (1 + reserve) + V_headroom + I R) / (m_max - n t_dead f)``;
     +inf where the denominator is not positive (no voltage works).
-    Source: PHYSICS.md §4.5 [D; H for the reserve].
+    Source: derived here; reserve: common practice, no published source (docs/physics.md §4.5).
     """
     xp = namespace(
         terminal_voltage, maximum_modulation, current, series_resistance, headroom_voltage
@@ -313,7 +322,8 @@ def supply_voltage_max_duty(
     [-] lowest acceptable modulation (warn below 0.2, info below 0.4: common
     practice, no published source); other parameters as :func:`supply_voltage_min`.
     ``V_duty = (V_term + I R) / (m_low - n t_dead f)``; +inf if the dead-time share
-    alone reaches the floor.  Source: PHYSICS.md §4.6 [D; H for the floor].
+    alone reaches the floor.  Source: derived here; floor: common practice, no published
+    source (docs/physics.md §4.6).
     """
     xp = namespace(terminal_voltage, modulation_floor, current, series_resistance)
     usable = modulation_floor - switching_legs * dead_time * pwm_frequency
@@ -333,7 +343,7 @@ def supply_voltage_max_ripple_linear(
     unipolar_single ``V_req / (1 - L f dI / V_req)``, no bound (+inf) if
     ``L f dI >= V_req``; phase-shifted: as unipolar_single with ``f -> 2 f``.
     The rules use the exact :func:`supply_voltage_max_ripple`.
-    Source: PHYSICS.md §4.6 [D].
+    Source: derived here (docs/physics.md §4.6).
     """
     xp = namespace(required_voltage, inductance, pwm_frequency, ripple_limit)
     if scheme == hbridge.BIPOLAR:
@@ -371,7 +381,7 @@ def supply_voltage_max_ripple(
     ``dI(V, m_op(V))`` rises monotonically; at ``m_op = 1`` it is zero.  Bisection (log
     scale) on the exact §1.4 ripple; +inf when the ripple stays below the limit up to
     the ceiling (unipolar schemes saturate: no bound), as in the linear §4.6 forms.
-    Source: PHYSICS.md §4.6 [D], solved on the exact §1.4 formula here.
+    Source: derived here (docs/physics.md §4.6), solved on the exact §1.4 formula here.
     """
     xp = namespace(
         terminal_voltage,
@@ -466,7 +476,7 @@ def supply_voltage_window(
     ``V_min`` from :func:`supply_voltage_min`; ``V_max = min(V_controller, V_duty,
     V_ripple)`` with the exact ripple bound.  ``empty`` where ``V_min > V_max``
     (error: add inductance, raise f_pwm or change scheme).
-    Source: PHYSICS.md §4.5-4.6 [D].
+    Source: derived here (docs/physics.md §4.5-4.6).
     """
     xp = namespace(
         terminal_voltage_worst,

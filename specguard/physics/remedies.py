@@ -1,6 +1,6 @@
 """Remedies: inverse problems solved on the EXACT ripple formulas.
 
-PHYSICS.md §7.4 gives the linear inverses (``L_min = V/(2 r I f)`` ...); here the same
+docs/physics.md §7.4 gives the linear inverses (``L_min = V/(2 r I f)`` ...); here the same
 questions are answered on the exact §1.4 forms, in closed form where the exact
 relation inverts (worst case: ``tanh``) and by bracketed Illinois iteration otherwise.
 Every function is bounded and returns ``None`` ("not reachable") when no value within
@@ -47,8 +47,9 @@ def inductance_min_worst(supply_voltage, resistance, pwm_frequency, scheme, ripp
     Exact inverse of ``(V1-V2)/R tanh(R T_r/(4 L)) = dI``:
     ``L = (V1-V2) T_r / (4 dI) * y / atanh(y)``, ``y = dI R / (V1-V2)``; ``y >= 1`` means
     the ripple can never reach the limit (returns 0.0).  ``R -> 0`` gives the linear
-    §7.4 values (bipolar ``V/(2 r I f)`` ...).  Source: PHYSICS.md §1.4, §7.4 [D];
-    E2 (Rashid ch. 5, from memory).
+    §7.4 values (bipolar ``V/(2 r I f)`` ...).  Source: derived here (docs/physics.md §1.4,
+    §7.4);
+    docs/physics.md, worked example E2 (inputs of the kind in Rashid, 3rd ed., ch. 5).
     """
     step, period = _step_and_period(float(supply_voltage), float(pwm_frequency), scheme)
     y = ripple_limit * resistance / step
@@ -76,7 +77,8 @@ def added_inductance_min(
     modulation [-] operating ``m`` or None for the worst case; added_inductance_bound
     [H] largest addition considered.  Returns 0.0 if already met, None if not
     reachable within the bound.  The added choke's DCR is not included (recompute).
-    Source: PHYSICS.md §7.4 [H for r], solved on §1.4 [D].
+    Source: derived here on the exact form of docs/physics.md §1.4; the target r is common
+    practice, no published source (docs/physics.md §7.4).
     """
     limit = ripple_fraction * rated_current
     if modulation is None:
@@ -120,7 +122,7 @@ def pwm_frequency_min(
     case, closed form ``T_r = 4 L dI/(V1-V2) * atanh(y)/y``); frequency_bound [Hz]
     highest frequency considered.  Returns 0.0 if any frequency works (the ripple
     can never reach the limit), None if not reachable below the bound.
-    Source: PHYSICS.md §1.4, §7.4 [D].
+    Source: derived here (docs/physics.md §1.4, §7.4).
     """
     limit = ripple_fraction * rated_current
     if modulation is None:
@@ -172,7 +174,7 @@ def supply_voltage_max_for_ripple(
     V); current, series_resistance, dead_time as operating.modulation_required.
     Returns +inf if no voltage violates the limit at the operating point (unipolar
     saturation); None if the operating point cannot be reached at any voltage.
-    Source: PHYSICS.md §4.6 [D], exact.
+    Source: derived here (docs/physics.md §4.6), exact.
     """
     limit = ripple_fraction * rated_current
     if terminal_voltage is None:
@@ -213,7 +215,7 @@ def supply_voltage_min_for_operating_point(
     Parameters: as operating.supply_voltage_min with ``max_duty`` [-] and scheme;
     voltage_bound [V] highest voltage available (controller or supply rating).
     Returns None if the value exceeds the bound or no voltage works (dead time eats
-    the duty range).  Source: PHYSICS.md §4.5 [D].
+    the duty range).  Source: derived here (docs/physics.md §4.5).
     """
     value = operating.supply_voltage_min(
         terminal_voltage,
@@ -259,7 +261,7 @@ def added_phase_inductance_min(
     or ``"rms"``; added_inductance_bound [H].
     Exact within the §2.3 model (R neglected): ``L = V k(M) / (f dI)``; SVPWM at full
     modulation, peak-to-peak: ``V / (6 r I f)`` (§7.4).  0.0 if met, None beyond bound.
-    Source: PHYSICS.md §2.3, §7.4 [D].
+    Source: derived here (docs/physics.md §2.3, §7.4).
     """
     k = _three_phase_normalised(modulation_index, strategy, criterion)
     if not math.isfinite(k):
@@ -282,7 +284,8 @@ def pwm_frequency_min_three_phase(
     """Lowest PWM frequency for which SPWM/SVPWM ripple meets ``r I_rated`` [Hz].
 
     ``f = V k(M) / (L_ph dI)`` (exact within §2.3); None above frequency_bound.
-    Parameters as :func:`added_phase_inductance_min`.  Source: PHYSICS.md §2.3 [D].
+    Parameters as :func:`added_phase_inductance_min`.  Source: derived here
+    (docs/physics.md §2.3).
     """
     k = _three_phase_normalised(modulation_index, strategy, criterion)
     if not math.isfinite(k):

@@ -1,6 +1,6 @@
 """RMS with ripple, form factor and ripple losses.
 
-PHYSICS.md §3.  Triangular ripple (any rise/fall split) of peak-to-peak ``dI`` on a
+docs/physics.md §3.  Triangular ripple (any rise/fall split) of peak-to-peak ``dI`` on a
 locally constant current; for the exact exponential waveform use
 :func:`specguard.physics.hbridge.ripple_rms`.
 """
@@ -26,7 +26,8 @@ __all__ = [
 def ripple_rms_triangular(ripple_peak_to_peak):
     """RMS of a triangular ripple ``dI / (2 sqrt 3)`` [A] (any rise/fall split).
 
-    Parameters: ripple_peak_to_peak [A].  Source: PHYSICS.md §3.1 [D; standard].
+    Parameters: ripple_peak_to_peak [A].  Source: standard result for a triangular wave
+    (docs/physics.md §3.1).
     """
     return ripple_peak_to_peak / (2.0 * 3.0**0.5)
 
@@ -35,7 +36,7 @@ def current_rms_with_ripple(average_current, ripple_peak_to_peak):
     """Total RMS ``sqrt(I_avg^2 + dI^2/12)`` [A].
 
     Parameters: average_current [A] DC or locally constant; ripple_peak_to_peak [A].
-    Source: PHYSICS.md §3.1 [D; standard].
+    Source: standard result for a triangular wave (docs/physics.md §3.1).
     """
     xp = namespace(average_current, ripple_peak_to_peak)
     return xp.sqrt(
@@ -47,7 +48,7 @@ def form_factor(average_current, ripple_peak_to_peak):
     """Form factor ``I_rms / |I_avg| = sqrt(1 + (dI/I_avg)^2 / 12)`` [-].
 
     Parameters: average_current [A] (non-zero); ripple_peak_to_peak [A].
-    Source: PHYSICS.md §3.1 [D].
+    Source: derived here (docs/physics.md §3.1).
     """
     xp = namespace(average_current, ripple_peak_to_peak)
     ratio = ripple_peak_to_peak / average_current
@@ -58,7 +59,7 @@ def ripple_copper_loss(resistance, ripple_peak_to_peak):
     """Extra DC-resistance copper loss of a triangular ripple ``R dI^2 / 12`` [W].
 
     Parameters: resistance [Ohm] hot DC resistance; ripple_peak_to_peak [A].
-    Source: PHYSICS.md §3.1 [D].
+    Source: derived here (docs/physics.md §3.1).
     """
     return resistance * ripple_peak_to_peak * ripple_peak_to_peak / 12.0
 
@@ -66,7 +67,7 @@ def ripple_copper_loss(resistance, ripple_peak_to_peak):
 def ripple_copper_loss_relative(average_current, ripple_peak_to_peak):
     """Extra copper loss relative to the DC loss ``(dI/I_avg)^2 / 12`` [-].
 
-    Source: PHYSICS.md §3.1 [D] (10 % ripple -> +0.08 %, 100 % -> +8.3 %).
+    Source: derived here (docs/physics.md §3.1) (10 % ripple -> +0.08 %, 100 % -> +8.3 %).
     """
     ratio = ripple_peak_to_peak / average_current
     return ratio * ratio / 12.0
@@ -79,7 +80,7 @@ def triangle_harmonic_amplitude(ripple_peak_to_peak, duty, harmonic_order):
     harmonic_order [-] ``n >= 1``.
     ``I_n = dI |sin(n pi D)| / (pi^2 n^2 D (1 - D))``; at D -> 0 or 1 it tends to
     ``dI / (pi n)`` (sawtooth), used there to avoid 0/0.
-    Source: PHYSICS.md §3.2 [D].
+    Source: derived here (docs/physics.md §3.2).
     """
     xp = namespace(ripple_peak_to_peak, duty, harmonic_order)
     d = xp.minimum(xp.maximum(duty, 1e-12), 1.0 - 1e-12)
@@ -106,7 +107,7 @@ def ripple_harmonic_loss(
     ``P = sum_n R_s(n f_r) I_n^2 / 2`` with ``R_s`` interpolated log-log and held at
     the table ends.  Terminal-referred copper AC + eddy loss; small-signal, locked
     rotor, no DC bias: good enough for a design-rule estimate, say so.
-    Source: PHYSICS.md §3.2 and §5.5 [D].
+    Source: derived here (docs/physics.md §3.2 and §5.5).
     """
     xp = namespace(ripple_peak_to_peak, duty, ripple_frequency)
     orders = np.arange(1, harmonic_count + 1, dtype=float)
@@ -129,7 +130,8 @@ def ripple_harmonic_loss(
 def three_phase_current_rms(fundamental_rms, ripple_rms):
     """Phase RMS current ``sqrt(I_1,rms^2 + I_r,rms^2)`` [A].
 
-    Parameters: fundamental_rms [A]; ripple_rms [A].  Source: PHYSICS.md §3.1 [D].
+    Parameters: fundamental_rms [A]; ripple_rms [A].  Source: derived here (docs/physics.md
+    §3.1).
     """
     xp = namespace(fundamental_rms, ripple_rms)
     return xp.sqrt(fundamental_rms * fundamental_rms + ripple_rms * ripple_rms)
@@ -139,6 +141,6 @@ def three_phase_copper_loss(phase_resistance, phase_current_rms):
     """Three-phase copper loss ``3 R_ph I_ph,rms^2 = 1.5 R_tt I_ph,rms^2`` [W].
 
     Parameters: phase_resistance [Ohm] hot star-equivalent; phase_current_rms [A].
-    Source: PHYSICS.md §3.1 [D].
+    Source: derived here (docs/physics.md §3.1).
     """
     return 3.0 * phase_resistance * phase_current_rms * phase_current_rms

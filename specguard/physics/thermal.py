@@ -1,13 +1,14 @@
 """Winding temperature: copper resistance, steady state, two-node transient, cycles.
 
-PHYSICS.md §6.  Absolute temperatures are in kelvin (SI) and temperature
+docs/physics.md §6.  Absolute temperatures are in kelvin (SI) and temperature
 differences in K; the IEC relations are written in degrees Celsius and converted
 internally (``T_C = T - 273.15``).  The two-node network (winding, housing):
 
     C_w dtheta_w/dt = P_w - (theta_w - theta_h)/R_wh
     C_h dtheta_h/dt = P_h + (theta_w - theta_h)/R_wh - theta_h/R_ha,  theta = T - T_a
 
-Lumped-parameter practice (Mellor et al. 1991; Boglietti et al. 2009, from memory).
+Lumped-parameter practice (Mellor et al., IEE Proc. B 138(5), 1991; Boglietti et al., IEEE
+Trans. Ind. Electronics 56(3), 2009; docs/physics.md §6.2).
 It gives the average winding temperature, not hot spots; ``R_th,ha`` depends strongly
 on mounting and speed.  The matrix exponential of the 2x2 system is written in closed
 form from its two real eigenvalues (no scipy at run time).
@@ -47,14 +48,13 @@ __all__ = [
 ]
 
 CELSIUS_OFFSET = 273.15
-# IEC 60028:1925 international annealed copper standard (from memory; corroborated by
-# tnlab.org and an instrument-manual appendix, PHYSICS.md §6.1, §9 item 6).
+# IEC 60028:1925 international standard of resistance for copper (docs/physics.md §6.1).
 COPPER_ALPHA_20 = 0.00393  # [1/K] at 20 degC, 100 % IACS
 COPPER_RESISTIVITY_20 = 1.0 / 58.0 * 1e-6  # [Ohm m] = 0.017241 Ohm mm^2/m
 _T20 = 20.0 + CELSIUS_OFFSET
 
-# IEC 60085:2007 thermal classes [degC] (from memory; corroborated by tnlab.org and
-# croylek.com, PHYSICS.md §6.6).  Higher classes continue in 25 K steps from 250.
+# IEC 60085:2007 thermal classes [degC] (docs/physics.md §6.6).  Higher classes continue
+# in 25 K steps from 250.
 INSULATION_CLASSES = {
     "Y": 90.0,
     "A": 105.0,
@@ -71,9 +71,9 @@ def copper_temperature_coefficient(reference_temperature, alpha_20=COPPER_ALPHA_
     """Copper temperature coefficient referred to another temperature [1/K].
 
     Parameters: reference_temperature [K]; alpha_20 [1/K] coefficient at 20 degC
-    (IEC 60028: 0.00393, from memory).
+    (IEC 60028: 0.00393).
     ``alpha_T = alpha_20 / (1 + alpha_20 (T - 20 degC))``; 25 degC -> 0.003854,
-    40 degC -> 0.003644.  Source: PHYSICS.md §6.1 [M: IEC 60028:1925; D].
+    40 degC -> 0.003644.  Source: IEC 60028:1925; derived here (docs/physics.md §6.1).
     """
     return alpha_20 / (1.0 + alpha_20 * (reference_temperature - _T20))
 
@@ -86,8 +86,8 @@ def resistance_at_temperature(
     Parameters: resistance [Ohm] at temperature_from [K]; temperature_to [K];
     alpha_20 [1/K].  ``R(T2) = R(T1) (1 + a20 (T2 - 20)) / (1 + a20 (T1 - 20))``,
     equivalent to ``(234.5 + T2)/(234.5 + T1)`` in degC for a20 = 0.00393 (IEC
-    60034-1's resistance method uses 235, from memory).  Datasheet R25 -> R20:
-    factor 0.98073.  Source: PHYSICS.md §6.1 [M: IEC 60028:1925].
+    60034-1's resistance method uses 235).  Datasheet R25 -> R20:
+    factor 0.98073.  Source: IEC 60028:1925 (docs/physics.md §6.1).
     """
     return (
         resistance
@@ -108,7 +108,7 @@ def runaway_number(
     Parameters: current_rms [A] including ripple; resistance_20 [Ohm] at 20 degC
     (three-phase: use the loss-equivalent resistance, e.g. ``3 R_ph`` with the phase
     RMS); thermal resistances [K/W]; alpha_20 [1/K].
-    Source: PHYSICS.md §6.3 [D].
+    Source: derived here (docs/physics.md §6.3).
     """
     r_th = thermal_resistance_winding_housing + thermal_resistance_housing_ambient
     return alpha_20 * r_th * current_rms * current_rms * resistance_20
@@ -122,7 +122,7 @@ def runaway_current(
 ):
     """Current at which the winding runs away thermally ``1/sqrt(alpha R_th R20)`` [A].
 
-    Source: PHYSICS.md §6.3 [D].
+    Source: derived here (docs/physics.md §6.3).
     """
     xp = namespace(
         resistance_20, thermal_resistance_winding_housing, thermal_resistance_housing_ambient
@@ -152,7 +152,7 @@ def winding_temperature_steady(
     ``k = alpha R_th I^2 R20``.  Exact within the model (linear R(T), constant thermal
     resistances) because the loss is linear in the winding temperature.
     Returns +inf where ``k >= 1`` (thermal runaway: no steady state; error).
-    Source: PHYSICS.md §6.3 [D].
+    Source: derived here (docs/physics.md §6.3).
     """
     xp = namespace(
         current_rms,
@@ -189,7 +189,7 @@ def current_continuous_max(
 
     ``I_max = sqrt((T_max - T_a - R_th,ha P_h) / (R_th R20 (1 + alpha (T_max - 20))))``;
     0 where the numerator is not positive (no current allowed).
-    Source: PHYSICS.md §6.4 [D].
+    Source: derived here (docs/physics.md §6.4).
     """
     xp = namespace(
         temperature_max,
@@ -212,7 +212,7 @@ def average_current_continuous_max(current_max_rms, ripple_rms):
 
     Parameters: current_max_rms [A] from :func:`current_continuous_max`; ripple_rms [A].
     ``I_avg,max = sqrt(I_max^2 - I_r,rms^2)``, 0 if the ripple alone exceeds it.
-    Source: PHYSICS.md §6.4 [D].
+    Source: derived here (docs/physics.md §6.4).
     """
     xp = namespace(current_max_rms, ripple_rms)
     return xp.sqrt(xp.maximum(current_max_rms * current_max_rms - ripple_rms * ripple_rms, 0.0))
@@ -226,7 +226,7 @@ def current_continuous_max_at_ambient(
     Parameters: current_max_reference [A] at ambient_reference [K]; temperature_max
     [K]; ambient_new [K].  ``I(T_a2) = I(T_a1) sqrt((T_max - T_a2)/(T_max - T_a1))``,
     exact within the model because R is evaluated at T_max in both cases.
-    Source: PHYSICS.md §6.4 [D].
+    Source: derived here (docs/physics.md §6.4).
     """
     xp = namespace(current_max_reference, temperature_max, ambient_reference, ambient_new)
     ratio = (temperature_max - ambient_new) / (temperature_max - ambient_reference)
@@ -242,7 +242,8 @@ def capacitances_from_time_constants(
     """Usual identification ``C_w = tau_w/R_wh``, ``C_h = tau_h/R_ha`` [J/K].
 
     Parameters: datasheet winding and housing time constants [s]; thermal
-    resistances [K/W].  Valid when ``tau_h >> tau_w``.  Source: PHYSICS.md §6.2 [D].
+    resistances [K/W].  Valid when ``tau_h >> tau_w``.  Source: derived here
+    (docs/physics.md §6.2).
     """
     return (
         winding_time_constant / thermal_resistance_winding_housing,
@@ -282,9 +283,9 @@ def two_node_time_constants(
     """Exact time constants (fast, slow) of the two-node network [s].
 
     Parameters: winding_capacitance, housing_capacitance [J/K]; thermal resistances
-    [K/W].  Negative inverse eigenvalues of A (PHYSICS.md §6.2):
+    [K/W].  Negative inverse eigenvalues of A (docs/physics.md §6.2):
     ``lambda = -s/2 +- sqrt(s^2/4 - q)``.  E10: 20 s / 1200 s datasheet pair ->
-    19.033 s / 1260.97 s.  Source: PHYSICS.md §6.2 [D].
+    19.033 s / 1260.97 s.  Source: derived here (docs/physics.md §6.2).
     """
     xp = namespace(
         winding_capacitance,
@@ -351,7 +352,8 @@ def two_node_temperature_rise(
     ``B = [P_w/C_w, P_h/C_h]``, both from the spectral form of the 2x2 matrix
     (real distinct eigenvalues).  Constant resistance (use
     :func:`winding_temperature_cyclic` for R(T)).
-    Source: PHYSICS.md §6.2 [D]; Mellor et al. 1991 (from memory).
+    Source: derived here (docs/physics.md §6.2); network after Mellor et al., IEE Proc. B
+    138(5), 1991.
     """
     xp = namespace(
         time,
@@ -398,7 +400,7 @@ def two_node_temperature_rise_decoupled(
 
     ``theta_w ~ P R_wh (1 - e^{-t/tau_w}) + P R_ha (1 - e^{-t/tau_h})`` (tau_h >> tau_w);
     over-predicts early heating by a few K (E10): prefer the exact form.
-    Source: PHYSICS.md §6.2 [D].
+    Source: derived here (docs/physics.md §6.2).
     """
     xp = namespace(time, winding_loss, winding_time_constant, housing_time_constant)
     return winding_loss * (
@@ -415,7 +417,7 @@ def winding_temperature_rise_peak_on_off(
     Parameters: power [W] during on_time [s]; thermal_resistance [K/W];
     time_constant [s]; cycle_time [s].
     ``theta_pk = P R (1 - e^{-t_on/tau}) / (1 - e^{-T_cyc/tau})``; mean rise
-    ``P R t_on / T_cyc``.  Source: PHYSICS.md §6.5 [D].
+    ``P R t_on / T_cyc``.  Source: derived here (docs/physics.md §6.5).
     """
     xp = namespace(power, thermal_resistance, time_constant, on_time, cycle_time)
     return (
@@ -495,7 +497,7 @@ def winding_temperature_cyclic(
     solved for ``x0 = (I - Phi_c)^-1 g_c`` and marched once; the mean uses the exact
     segment integral ``int x dt = Psi1 x0 + Psi2 B``.  Runaway (spectral radius of
     ``Phi_c >= 1``) returns +inf temperatures.
-    Source: PHYSICS.md §6.5 [D] (composition of segment maps); §6.3 for R(T).
+    Source: derived here (docs/physics.md §6.5) (composition of segment maps); §6.3 for R(T).
     """
     if not segments:
         raise ValueError("a cycle needs at least one segment")
@@ -576,8 +578,7 @@ def insulation_class_temperature(thermal_class) -> float:
     Parameters: thermal_class letter (``"Y"``, ``"A"``, ``"E"``, ``"B"``, ``"F"``,
     ``"H"``, ``"N"``, ``"R"``) or class number in degC (90 ... 220, 250 and 25 K steps
     above).  Y 90, A 105, E 120, B 130, F 155, H 180, N 200, R 220 degC.
-    Source: PHYSICS.md §6.6 [M: IEC 60085:2007; F corroboration: tnlab.org,
-    croylek.com].
+    Source: IEC 60085:2007 (docs/physics.md §6.6).
     """
     if isinstance(thermal_class, str) and thermal_class.strip().upper() in INSULATION_CLASSES:
         return INSULATION_CLASSES[thermal_class.strip().upper()] + CELSIUS_OFFSET
@@ -594,8 +595,9 @@ def winding_temperature_limit(thermal_class, hot_spot_allowance=10.0) -> float:
     """Default permitted average winding temperature from the class [K].
 
     ``T_max = class temperature - allowance``; default allowance 10 K (common practice,
-    no published source; IEC 60034-1 rise limits leave 10-15 K for the hot spot, from
-    memory).  Prefer the datasheet maximum winding temperature when given.
-    Source: PHYSICS.md §6.6 [H; M: IEC 60085:2007, IEC 60034-1].
+    no published source; IEC 60034-1 rise limits leave 10-15 K for the hot spot).
+    Prefer the datasheet maximum winding temperature when given.
+    Source: common practice, no published source (the allowance); IEC 60085:2007 and
+    IEC 60034-1 (docs/physics.md §6.6).
     """
     return insulation_class_temperature(thermal_class) - hot_spot_allowance

@@ -1,6 +1,6 @@
 """Three-phase inverter ripple: star equivalents, six-step chopping, SPWM and SVPWM.
 
-PHYSICS.md §2.  Model of §2.3: two-level bridge, centre-aligned carrier, balanced
+docs/physics.md §2.  Model of §2.3: two-level bridge, centre-aligned carrier, balanced
 star load with isolated neutral (or its star equivalent), per-phase inductance
 ``L_ph``, resistance negligible over one PWM period, carrier ratio large (>~ 20),
 continuous PWM; SVPWM is min-max zero-sequence injection.  Discontinuous PWM and
@@ -65,7 +65,8 @@ def _check_strategy(strategy: str) -> str:
 def modulation_index_limit(strategy: str) -> float:
     """Upper end of linear modulation ``M = 2 V_ph1,pk / V`` [-]: SPWM 1, SVPWM 2/sqrt 3.
 
-    Source: PHYSICS.md §0.2 and §4.3 [D]; Holmes & Lipo 2003 (from memory).
+    Source: derived here (docs/physics.md §0.2 and §4.3); Holmes & Lipo, Pulse Width Modulation
+    for Power Converters, 2003.
     """
     _check_strategy(strategy)
     return 1.0 if strategy == SPWM else 2.0 / _SQRT3
@@ -77,7 +78,7 @@ def star_equivalent_inductance(terminal_inductance):
     Parameters: terminal_inductance [H] measured between two terminals, third open.
     Holds for star (``L_tt = 2 (L_self - M) = 2 L_s``) and, as the star equivalent,
     for delta windings; balanced, non-salient machine.
-    Source: PHYSICS.md §2.1 [D]; Krishnan 2010; Hughes & Drury (from memory).
+    Source: derived here (docs/physics.md §2.1); Krishnan 2010; Hughes & Drury, 4th ed., 2013.
     """
     return 0.5 * terminal_inductance
 
@@ -85,7 +86,8 @@ def star_equivalent_inductance(terminal_inductance):
 def star_equivalent_resistance(terminal_resistance):
     """Star-equivalent per-phase resistance ``R_ph = R_tt / 2`` [Ohm].
 
-    Parameters: terminal_resistance [Ohm] line-to-line.  Source: PHYSICS.md §2.1 [D].
+    Parameters: terminal_resistance [Ohm] line-to-line.  Source: derived here
+    (docs/physics.md §2.1).
     """
     return 0.5 * terminal_resistance
 
@@ -95,7 +97,7 @@ def terminal_inductance_salient(d_inductance, q_inductance, angle):
 
     Parameters: d_inductance [H] ``L_d``; q_inductance [H] ``L_q``; angle [rad]
     between the d axis and the excitation axis of the two terminals.
-    ``L_tt = 2 (L_d cos^2 phi + L_q sin^2 phi)``.  Source: PHYSICS.md §2.1 [D].
+    ``L_tt = 2 (L_d cos^2 phi + L_q sin^2 phi)``.  Source: derived here (docs/physics.md §2.1).
     """
     xp = namespace(d_inductance, q_inductance, angle)
     c = xp.cos(angle)
@@ -108,7 +110,7 @@ def phase_inductance_conservative(d_inductance, q_inductance):
 
     Parameters: d_inductance [H]; q_inductance [H].  ``L_tt/2`` lies between the two
     depending on rotor position, so the smaller one bounds the ripple from above.
-    Source: PHYSICS.md §2.1 [D].
+    Source: derived here (docs/physics.md §2.1).
     """
     xp = namespace(d_inductance, q_inductance)
     return xp.minimum(d_inductance, q_inductance)
@@ -119,7 +121,8 @@ def six_step_equivalent_scheme(variant: str) -> str:
 
     ``six_step_chop_one`` (one transistor PWM'd, slow-decay freewheel: +V/0) ->
     ``unipolar_single``; ``six_step_chop_both`` (+V/-V) -> ``bipolar``.
-    Source: PHYSICS.md §2.2 [D]; Krishnan 2010 (from memory).
+    Source: derived here (docs/physics.md §2.2); Krishnan, Permanent Magnet Synchronous and
+    Brushless DC Motor Drives, 2010.
     """
     if variant == SIX_STEP_CHOP_ONE:
         return hbridge.UNIPOLAR_SINGLE
@@ -140,7 +143,7 @@ def six_step_ripple_peak_to_peak(
     Two phases conduct in series, so the loop is the H-bridge loop of §1 with
     ``L = L_tt``, ``R = R_tt`` and the flat-top line-to-line EMF.  Commutation
     transients and floating-phase diode conduction are not modelled.
-    Source: PHYSICS.md §2.2 and §1.4 [D].
+    Source: derived here (docs/physics.md §2.2 and §1.4).
     """
     return hbridge.ripple_peak_to_peak(
         supply_voltage,
@@ -158,7 +161,7 @@ def six_step_ripple_peak_to_peak_worst(
     """Exact worst case over the modulation for six-step chopping [A].
 
     chop_one ``-> V/(4 L_tt f)``, chop_both ``-> V/(2 L_tt f)`` as ``R -> 0``.
-    Source: PHYSICS.md §2.2 and §1.4 [D].
+    Source: derived here (docs/physics.md §2.2 and §1.4).
     """
     return hbridge.ripple_peak_to_peak_worst(
         supply_voltage,
@@ -173,7 +176,8 @@ def six_step_copper_loss(terminal_resistance, current_rms):
     """Copper loss with ideal 120-degree current blocks ``P = R_tt I^2`` [W].
 
     Parameters: terminal_resistance [Ohm] hot ``R_tt``; current_rms [A] block current
-    including ripple (two phases always in series).  Source: PHYSICS.md §2.2 [D].
+    including ripple (two phases always in series).  Source: derived here (docs/physics.md
+    §2.2).
     """
     return terminal_resistance * current_rms * current_rms
 
@@ -182,7 +186,7 @@ def ripple_base_current(supply_voltage, phase_inductance, pwm_frequency):
     """Normalisation current ``I_base = V / (L_ph f_pwm)`` [A] of §2.3.
 
     Parameters: supply_voltage [V]; phase_inductance [H] star-equivalent ``L_ph`` at
-    ``f_pwm``; pwm_frequency [Hz].  Source: PHYSICS.md §2.3 [D].
+    ``f_pwm``; pwm_frequency [Hz].  Source: derived here (docs/physics.md §2.3).
     """
     return supply_voltage / (phase_inductance * pwm_frequency)
 
@@ -198,8 +202,9 @@ def ripple_rms_polynomial(modulation_index, strategy: str):
     ``F_SPWM = 3/2 M^2 - 4 sqrt3/pi M^3 + 9/8 M^4`` (0 <= M <= 1),
     ``F_SVPWM = 3/2 M^2 - 4 sqrt3/pi M^3 + (27/16 - 81 sqrt3/(64 pi)) M^4``
     (0 <= M <= 2/sqrt3); NaN outside.  ``I_r,rms = I_base sqrt(F) / 24``.
-    Source: PHYSICS.md §2.3 [D]; polynomial shapes per Hava, Kerkman, Lipo, IEEE
-    Trans. PE 14(1) 1999 and Holmes & Lipo 2003 (from memory).
+    Source: derived here (docs/physics.md §2.3); polynomial shapes published in Hava, Kerkman,
+    Lipo, IEEE Trans. PE 14(1) 1999 and Holmes & Lipo, Pulse Width Modulation for Power
+    Converters, 2003.
     """
     _check_strategy(strategy)
     xp = namespace(modulation_index)
@@ -216,8 +221,8 @@ def ripple_peak_to_peak_max_normalised(modulation_index, strategy: str):
     SPWM ``max((M/4)(1 - M/2), M/(4 sqrt3))`` (crossover M = 2 - 2/sqrt3);
     SVPWM ``max(M/4 - 3 M^2/16, M/(4 sqrt3))`` (crossover M = 4/3 (1 - 1/sqrt3));
     NaN outside the linear range.
-    Source: PHYSICS.md §2.3 [D] (exact fit to a numerical sweep; consistent in kind
-    with Grandi & Loncarski, found, abstract only).
+    Source: derived here (docs/physics.md §2.3: exact fit to a numerical sweep; consistent in
+    kind with Grandi & Loncarski, not compared term by term).
     """
     _check_strategy(strategy)
     xp = namespace(modulation_index)
@@ -238,8 +243,10 @@ def phase_ripple_rms(supply_voltage, phase_inductance, pwm_frequency, modulation
     modulation_index [-] ``M = 2 V_ph1,pk / V``; strategy ``"spwm"``/``"svpwm"``.
 
     ``I_r,rms = V/(L_ph f_pwm) sqrt(F(M)) / 24``.  The 1/24 prefactor was established
-    by direct simulation (PHYSICS.md §2.3 [D]); the test suite re-derives it.
-    Source: PHYSICS.md §2.3 [D]; Hava et al. 1999, Holmes & Lipo 2003 (from memory).
+    by direct simulation (docs/physics.md §2.3, derived here); the test suite re-derives it.
+    Source: derived here (docs/physics.md §2.3); Hava et al., IEEE Trans. PE 14(1) 1999;
+    Holmes &
+    Lipo 2003.
     """
     xp = namespace(supply_voltage, phase_inductance, pwm_frequency, modulation_index)
     return (
@@ -257,7 +264,7 @@ def phase_ripple_peak_to_peak_max(
 
     Parameters as :func:`phase_ripple_rms`.  Use it for peak current and choke
     saturation; the ripple is much smaller at other angles.
-    Source: PHYSICS.md §2.3 [D].
+    Source: derived here (docs/physics.md §2.3).
     """
     return (
         supply_voltage
@@ -285,7 +292,7 @@ def supply_voltage_max_for_phase_ripple(phase_voltage_peak, phase_inductance, pw
     limit (``X >= a/2``, and at standstill) and 0.0 when every supply voltage that
     keeps the point in the linear range exceeds it (``X < a/(2 sqrt3)``): then only
     more inductance or a higher PWM frequency helps.
-    Source: PHYSICS.md §2.3 [D], exact inverse of the closed form above.
+    Source: derived here (docs/physics.md §2.3), exact inverse of the closed form above.
     """
     _check_strategy(strategy)
     a = float(phase_voltage_peak)
@@ -330,7 +337,7 @@ def phase_ripple_numeric(
     ``(1/L) integral (v - <v>) dt`` is piecewise linear and its extrema and mean square
     are exact from the breakpoints.  Exact for the ideal model of §2.3 at any carrier
     ratio with regular (per-period) sampling; resistance neglected.
-    Source: PHYSICS.md §2.3 recommended implementation [D].
+    Source: derived here (docs/physics.md §2.3, reference path).
     """
     _check_strategy(strategy)
     volts = float(supply_voltage)

@@ -19,7 +19,7 @@ REPORT_FORMAT = 1
 # json.dumps(ensure_ascii=False) escapes C0 controls itself but writes DEL, C1
 # controls, bidi controls, the line/paragraph separators and lone surrogates raw.
 # Escaping them as \uXXXX keeps the same JSON value and keeps them off terminals
-# and out of UTF-8 encoders (RELIABILITY.md G16). They can only occur inside
+# and out of UTF-8 encoders (docs/reliability.md G16). They can only occur inside
 # strings, so a substitution over the whole text is safe.
 _RAW_UNSAFE = re.compile(
     "[\x7f-\x9f\u200e\u200f\u202a-\u202e\u2066-\u2069\u2028\u2029\ud800-\udfff]"

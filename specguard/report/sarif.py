@@ -28,7 +28,7 @@ from .json_report import _number, dumps
 SARIF_SCHEMA = (
     "https://docs.oasis-open.org/sarif/sarif/v2.1.0/errata01/os/schemas/sarif-schema-2.1.0.json"
 )
-MAX_RESULTS = 25_000  # RELIABILITY.md G15
+MAX_RESULTS = 25_000  # docs/reliability.md G15
 FINGERPRINT_KEY = "specguardFinding/v1"
 _LEVEL = {"error": "error", "warning": "warning", "info": "note"}
 
