@@ -2,7 +2,7 @@
 
 One self-contained file: no network, no external assets, no JavaScript, inline
 SVG plots, a Content-Security-Policy that forbids everything but inline styles
-and data: images (RELIABILITY.md §7.1). Every text and attribute value taken
+and data: images (docs/reliability.md §7.1). Every text and attribute value taken
 from a spec or a file name goes through :func:`text` (control and bidi
 characters as visible escapes, then ``html.escape`` with ``quote=True``); every
 attribute is quoted; a datasheet link becomes a link only when it is an
@@ -210,7 +210,7 @@ class _Plotter:
 
     def figure(self, panels: int = 1, height: float = 3.1, bottom: float = 0.16):
         """A figure with fixed margins (the constrained layout doubled the drawing time,
-        RELIABILITY budget of 3 s for the demo); labels are short and fixed in size,
+        the 3 s budget for the demo); labels are short and fixed in size,
         spec names in tick labels are shortened to :data:`TICK_CHARS`."""
         width = 6.4 if panels == 1 else 9.2
         fig = self._Figure(figsize=(width, height), facecolor="white")

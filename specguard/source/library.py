@@ -26,7 +26,7 @@ from . import Limits, LoadResult, ReferenceProblem, load_bytes, open_reference
 REFERENCE_KEY = "from"
 LIBRARY_SECTIONS = ("motor", "stage", "chokes", "cable", "load")
 
-# Limits of a reference closure (RELIABILITY.md G4).
+# Limits of a reference closure (docs/reliability.md G4).
 MAX_CLOSURE_FILES = 64
 MAX_CLOSURE_DEPTH = 8
 MAX_CLOSURE_BYTES = 4 * 1024 * 1024
@@ -150,7 +150,7 @@ def assemble(
     denied: tuple = (),
 ) -> Document:
     """Parse a spec file and resolve its library references. ``denied`` lists files
-    or directories a reference may not reach (baseline, reports; RELIABILITY.md H11)."""
+    or directories a reference may not reach (baseline, reports; docs/reliability.md H11)."""
     cache = cache or LibraryCache(limits)
     rel = _rel(root, file_path)
     real = os.path.realpath(file_path)
