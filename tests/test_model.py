@@ -1,7 +1,7 @@
 """The format v1 model: strictness, SI conversion, located errors, cross-field checks.
 
 Check values: unit factors are those of the unit table (verified against pint in
-test_units.py); the traps are rows of ../shared/RELIABILITY.md (F09, F10, F11, D08,
+test_units.py); the traps are rows of docs/reliability.md (F09, F10, F11, D08,
 G01, G06) as named beside each case.
 """
 
@@ -87,7 +87,7 @@ def test_model_is_frozen():
 @pytest.mark.parametrize(
     "path, value, rule, pattern",
     [
-        # RELIABILITY.md G06: a dimensioned number without a unit
+        # docs/reliability.md G06: a dimensioned number without a unit
         (("motor", "rated_current"), 2, "unit-invalid", r"bare number.*current.*e\.g\."),
         # G01: MH for mH (case) with a hint
         (("motor", "terminal_inductance", "value"), "2.5 MH", "unit-invalid", r"mH"),
@@ -127,7 +127,7 @@ def test_traps_give_located_findings(path, value, rule, pattern):
 
 
 def test_unknown_key_points_at_key_with_suggestion():
-    # RELIABILITY.md D08: a misspelt key gets a "did you mean"
+    # docs/reliability.md D08: a misspelt key gets a "did you mean"
     data = with_change(("motor", "rated_curent"), "2 A")
     data = with_change(("motor", "rated_current"), KeyError, data)
     spec, findings = run(data)
@@ -139,7 +139,7 @@ def test_unknown_key_points_at_key_with_suggestion():
 
 
 def test_integral_float_is_accepted_for_integers():
-    # RELIABILITY.md F11: one policy at both layers; JSON Schema integer accepts 4.0
+    # docs/reliability.md F11: one policy at both layers; JSON Schema integer accepts 4.0
     spec, findings = run(with_change(("motor", "pole_pairs"), 4.0))
     assert findings == []
     assert spec.motor.pole_pairs == 4 and isinstance(spec.motor.pole_pairs, int)
