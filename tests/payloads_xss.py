@@ -1,4 +1,4 @@
-"""Markup, control and log-command payloads for the output safety tests (RELIABILITY.md
+"""Markup, control and log-command payloads for the output safety tests (docs/reliability.md
 §7.1, §7.4, G14, G16): the report package's list plus more of our own."""
 
 from .report.payloads import PAYLOADS as REPORT_PAYLOADS

@@ -1,10 +1,10 @@
-"""The bad-input corpus (RELIABILITY.md 4 and 8), run end to end through the CLI.
+"""The bad-input corpus (docs/reliability.md §4 and §8), run end to end through the CLI.
 
 Every case is ``tests/corpus/<family>/<id>-<slug>.expect.json`` with its input
 beside it: ``<id>-<slug>.yaml``, or a folder ``<id>-<slug>/`` for cases of several
 files (library references, CLI inputs). The expectation holds:
 
-``source``   the RELIABILITY.md row, or "own case ..."
+``source``   the docs/reliability.md row, or "own case ..."
 ``exit``     the exact exit status
 ``findings`` findings that must all appear: rule, severity, line, column (null:
              not checked) and a message regex; ``file`` is relative to the case
@@ -66,7 +66,7 @@ FAMILIES = (
 )
 BASE_SPEC = "_base/base.axis.yaml"
 
-DEFAULT_WALL = 4.0  # seconds (RELIABILITY.md G3)
+DEFAULT_WALL = 4.0  # seconds (docs/reliability.md G3)
 DEFAULT_RSS_DELTA = 64  # MiB above the baseline run
 AS_HEADROOM = 512 * 1024 * 1024  # RLIMIT_AS: baseline address space + 512 MiB
 HARD_TIMEOUT = 20.0  # a run still going after this is killed (and fails)

@@ -1,4 +1,4 @@
-"""Byte-identical machine outputs (RELIABILITY.md G9).
+"""Byte-identical machine outputs (docs/reliability.md G9).
 
 A fixture repository of 20 specs built from the demo (the robot axes, five renamed
 copies of each, the two broken ones) is checked over and over with one thing

@@ -1,9 +1,9 @@
-"""Figures of whole specs checked against the worked examples of PHYSICS.md §8.
+"""Figures of whole specs checked against the worked examples of docs/physics.md §8.
 
 The specs are built so that the figures reproduce a published or derived check
-value; the source is named beside each value. PHYSICS.md E4 lists the linear
+value; the source is named beside each value. docs/physics.md, worked example E4 lists the linear
 ripple values; the figures use the exact periodic solution, which at
-T_pwm/tau_e = 0.25 lies within 0.2 % below the linear value (PHYSICS.md §1.5 table).
+T_pwm/tau_e = 0.25 lies within 0.2 % below the linear value (docs/physics.md §1.5 table).
 """
 
 from __future__ import annotations
@@ -25,7 +25,7 @@ E4 = {
         "winding": "iron-core",
         "terminal_resistance": {"value": "1.00 ohm", "at": "25 degC"},
         # measured at or above every ripple frequency here (up to 40 kHz for the
-        # phase-shifted scheme): no derating, as PHYSICS.md E4 uses 0.20 mH as is
+        # phase-shifted scheme): no derating, as docs/physics.md, worked example E4 uses 0.20 mH as is
         "terminal_inductance": {"value": "0.20 mH", "measured_at": "40 kHz"},
         "torque_constant": {"value": "0.030 N*m/A", "current": "dc"},
         "back_emf_constant": {"value": "0.030 V*s/rad", "voltage": "terminal"},
@@ -62,12 +62,12 @@ def with_scheme(scheme, data=E4):
 
 def test_e4_operating_point():
     fs = figures_of(E4)
-    # PHYSICS.md E4 [D]: V_term = 14.990 V, m = 0.62460, bipolar D = 0.81230
+    # docs/physics.md, worked example E4: V_term = 14.990 V, m = 0.62460, bipolar D = 0.81230
     assert fs.value("terminal_voltage", "e4") == pytest.approx(14.990, rel=1e-4)
     assert fs.value("modulation", "e4") == pytest.approx(0.62460, rel=1e-4)
     assert fs.value("duty", "e4") == pytest.approx(0.81230, rel=1e-4)
     assert fs.value("current", "e4") == pytest.approx(2.0, rel=1e-12)
-    # PHYSICS.md E4: tau_e = 0.2 ms with R = R25 = 1 ohm; here R is hot (80 degC),
+    # docs/physics.md, worked example E4: tau_e = 0.2 ms with R = R25 = 1 ohm; here R is hot (80 degC),
     # R(80 degC) = 1.21198 ohm (E4), so tau = 0.2 mH / 1.21198 ohm
     assert fs.value("electrical_time_constant") == pytest.approx(0.2e-3 / 1.21198, rel=1e-4)
 
@@ -75,7 +75,7 @@ def test_e4_operating_point():
 @pytest.mark.parametrize(
     "scheme, at_point, worst",
     [
-        # PHYSICS.md E4 [D]: ripple at the operating point and worst cases (linear values)
+        # docs/physics.md, worked example E4: ripple at the operating point and worst cases (linear values)
         ("bipolar", 1.830, 3.000),
         ("unipolar-single", 1.407, 1.500),
         ("unipolar-phase-shifted", 0.703, 0.750),
@@ -83,7 +83,7 @@ def test_e4_operating_point():
 )
 def test_e4_ripple_by_scheme(scheme, at_point, worst):
     fs = figures_of(with_scheme(scheme))
-    # exact <= linear, within 0.3 % at T/tau ~ 0.3 (PHYSICS.md §1.5)
+    # exact <= linear, within 0.3 % at T/tau ~ 0.3 (docs/physics.md §1.5)
     assert fs.value("ripple_pp", "e4") == pytest.approx(at_point, rel=3e-3)
     assert fs.value("ripple_pp", "e4") <= at_point * (1 + 5e-4)
     assert fs.value("ripple_pp_worst") == pytest.approx(worst, rel=3e-3)
@@ -93,7 +93,7 @@ def test_e4_ripple_by_scheme(scheme, at_point, worst):
 @pytest.mark.parametrize(
     "scheme, derated_at_point",
     [
-        # PHYSICS.md E4: with a one-third derated inductance 5.489 / 4.221 / 2.110 A
+        # docs/physics.md, worked example E4: with a one-third derated inductance 5.489 / 4.221 / 2.110 A
         # (linear); at L/3 the period is 0.74 tau, the exact value lies ~1-2 % lower
         ("bipolar", 5.489),
         ("unipolar-single", 4.221),
@@ -114,7 +114,7 @@ def test_e4_derated_inductance(scheme, derated_at_point):
 
 
 def test_e5_svpwm_worst_ripple():
-    # PHYSICS.md E5 [D]: V = 48 V, f = 20 kHz, L_tt = 200 uH -> L_ph = 100 uH;
+    # docs/physics.md, worked example E5: V = 48 V, f = 20 kHz, L_tt = 200 uH -> L_ph = 100 uH;
     # SVPWM at M = 2/sqrt3 gives dI_max = 4.000 A
     data = copy.deepcopy(E4)
     data["motor"].update(
@@ -131,15 +131,15 @@ def test_e5_svpwm_worst_ripple():
     data["stage"]["pwm"]["scheme"] = "space-vector"
     fs = figures_of(data)
     assert fs.value("ripple_pp_worst") == pytest.approx(4.000, rel=1e-3)
-    # k_t,rms = sqrt3 k_e,ll,rms (PHYSICS.md §4.4): consistent constants
+    # k_t,rms = sqrt3 k_e,ll,rms (docs/physics.md §4.4): consistent constants
     assert fs.value("constant_mismatch") == pytest.approx(0.0, abs=1e-9)
 
 
 def test_dc_supply_window_top_holds_at_a_standstill_point():
     """Bipolar PWM: the ripple bound is tightest where the terminal voltage is lowest,
     V_ripple = L f dI + sqrt((L f dI)^2 + V_req^2), about 2 L f dI at standstill
-    (PHYSICS.md §4.6, linear form; the figures solve the exact ripple, within 1 % of
-    it at T_pwm/tau_e = 0.25, PHYSICS.md §1.5). The E4 point alone sets a higher top."""
+    (docs/physics.md §4.6, linear form; the figures solve the exact ripple, within 1 % of
+    it at T_pwm/tau_e = 0.25, docs/physics.md §1.5). The E4 point alone sets a higher top."""
     alone = figures_of(E4).value("supply_max")
     data = copy.deepcopy(E4)
     data["operating_points"].append({"name": "hold", "speed": "0 rpm", "torque": "0.03 N*m", "ambient": "25 degC"})
@@ -172,7 +172,7 @@ def _e5_axis(scheme="space-vector", points=None):
 def test_three_phase_supply_window_top_is_the_ripple_edge(scheme):
     """The window's upper end for a three-phase axis is the supply at which the
     highest point's maximum peak-to-peak ripple reaches the window's ripple limit,
-    20 % of the rated current (PHYSICS.md §7.4 [H]). Check: the figures computed
+    20 % of the rated current (docs/physics.md §7.4, common practice). Check: the figures computed
     again with the supply set there show that ripple (the forward closed form read
     back through the whole pipeline), 5 % above it more and 5 % below it less."""
     points = [
@@ -208,14 +208,14 @@ def test_rms_rating_standing_in_for_a_peak_counts_as_its_amplitude():
     assert fs.value("peak_current_ratio_motor") == pytest.approx(peak / (math.sqrt(2) * 1.0), rel=1e-12)
     assert fs.value("peak_current_ratio_stage") == pytest.approx(peak / (math.sqrt(2) * 2.0), rel=1e-12)
     assert fs.value("peak_current_ratio_motor") < 1.0  # below rated: no peak-current error
-    # a brushed DC axis keeps the DC rating as it is (PHYSICS.md E4: 2.0 A)
+    # a brushed DC axis keeps the DC rating as it is (docs/physics.md, worked example E4: 2.0 A)
     dc = figures_of(E4)
     assert dc.value("peak_current_ratio_motor") == pytest.approx(dc.value("peak_current") / 2.0, rel=1e-12)
 
 
 def test_choke_peak_from_an_rms_operating_current_is_its_amplitude():
     """With neither a stage peak limit nor a motor peak current, the choke's peak is
-    the largest operating current plus half the worst ripple (PHYSICS.md §7.5); on a
+    the largest operating current plus half the worst ripple (docs/physics.md §7.5); on a
     sinusoidal axis that current is an RMS phase current, so its amplitude (sqrt 2
     times it) is what the choke carries at the crest."""
     data = _e5_axis(points=[{"name": "p", "speed": "1000 rpm", "torque": "0.075 N*m", "ambient": "25 degC"}])
@@ -228,7 +228,7 @@ def test_choke_peak_from_an_rms_operating_current_is_its_amplitude():
 
 def test_three_phase_supply_window_has_no_ripple_top_when_ripple_stays_low():
     """With four times the inductance the ripple can never reach 20 % of the rated
-    current (its supremum a/(2 L_ph f), PHYSICS.md §2.3): only the duty floor bounds
+    current (its supremum a/(2 L_ph f), docs/physics.md §2.3): only the duty floor bounds
     the window, at 2 V_ph / 0.2."""
     data = _e5_axis(points=[{"name": "p", "speed": "1000 rpm", "torque": "0.05 N*m", "ambient": "25 degC"}])
     data["motor"]["terminal_inductance"]["value"] = "800 uH"
@@ -238,7 +238,7 @@ def test_three_phase_supply_window_has_no_ripple_top_when_ripple_stays_low():
 
 
 def test_inconsistent_constants_show():
-    # k_e given in V/krpm where V*s/rad was meant: x 104.72 (PHYSICS.md §4.4)
+    # k_e given in V/krpm where V*s/rad was meant: x 104.72 (docs/physics.md §4.4)
     data = copy.deepcopy(E4)
     data["motor"]["back_emf_constant"]["value"] = "0.030 V/krpm"
     fs = figures_of(data)
@@ -246,7 +246,7 @@ def test_inconsistent_constants_show():
 
 
 def test_thermal_figures_match_closed_form():
-    # PHYSICS.md §6.3 closed form, evaluated by hand for the E4 spec at 25 degC ambient:
+    # docs/physics.md §6.3 closed form, evaluated by hand for the E4 spec at 25 degC ambient:
     # I_rms^2 = 4 + ripple_rms^2; R20 = 0.98073 ohm (E8); R_th = 8 K/W; alpha = 0.00393
     fs = figures_of(E4)
     i_rms = fs.value("rms_current", "e4")
@@ -286,7 +286,7 @@ def test_ambiguous_frequency_reads_conservatively():
 
 def test_runaway_profile_is_reported_not_crashed():
     """A profile whose current makes the winding's R(T) feedback outrun its cooling
-    (runaway number far above 1, PHYSICS.md §6.3) has no periodic steady state: the
+    (runaway number far above 1, docs/physics.md §6.3) has no periodic steady state: the
     profile figures are missing with that reason. Found by a boundary scan: a torque
     constant slipped by 1e-9 divided by zero in the thermal eigenvalues (exit 3)."""
     data = copy.deepcopy(E4)

@@ -43,7 +43,7 @@ def test_json_is_si_and_matches_definitions():
     axis = {f["name"]: f for f in figures["axis"]}
     assert set(axis) <= names
     # 24 V and 25 kHz (leg) from the spec, in SI; phase-shifted: ripple at 2 x leg
-    # (PHYSICS.md §1.2)
+    # (docs/physics.md §1.2)
     assert axis["supply_voltage"]["value"] == 24.0 and axis["supply_voltage"]["unit"] == "V"
     assert axis["pwm_frequency_leg"]["value"] == 25e3
     assert axis["ripple_frequency"]["value"] == 50e3

@@ -1,4 +1,4 @@
-"""Spec-derived text stays inert in every output (RELIABILITY.md §7.1, §7.4, G14, G16).
+"""Spec-derived text stays inert in every output (docs/reliability.md §7.1, §7.4, G14, G16).
 
 A repository of real files carries the payloads of :mod:`tests.payloads_xss` in
 every spec-derived field: file names (a file per payload at the root, so its

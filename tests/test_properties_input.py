@@ -1,4 +1,4 @@
-"""Property tests of the input side (RELIABILITY.md G1 and section 8).
+"""Property tests of the input side (docs/reliability.md G1 and §8).
 
 (a) arbitrary text and bytes, (b) a YAML token grammar, (c) valid specs generated
 from the model, (d) JSON text against ``json.loads``, (e) argument-order shuffles.
@@ -417,7 +417,7 @@ def test_json_text_loads_like_json(value, ascii_only, mapping_root):
     if mapping_root and ascii_only:
         # ASCII JSON of a mapping holds no raw control characters and stays far
         # below the limits: the only rejection allowed is the policy one, a string
-        # that holds a control character (escaped or not; RELIABILITY.md E04)
+        # that holds a control character (escaped or not; docs/reliability.md E04)
         assert _has_control(value), (text, [f.message for f in result.findings])
         assert all(f.rule == "text-encoding" for f in result.findings), text
 

@@ -61,7 +61,7 @@ def _walk(node, schema, path=()):
                 yield path + (key,), option
 
 
-# The only plain numbers in the format: dimensionless by nature (RELIABILITY.md G06:
+# The only plain numbers in the format: dimensionless by nature (docs/reliability.md G06:
 # every numeric field either declares its unit or is listed here with its reason).
 DIMENSIONLESS = {
     ("stage", "pwm", "max_duty"): "a duty cycle is a fraction",

@@ -51,12 +51,12 @@ def test_rule_is_complete(rule_id):
         assert spec_path_exists(split_path(text)), text
     # every placeholder is a figure, {limit} or {point}
     assert set(prule.message_figures) <= set(FIGURE_DEFS)
-    # every [H] threshold names its provenance: a source line or the words "common practice"
+    # every common-practice threshold names its provenance: a source line or the words "common practice"
     assert any(s for s in rule.sources)
 
 
 def test_every_figure_of_the_catalogue_section_is_judged():
-    """PHYSICS.md 7.9 and the brief name these checks; each has a rule on its figure."""
+    """docs/physics.md §7.9 and the brief name these checks; each has a rule on its figure."""
     judged = {r.rule.figure for r in PACK.rules}
     for figure in [
         "ripple_ratio",

@@ -1,4 +1,4 @@
-"""Fault-injection tests (RELIABILITY.md §5): every run gets a private result cache."""
+"""Fault-injection tests (docs/reliability.md §5): every run gets a private result cache."""
 
 from __future__ import annotations
 

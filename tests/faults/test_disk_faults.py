@@ -1,4 +1,4 @@
-"""Writes that fail (RELIABILITY.md §5 FI01, FI03, FI04, FI13, FI14, FI22, FI23; G10).
+"""Writes that fail (docs/reliability.md FI01, FI03, FI04, FI13, FI14, FI22, FI23; G10).
 
 Every report and the baseline go through ``specguard.atomic.write_atomic``: a temp
 file in the target's directory, flushed, fsynced, given the final mode, then

@@ -1,4 +1,4 @@
-"""SIGKILL during a write and concurrent baseline writers (RELIABILITY.md §5 FI06, FI10, FI11; G10).
+"""SIGKILL during a write and concurrent baseline writers (docs/reliability.md FI06, FI10, FI11; G10).
 
 FI06 forks the test process (warm: no interpreter start-up per iteration) into a
 child that runs the CLI's ``main()`` and writes a JSON report with fsync slowed

@@ -1,4 +1,4 @@
-"""Signals during a run (RELIABILITY.md §5 FI07, FI08; "The error contract"; G10).
+"""Signals during a run (docs/reliability.md FI07, FI08; the error contract, docs/reliability.md §2; G10).
 
 SIGINT ends a run with 130, SIGTERM (a cancelled CI job) with 143, both after the
 cleanup: no partial output (the output is absent, or the previous one is intact),

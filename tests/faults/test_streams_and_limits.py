@@ -1,5 +1,5 @@
 """Resource limits, broken and narrow streams, a spec that changes under the run
-(RELIABILITY.md §5 FI15, FI16, FI17, FI18, FI24)."""
+(docs/reliability.md FI15, FI16, FI17, FI18, FI24)."""
 
 from __future__ import annotations
 

@@ -1,7 +1,7 @@
 """Result cache: warm output equals --no-cache byte for byte; content, library, policy,
 rule-pack and version changes invalidate; damaged entries are ignored with one
 warning; concurrent runs never tear an entry; the default location is outside the
-repository (RELIABILITY.md FI19-FI21, FI09, I06, I11)."""
+repository (docs/reliability.md FI19-FI21, FI09, I06, I11)."""
 
 from __future__ import annotations
 

@@ -1,4 +1,4 @@
-"""`specguard hook FILE...`: the pre-commit mode (RELIABILITY.md FI20, §7.2)."""
+"""`specguard hook FILE...`: the pre-commit mode (docs/reliability.md FI20, §7.2)."""
 
 from __future__ import annotations
 

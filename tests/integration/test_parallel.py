@@ -1,5 +1,5 @@
 """Parallel runs: -j1 and -j2 give the same bytes; argument order does not matter
-(RELIABILITY.md G9)."""
+(docs/reliability.md G9)."""
 
 from __future__ import annotations
 

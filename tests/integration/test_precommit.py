@@ -1,4 +1,4 @@
-"""The hook under the real pre-commit (ECOSYSTEM.md §7): a temporary git repository
+"""The hook under the real pre-commit (pre-commit's documented local hooks and try-repo): a temporary git repository
 whose .pre-commit-config.yaml points at a committed copy of this working tree.
 
 pre-commit builds one virtualenv and pip-installs the hook repository into it

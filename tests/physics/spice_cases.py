@@ -2,7 +2,7 @@
 
 Every bridge leg is an ideal voltage source (PULSE or PWL, 0 ... V) with edges of
 1e-5 of the PWM period, so the circuit simulator, not our scheme table, decides what
-the load sees.  Settings follow ECOSYSTEM.md §8 (control block, meas inside it).
+the load sees.  Settings follow the ngspice manual (a .control block, meas inside it).
 """
 
 from __future__ import annotations

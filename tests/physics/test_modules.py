@@ -1,5 +1,5 @@
 """Behaviour of the smaller modules; derived relations checked against hand values
-computed from the formulas of PHYSICS.md (section named per check)."""
+computed from the formulas of docs/physics.md (section named per check)."""
 
 from __future__ import annotations
 
@@ -12,7 +12,7 @@ from specguard import physics as p
 
 
 def test_discontinuous_conduction_detection():
-    # PHYSICS.md §1.6: diode freewheeling, |I_avg| < dI/2 -> discontinuous
+    # docs/physics.md §1.6: diode freewheeling, |I_avg| < dI/2 -> discontinuous
     v, ind, r, f, m = 24.0, 100e-6, 1.0, 20e3, 0.5
     peak = p.ripple_peak_offset(v, ind, r, f, m, "unipolar_single")
     trough = p.ripple_trough_offset(v, ind, r, f, m, "unipolar_single")
@@ -26,7 +26,7 @@ def test_discontinuous_conduction_detection():
 
 
 def test_scheme_tables():
-    # PHYSICS.md §1.2 scheme table
+    # docs/physics.md §1.2 scheme table
     assert p.ripple_frequency(20e3, "unipolar_phase_shifted") == 40e3
     assert p.ripple_frequency(20e3, "bipolar") == 20e3
     assert p.leg_duty(0.4, "bipolar") == pytest.approx(0.7)
@@ -40,12 +40,12 @@ def test_scheme_tables():
 
 
 def test_three_phase_helpers():
-    # PHYSICS.md §2.1
+    # docs/physics.md §2.1
     assert p.star_equivalent_resistance(2.0) == 1.0
     assert p.phase_inductance_conservative(80e-6, 120e-6) == 80e-6
     assert p.terminal_inductance_salient(80e-6, 120e-6, 0.0) == pytest.approx(160e-6)
     assert p.terminal_inductance_salient(80e-6, 120e-6, math.pi / 2) == pytest.approx(240e-6)
-    # PHYSICS.md §2.2: six-step chop_one worst V/(4 L_tt f), chop_both V/(2 L_tt f)
+    # docs/physics.md §2.2: six-step chop_one worst V/(4 L_tt f), chop_both V/(2 L_tt f)
     assert p.six_step_ripple_peak_to_peak_worst(
         48.0, 200e-6, 0.0, 20e3, "six_step_chop_one"
     ) == pytest.approx(3.0)
@@ -60,18 +60,18 @@ def test_three_phase_helpers():
 
 
 def test_operating_sinusoidal_and_window():
-    # PHYSICS.md §4.3 dq model with i_d = 0: v_q = R i_q + w psi, v_d = -w L_q i_q
+    # docs/physics.md §4.3 dq model with i_d = 0: v_q = R i_q + w psi, v_d = -w L_q i_q
     v = p.phase_voltage_peak_dq(300.0, 4, 0.01, 0.2, 100e-6, 10.0)
     assert v == pytest.approx(math.hypot(0.2 * 10 + 1200 * 0.01, 1200 * 100e-6 * 10))
     assert p.torque_dq(4, 0.01, 10.0) == pytest.approx(0.6)
     assert p.q_current_for_torque(0.6, 4, 0.01) == pytest.approx(10.0)
-    # SVPWM needs V >= sqrt3 V_ph (PHYSICS.md §4.3)
+    # SVPWM needs V >= sqrt3 V_ph (docs/physics.md §4.3)
     assert p.supply_voltage_min_sinusoidal(10.0, "svpwm") == pytest.approx(10 * math.sqrt(3))
     assert p.phase_voltage_peak_max(
         p.supply_voltage_min_sinusoidal(10.0, "spwm", 0.97, 1e-6, 2e4), "spwm", 0.97, 1e-6, 2e4
     ) == pytest.approx(10.0)
     assert p.modulation_index(10.0, 40.0) == 0.5
-    # window (PHYSICS.md §4.5-4.6): a generous inductance gives a non-empty window ...
+    # window (docs/physics.md §4.5-4.6): a generous inductance gives a non-empty window ...
     ok = p.supply_voltage_window(15.0, 12.0, 2.0, 1.0, 0.95, "bipolar", 1e-3, 1.2, 20e3, 1.0)
     assert not ok.empty and ok.minimum < ok.maximum
     assert ok.minimum == pytest.approx(15.0 / 0.9)
@@ -117,7 +117,7 @@ def test_remedies_not_reachable():
 
 
 def test_rms_and_harmonic_loss():
-    # PHYSICS.md §3.2: fundamental share of the mean square 98.55 % (D = 0.5),
+    # docs/physics.md §3.2: fundamental share of the mean square 98.55 % (D = 0.5),
     # 91.4 % (D = 0.3), 72.6 % (D = 0.1)
     for duty, share in ((0.5, 0.9855), (0.3, 0.914), (0.1, 0.726)):
         i1 = p.triangle_harmonic_amplitude(1.0, duty, 1)
@@ -133,7 +133,7 @@ def test_rms_and_harmonic_loss():
 
 
 def test_eddy_index():
-    # PHYSICS.md §2.4: bipolar V^2 (1 - m^2), unipolar V^2 |m|(1 - |m|)
+    # docs/physics.md §2.4: bipolar V^2 (1 - m^2), unipolar V^2 |m|(1 - |m|)
     assert p.ripple_voltage_mean_square_hbridge(10.0, 0.5, "bipolar") == pytest.approx(75.0)
     assert p.ripple_voltage_mean_square_hbridge(10.0, -0.3, "unipolar_single") == pytest.approx(
         21.0
@@ -143,7 +143,7 @@ def test_eddy_index():
     ) == pytest.approx(21.0)
     assert p.ripple_slope_mean_square(4.0, 2e-3) == pytest.approx(1e6)
     assert p.eddy_loss_index(3.0, 1.5) == 2.0
-    # PHYSICS.md §5.1 skin depths: copper 0.47 mm at 20 kHz, NdFeB 4.3 mm at 20 kHz
+    # docs/physics.md §5.1 skin depths: copper 0.47 mm at 20 kHz, NdFeB 4.3 mm at 20 kHz
     # (table values are rounded to 2 significant digits: half a unit of the last digit)
     assert p.skin_depth(20e3, 17.2e-9) == pytest.approx(0.47e-3, abs=0.005e-3)
     assert p.skin_depth(20e3, 1.5e-6, 1.05) == pytest.approx(4.3e-3, abs=0.05e-3)
@@ -153,13 +153,13 @@ def test_eddy_index():
 
 
 def test_thermal_extras():
-    # PHYSICS.md §6.4 ambient derating and ripple share
+    # docs/physics.md §6.4 ambient derating and ripple share
     i40 = p.current_continuous_max(418.15, 313.15, 1.0, 2.0, 6.0)
     i25 = p.current_continuous_max(418.15, 298.15, 1.0, 2.0, 6.0)
     assert p.current_continuous_max_at_ambient(i25, 418.15, 298.15, 313.15) == pytest.approx(i40)
     assert p.average_current_continuous_max(5.0, 3.0) == pytest.approx(4.0)
     assert p.runaway_current(1.0, 2.0, 6.0) == pytest.approx(1 / math.sqrt(0.00393 * 8))
-    # PHYSICS.md §6.5 single-node on/off: peak = P R (1 - e^{-ton/tau}) / (1 - e^{-T/tau})
+    # docs/physics.md §6.5 single-node on/off: peak = P R (1 - e^{-ton/tau}) / (1 - e^{-T/tau})
     assert p.winding_temperature_rise_peak_on_off(10.0, 2.0, 20.0, 10.0, 40.0) == pytest.approx(
         20 * (1 - math.exp(-0.5)) / (1 - math.exp(-2.0))
     )
@@ -183,7 +183,7 @@ def test_control_choke_braking_consistency_audible():
     assert p.loop_resistance(1.0, 0.05, 2, 0.02, 0.01, 2, 0.005) == pytest.approx(1.145)
     assert p.saturation_margin(19.375, 15.5) == pytest.approx(0.25)
     assert p.rms_current_utilisation(3.0, 4.0) == 0.75
-    # PHYSICS.md §7.6 energy balance
+    # docs/physics.md §7.6 energy balance
     e = p.regenerative_energy(1e-3, 300.0, 0.0)
     assert e == pytest.approx(45.0)
     cap = p.capacitor_absorbable_energy(1e-3, 48.0, 60.0)
@@ -193,7 +193,7 @@ def test_control_choke_braking_consistency_audible():
         56.0**2 / 600.0
     )
     assert p.braking_average_power(45.0, 3.0) == 15.0
-    # PHYSICS.md §4.4 conventions
+    # docs/physics.md §4.4 conventions
     k_e_ll_pk = 0.1
     assert p.torque_constant_expected(k_e_ll_pk, "line_peak_per_phase_rms") == pytest.approx(
         math.sqrt(1.5) * 0.1
@@ -206,7 +206,7 @@ def test_control_choke_braking_consistency_audible():
     assert p.back_emf_constant_at_temperature(0.1, 393.15, -0.001) == pytest.approx(0.09)
     with pytest.raises(ValueError):
         p.torque_constant_expected(1.0, "per_krpm")
-    # PHYSICS.md §7.1 bands (common practice 16 / 20 kHz)
+    # docs/physics.md §7.1 bands (common practice 16 / 20 kHz)
     assert p.audible_band(8e3) == "audible"
     assert p.audible_band(18e3) == "audible_to_young_listeners"
     assert p.audible_band(p.ripple_frequency(12e3, "unipolar_phase_shifted")) == "above_hearing"
@@ -235,7 +235,7 @@ def test_inductance_helpers():
     [0.0, 0.3, 0.9, 1e3, 1e9, 1e15],  # 0: no R(T) feedback; above 1/R_wh: runaway
 )
 def test_two_node_eigenvalues_against_lapack(extra_conductance):
-    """The eigenvalues of the two-node thermal matrix (PHYSICS.md §6.2) against
+    """The eigenvalues of the two-node thermal matrix (docs/physics.md §6.2) against
     numpy.linalg.eigvals (LAPACK). With a large R(T) feedback the winding entry turns
     positive (runaway) and the plain sum form cancelled to 0 and divided by zero."""
     from specguard.physics import thermal

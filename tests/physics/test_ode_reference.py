@@ -94,7 +94,7 @@ def test_rl_loop_against_solve_ivp(scheme, m, ratio):
     )
     period = 1.0 / f_pwm
     exact = p.ripple_exact(volts, inductance, resistance, f_pwm, m, scheme, emf)
-    # check values: scipy solve_ivp RK45 of the loop equation (PHYSICS.md §1.1)
+    # check values: scipy solve_ivp RK45 of the loop equation (docs/physics.md §1.1)
     assert exact.peak_to_peak == pytest.approx(peak - trough, rel=1e-6)
     assert exact.maximum == pytest.approx(peak, rel=1e-6)
     assert exact.minimum == pytest.approx(trough, rel=1e-6, abs=1e-9)
@@ -174,7 +174,7 @@ def test_supply_bound_for_phase_ripple_against_simulation(strategy, limit_share)
 def test_supply_bound_for_phase_ripple_limits():
     """No bound when the ripple can never reach the limit (it tends to a/(2 L f) as
     the supply rises, and vanishes at standstill); no voltage at all when the ripple
-    exceeds it even at the top of the linear range (a/(2 sqrt3 L f), PHYSICS.md §2.3)."""
+    exceeds it even at the top of the linear range (a/(2 sqrt3 L f), docs/physics.md §2.3)."""
     bound = p.threephase.supply_voltage_max_for_phase_ripple
     a, inductance, f_pwm = 20.0, 0.3e-3, 20e3
     unit = a / (inductance * f_pwm)
@@ -188,7 +188,7 @@ def test_supply_bound_for_phase_ripple_limits():
 
 
 def test_rms_prefactor_one_over_24_from_simulation():
-    # PHYSICS.md §2.3: the 1/24 prefactor was set by simulation; guard it here.
+    # docs/physics.md §2.3: the 1/24 prefactor was set by simulation; guard it here.
     rms_sim, _ = _inverter_simulation(0.7, "spwm")
     ratio = rms_sim / math.sqrt(p.ripple_rms_polynomial(0.7, "spwm"))
     assert ratio == pytest.approx(1.0 / 24.0, rel=1e-2)

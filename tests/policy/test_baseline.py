@@ -1,6 +1,6 @@
 """The baseline file: matching key, stale entries, damaged files, atomic and locked writes.
 
-Required behaviour from RELIABILITY.md: I07 (a corrupt baseline is exit 2, never
+Required behaviour from docs/reliability.md: I07 (a corrupt baseline is exit 2, never
 read as empty), I08 (stale entries are an info count; --strict-baseline makes
 them exit 1), G17 (a line shift keeps a finding baselined, a changed value
 un-baselines it), FI03/FI14 (a failed write keeps the previous file), FI10 (two
@@ -291,7 +291,7 @@ def test_interrupted_replace_removes_the_temp_file(tmp_path, monkeypatch):
 
 
 def test_replace_is_retried_on_a_transient_permission_error(tmp_path, monkeypatch):
-    # RELIABILITY.md FI13: Windows refuses a replace while a reader has the file open.
+    # docs/reliability.md FI13: Windows refuses a replace while a reader has the file open.
     real = os.replace
     calls = []
 

@@ -1,6 +1,6 @@
 """End to end through the command line: policy, waivers and baseline on a copy of
-the demo robot. The exit status contract is DESIGN.md's: 0 clean, 1 findings at or
-above the fail level, 2 bad invocation or config (RELIABILITY.md I05, I07, I08, I10,
+the demo robot. The exit status contract is docs/ci-gate.md's ("Exit statuses"): 0 clean, 1 findings at or
+above the fail level, 2 bad invocation or config (docs/reliability.md I05, I07, I08, I10,
 FI10, FI14, G17)."""
 
 from __future__ import annotations

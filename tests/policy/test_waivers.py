@@ -1,6 +1,6 @@
 """Waivers: used, unused, expired, unwaivable, strict mode, `at` vs `path` targets.
 
-The expected behaviour is the one DESIGN.md ("Policy, waivers, baseline") states:
+The expected behaviour is the one README.md ("Policy, waivers and a baseline") states:
 waivers live in the spec, expired and unused ones are findings, a strict mode
 ignores them, and the policy can mark rules that cannot be waived.
 """

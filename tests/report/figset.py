@@ -2,7 +2,7 @@
 
 A small, explicit adapter written for the tests only: brushed DC on an
 H-bridge and three-phase sinusoidal/space-vector PWM, the catalogue inductance
-derated to one third when no table is given (PHYSICS.md §5.3), the winding at
+derated to one third when no table is given (docs/physics.md §5.3), the winding at
 its temperature limit for the hot resistance. Every value is a physics call.
 """
 
@@ -68,7 +68,7 @@ def make_figures(spec) -> FigureSet:
     if fam == "hbridge":
         worst = float(hbridge.ripple_peak_to_peak_worst(volts, loop_l, loop_r, f_leg, scheme))
     else:
-        # reachable modulation indices with the stage's duty limit (PHYSICS.md §4.3)
+        # reachable modulation indices with the stage's duty limit (docs/physics.md §4.3)
         top = float(operating.modulation_index(
             operating.phase_voltage_peak_max(volts, scheme, float(stage.pwm.max_duty)), volts))
         grid = np.linspace(0.0, top, 257)

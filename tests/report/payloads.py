@@ -1,4 +1,4 @@
-"""Markup payloads for the report safety tests (RELIABILITY.md §7.1, G14)."""
+"""Markup payloads for the report safety tests (docs/reliability.md §7.1, G14)."""
 
 PAYLOADS = (
     "<script>alert(1)</script>",

@@ -1,4 +1,4 @@
-"""The HTML report renders in a real headless browser (RELIABILITY.md G14; ECOSYSTEM.md §10)."""
+"""The HTML report renders in a real headless browser (docs/reliability.md G14)."""
 
 from __future__ import annotations
 

@@ -36,10 +36,10 @@ def _trapezoid_mean(t, y):
 
 
 def test_waveform_matches_textbook_chopper_e1():
-    # PHYSICS.md §8 E1 (Rashid, Power Electronics, 3rd ed., ch. 5, chopper with RL load):
+    # docs/physics.md, worked example E1 (Rashid, Power Electronics, 3rd ed., ch. 5, chopper with RL load):
     # V1 = 220 V, V2 = 0, E = 0, R = 5 ohm, L = 7.5 mH, f = 1 kHz, D = 0.5
     # -> I_min = 18.367 A, I_max = 25.633 A, dI = 7.266 A, I_avg = 22.000 A.
-    # A single-leg unipolar bridge at m = 0.5 is that chopper (PHYSICS.md §1.2 table).
+    # A single-leg unipolar bridge at m = 0.5 is that chopper (docs/physics.md §1.2 table).
     spec = _spec("unipolar-single", 220.0, 20.0)
     figs = _figs(220.0, 7.5e-3, 5.0, 1000.0, 20.0,
                  [("p", {"modulation": 0.5, "current": 22.0, "ripple_pp": 7.0})])
@@ -51,7 +51,7 @@ def test_waveform_matches_textbook_chopper_e1():
     assert float(wave.current.max()) == pytest.approx(25.633, abs=5e-4)
     assert float(wave.current.min()) == pytest.approx(18.367, abs=5e-4)
     assert float(wave.current.max() - wave.current.min()) == pytest.approx(wave.peak_to_peak, rel=1e-9)
-    # PHYSICS.md §1.4: I_avg = (D V1 + (1 - D) V2 - E) / R = (0.5 * 220 + 0 - 0) / 5
+    # docs/physics.md §1.4: I_avg = (D V1 + (1 - D) V2 - E) / R = (0.5 * 220 + 0 - 0) / 5
     assert _trapezoid_mean(wave.time, wave.current) == pytest.approx((0.5 * 220.0) / 5.0, rel=1e-4)
     assert wave.time[-1] == pytest.approx(1e-3)
 
@@ -70,7 +70,7 @@ def test_waveform_of_demo_axis_matches_physics_and_figures():
     sampled = float(wave.current.max() - wave.current.min())
     assert sampled <= wave.peak_to_peak * (1 + 1e-12)
     assert sampled == pytest.approx(wave.peak_to_peak, rel=1e-3)
-    # Mean against PHYSICS.md §1.4 with the §1.2 table for the phase-shifted scheme:
+    # Mean against docs/physics.md §1.4 with the §1.2 table for the phase-shifted scheme:
     # V1 = V, V2 = 0, D = |m|  ->  I_avg = (D V - E) / R.
     volts, r_loop = fs.value("supply_voltage"), fs.value("loop_resistance_hot")
     m = fs.value("modulation", worst)
@@ -81,7 +81,7 @@ def test_waveform_of_demo_axis_matches_physics_and_figures():
 
 
 @pytest.mark.parametrize("scheme,expected", [
-    # PHYSICS.md §8 E4: V = 24 V, f_pwm = 20 kHz, L = 0.20 mH, worst cases
+    # docs/physics.md, worked example E4: V = 24 V, f_pwm = 20 kHz, L = 0.20 mH, worst cases
     # bipolar 3.000 A, unipolar single 1.500 A, phase-shifted 0.750 A (linear, R -> 0).
     ("bipolar", 3.000), ("unipolar-single", 1.500), ("unipolar-phase-shifted", 0.750),
 ])
@@ -93,7 +93,7 @@ def test_frequency_sweep_at_setting_matches_e4_worst_case(scheme, expected):
     k = int(np.argmin(np.abs(sweep.x - 20e3)))
     assert sweep.x[k] == pytest.approx(20e3)
     assert sweep.ripple[k] == pytest.approx(expected, rel=1e-9)
-    # Linear worst case scales as 1/f (PHYSICS.md §1.3): four times the frequency, a quarter.
+    # Linear worst case scales as 1/f (docs/physics.md §1.3): four times the frequency, a quarter.
     assert sweep.ripple[-1] == pytest.approx(expected / 4.0, rel=1e-9)
 
 
@@ -106,14 +106,14 @@ def test_frequency_sweep_at_setting_equals_ripple_pp_worst_and_tanh_form():
         sweep = curves.ripple_vs_frequency(spec, fs)
         assert sweep.ripple_at_setting == pytest.approx(fs.value("ripple_pp_worst"), rel=1e-6), result.file
         if spec.stage.pwm.scheme == "unipolar-phase-shifted":
-            # PHYSICS.md §1.4: dI_max = (V1 - V2)/R tanh(R / (4 f_r L)), f_r = 2 f_pwm, V1 - V2 = V.
+            # docs/physics.md §1.4: dI_max = (V1 - V2)/R tanh(R / (4 f_r L)), f_r = 2 f_pwm, V1 - V2 = V.
             v, r, ind = fs.value("supply_voltage"), fs.value("loop_resistance_hot"), fs.value("loop_inductance")
             f_r = 2.0 * fs.value("pwm_frequency_leg")
             assert sweep.ripple_at_setting == pytest.approx(v / r * math.tanh(r / (4.0 * f_r * ind)), rel=1e-9)
 
 
 def test_inductance_remedy_matches_textbook_e2():
-    # PHYSICS.md §8 E2 (Rashid ch. 5): R = 0.25 ohm, V = 550 V, f = 250 Hz, worst ripple
+    # docs/physics.md, worked example E2 (Rashid ch. 5): R = 0.25 ohm, V = 550 V, f = 250 Hz, worst ripple
     # <= 20 A -> exact L = 27.499 mH. A single-leg chopper; 20 A = 20 % of 100 A.
     spec = _spec("unipolar-single", 550.0, 100.0)
     present = 1e-6
@@ -128,7 +128,7 @@ def test_inductance_remedy_matches_textbook_e2():
 
 
 def test_frequency_remedy_brings_ripple_to_limit():
-    # PHYSICS.md §8 E4 axis, linear: f = V / (4 L dI) for unipolar single at dI = 0.4 A -> 75 kHz.
+    # docs/physics.md, worked example E4 axis, linear: f = V / (4 L dI) for unipolar single at dI = 0.4 A -> 75 kHz.
     spec = _spec("unipolar-single", 24.0, 2.0)
     sweep = curves.ripple_vs_frequency(spec, _figs(24.0, 0.2e-3, 0.0, 20e3, 2.0))
     assert sweep.x_at_limit == pytest.approx(24.0 / (4.0 * 0.2e-3 * 0.4), rel=1e-6)
@@ -160,7 +160,7 @@ def test_profile_trace_agrees_with_cyclic_solution():
     # Periodic steady state: the cycle ends where it starts.
     assert trace.temperature[-1] == trace.temperature[0]
     # Every sample is a cycle-start temperature of the rotated profile, so it can't
-    # exceed the peak of the cycle solution (PHYSICS.md §6.5) and the largest sample is close to it.
+    # exceed the peak of the cycle solution (docs/physics.md §6.5) and the largest sample is close to it.
     assert float(trace.temperature.max()) <= trace.peak + 1e-9
     assert float(trace.temperature.max()) >= trace.peak - 1.0
     assert _trapezoid_mean(trace.time, trace.temperature) == pytest.approx(trace.mean, abs=0.3)

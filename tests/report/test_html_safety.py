@@ -1,4 +1,4 @@
-"""The HTML report keeps markup from specs and file names inert (RELIABILITY.md §7.1, G14, G16).
+"""The HTML report keeps markup from specs and file names inert (docs/reliability.md §7.1, G14, G16).
 
 Every spec-derived field is filled with a markup payload (the built model is
 copied with the payloads put in without validation, so the reporter meets
