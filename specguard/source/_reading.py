@@ -7,6 +7,7 @@ import os
 import posixpath
 import re
 import stat
+import unicodedata
 from collections.abc import Iterable
 from pathlib import Path
 
@@ -93,6 +94,9 @@ _SCHEME = re.compile(r"^[A-Za-z][A-Za-z0-9+.\-]*:")
 _DRIVE = re.compile(r"^[A-Za-z]:")
 _ENV = re.compile(r"\$[A-Za-z_{(]|%[A-Za-z_][A-Za-z0-9_]*%")
 _CONTROL = re.compile("[\x00-\x1f\x7f-\x9f\u2028\u2029]")
+# bidirectional controls and invisible characters: a path that holds one reads
+# differently from the file it opens (docs/reliability.md G16)
+_HIDDEN = re.compile("[\u00ad\u061c\u180e\u200b-\u200f\u202a-\u202e\u2060-\u2064\u2066-\u2069\ufeff]")
 
 
 def _quote(ref: str) -> str:
@@ -103,7 +107,7 @@ def _quote(ref: str) -> str:
         code = ord(ch)
         if ch == "'" or ch == "\\":
             out.append("\\" + ch)
-        elif code < 0x20 or 0x7F <= code <= 0x9F or ch in "\u2028\u2029" or 0xD800 <= code <= 0xDFFF:
+        elif code < 0x20 or 0x7F <= code <= 0x9F or _CONTROL.match(ch) or _HIDDEN.match(ch) or 0xD800 <= code <= 0xDFFF:
             out.append(f"\\x{code:02x}" if code < 0x100 else f"\\u{code:04x}")
         else:
             out.append(ch)
@@ -129,6 +133,10 @@ def _check_text(ref: str) -> None:
         raise ReferenceProblem(f"reference {q} is empty")
     if _CONTROL.search(ref):
         raise ReferenceProblem(f"reference {q} contains a NUL, line break or control character")
+    if _HIDDEN.search(ref):
+        raise ReferenceProblem(
+            f"reference {q} contains a bidirectional control or an invisible character; "
+            "it would open a file other than the one a reviewer reads")
     if ref.startswith("\\\\") or ref.startswith("//"):
         raise ReferenceProblem(
             f"reference {q} is a network (UNC) path; it must be a relative path inside the repository")
@@ -146,6 +154,53 @@ def _check_text(ref: str) -> None:
         raise ReferenceProblem(f"reference {q} contains a backslash; use forward slashes")
 
 
+def _same_name(a: str, b: str) -> bool:
+    """Names that are one file on every disk (a disk may store either normal form)."""
+    return a == b or unicodedata.normalize("NFC", a) == unicodedata.normalize("NFC", b)
+
+
+def _fold(name: str) -> str:
+    return unicodedata.normalize("NFC", name).casefold()
+
+
+def _case_problem(base_dir: str, ref: str) -> str | None:
+    """The reference respelled as the directory listings spell it, when some path
+    component matches a name on disk only without regard to letter case; else None.
+
+    Every component the reference names is compared with the listing of its
+    directory, so the answer is the same on a case-sensitive disk (where the open
+    would fail) and a case-insensitive one (where it would succeed): a spec that
+    works on one machine works on all (docs/reliability.md H09).
+    """
+    parts = posixpath.normpath(ref).split("/")
+    ups = 0
+    while ups < len(parts) and parts[ups] == "..":
+        ups += 1
+    names = [p for p in parts[ups:] if p not in ("", ".")]
+    current = os.path.normpath(os.path.join(base_dir, *([".."] * ups)))
+    fixed: list[str] = []
+    differs = False
+    for name in names:
+        try:
+            listing = os.listdir(current)
+        except OSError:
+            return None  # not a directory, unreadable: the checks below say so
+        if any(_same_name(entry, name) for entry in listing):
+            fixed.append(name)
+            current = os.path.join(current, name)
+            continue
+        folded = _fold(name)
+        matches = sorted(entry for entry in listing if _fold(entry) == folded)
+        if not matches:
+            return None  # missing for real: "does not exist" below
+        differs = True
+        fixed.append(matches[0])
+        current = os.path.join(current, matches[0])
+    if not differs:
+        return None
+    return "/".join([".."] * ups + fixed)
+
+
 def open_reference(
     root: Path,
     referencing_file: Path,
@@ -158,9 +213,10 @@ def open_reference(
     ``root``, and read it (at most ``limits.max_bytes + 1`` bytes).
 
     Checks, in this order, and nothing is opened until all pass: the text of the
-    reference (absolute, drive, UNC, ``~``, variables, URL schemes, control
-    characters) -> normalise -> inside root -> realpath -> inside the realpath of
-    root -> deny-list (``.git`` and ``denied`` paths) -> lstat regular file. Then
+    reference (absolute, drive, UNC, ``~``, variables, URL schemes, control,
+    bidirectional and invisible characters) -> normalise -> inside root -> realpath -> inside the realpath of
+    root -> deny-list (``.git`` and ``denied`` paths) -> every component spelled
+    as the directory listing spells it (letter case) -> lstat regular file. Then
     open with O_NOFOLLOW | O_NONBLOCK, fstat regular file, read.
 
     Returns (resolved path, bytes, real size). Raises :class:`ReferenceProblem`.
@@ -181,13 +237,18 @@ def open_reference(
     rel = _rel(real, real_root)
     rel_parts = Path(rel).parts
     cand_parts = Path(_rel(candidate, root_abs)).parts
-    if ".git" in rel_parts or ".git" in cand_parts:
+    if any(p.casefold() == ".git" for p in rel_parts + cand_parts):  # .GIT is .git on some disks
         raise ReferenceProblem(f"reference {q} points into .git/, which is never read")
     for d in denied:
         d_real = os.path.realpath(os.fspath(d))
         if real == d_real or _inside(real, d_real):
             raise ReferenceProblem(
                 f"reference {q} points to '{_rel(d_real, real_root)}', which specs may not reference")
+    spelled = _case_problem(base_dir, ref)
+    if spelled is not None:
+        raise ReferenceProblem(
+            f"reference {q} does not match the letter case on disk: the file on disk is spelled "
+            f"{_quote(spelled)} (write it exactly so, for case-sensitive disks)")
     try:
         st = os.lstat(real)
     except FileNotFoundError:

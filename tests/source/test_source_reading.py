@@ -242,3 +242,80 @@ def test_read_limited_unreadable(tmp_path, monkeypatch):
 def test_read_limited_nul_in_path():
     with pytest.raises(InputError, match="not a usable path"):
         read_limited("a\x00b.yaml")
+
+
+# ---------------------------------------------------------------- letter case (H09)
+
+
+@pytest.mark.parametrize(
+    "ref, spelled",
+    [
+        ("../lib/Motors/m1.yaml", "../lib/motors/m1.yaml"),
+        ("../LIB/motors/M1.yaml", "../lib/motors/m1.yaml"),
+        ("./../lib/./motors/M1.YAML", "../lib/motors/m1.yaml"),
+        ("../lib/motors/../motors/M1.yaml", "../lib/motors/m1.yaml"),
+    ],
+)
+def test_reference_case_differs_from_disk(repo, opened, ref, spelled):
+    """docs/reliability.md H09: every component is compared with its directory
+    listing, so the answer does not depend on the disk being case-sensitive."""
+    with pytest.raises(ReferenceProblem) as info:
+        open_reference(repo, repo / "axes" / "x1.yaml", ref)
+    assert f"the file on disk is spelled '{spelled}'" in str(info.value)
+    assert opened == []
+
+
+def test_reference_case_on_a_case_insensitive_disk(repo, opened, monkeypatch):
+    """On a case-insensitive disk the miscased path opens; the listing comparison
+    still refuses it, before anything is opened."""
+    real_lstat, real_realpath = os.lstat, os.path.realpath
+
+    def fold(path):
+        return os.fspath(path).replace("Motors", "motors")
+
+    monkeypatch.setattr(_reading.os, "lstat", lambda p: real_lstat(fold(p)))
+    monkeypatch.setattr(_reading.os.path, "realpath", lambda p: real_realpath(fold(p)))
+    with pytest.raises(ReferenceProblem, match="spelled '../lib/motors/m1.yaml'"):
+        open_reference(repo, repo / "axes" / "x1.yaml", "../lib/Motors/m1.yaml")
+    assert opened == []
+
+
+def test_reference_exact_case_beside_other_case(repo):
+    """Two files that differ only in case (possible on Linux): the exact one is fine."""
+    (repo / "lib" / "motors" / "M1.yaml").write_text("motor: {pole_pairs: 8}\n")
+    path, data, _ = open_reference(repo, repo / "axes" / "x1.yaml", "../lib/motors/M1.yaml")
+    assert path.name == "M1.yaml" and b"8" in data
+
+
+def test_reference_missing_in_any_case(repo):
+    with pytest.raises(ReferenceProblem, match="'lib/motors/m2.yaml', which does not exist"):
+        open_reference(repo, repo / "axes" / "x1.yaml", "../lib/Motors/m2.yaml".replace("Motors", "motors"))
+    with pytest.raises(ReferenceProblem, match="which does not exist"):
+        open_reference(repo, repo / "axes" / "x1.yaml", "../lib/Motors/m2.yaml")
+
+
+def test_reference_normal_forms_are_one_name(repo):
+    """A disk may store a name decomposed (NFD); the NFC spelling is the same file."""
+    import unicodedata
+
+    name = unicodedata.normalize("NFD", "moteur-\u00e9.yaml")
+    (repo / "lib" / name).write_text("motor: {}\n")
+    nfc = unicodedata.normalize("NFC", "../lib/moteur-\u00e9.yaml")
+    try:
+        open_reference(repo, repo / "axes" / "x1.yaml", nfc)
+    except ReferenceProblem as exc:  # Linux: the NFC name is not the file
+        assert "does not exist" in str(exc) and "spelled" not in str(exc)
+
+
+@pytest.mark.parametrize("hidden", ["\u202e", "\u200b", "\u2066", "\u061c", "\ufeff"])
+def test_reference_with_hidden_character(repo, opened, hidden):
+    with pytest.raises(ReferenceProblem, match="bidirectional control or an invisible character") as info:
+        open_reference(repo, repo / "axes" / "x1.yaml", f"../lib/motors/m{hidden}1.yaml")
+    assert hidden not in str(info.value)
+    assert opened == []
+
+
+def test_reference_into_git_in_other_case(repo, opened):
+    with pytest.raises(ReferenceProblem, match="into .git/"):
+        open_reference(repo, repo / "axes" / "x1.yaml", "../.GIT/config")
+    assert opened == []
