@@ -2,7 +2,8 @@
 and located findings out. It never raises on spec content.
 
 Pipeline (RELIABILITY.md 7.5): size cap -> strict UTF-8 (BOM stripped) and a ban
-on control characters -> pre-scan (directives, nesting depth) -> parser events
+on control characters and the line breaks editors do not show (NEL, LS, PS) ->
+warnings for bidirectional controls and invisible characters -> pre-scan (directives, nesting depth) -> parser events
 (C parser of ruamel.yaml.clib, or the pure-Python parser) -> our own composer,
 which resolves scalars by the YAML 1.2 core schema, rejects tags and non-string
 or duplicate keys, and charges aliases their expanded size against the budgets.
@@ -65,7 +66,7 @@ def load_bytes(raw: bytes, file: str, limits: Limits = _DEFAULT_LIMITS, *, size:
 def _load(raw: bytes, file: str, limits: Limits, size: int | None, kind: str) -> LoadResult:
     from ._compose import compose, fmt_size
     from ._prescan import prescan
-    from ._text import TextIndex, decode
+    from ._text import TextIndex, decode, hidden_characters
 
     real = max(size or 0, len(raw))
     if real > limits.max_bytes:
@@ -77,9 +78,14 @@ def _load(raw: bytes, file: str, limits: Limits, size: int | None, kind: str) ->
         findings = [Finding(p.rule, "error", p.message, Location(file, p.line, p.column)) for p in problems]
         return _result(findings, kind)
 
+    # Bidirectional controls and invisible characters: warnings wherever they are
+    # (comments and free text included); they come first in every outcome below.
+    hidden = [Finding(p.rule, "warning", p.message, Location(file, p.line, p.column)) for p in hidden_characters(text)]
+
     pre = prescan(text, limits.max_depth)
     if pre:
-        return _result([Finding(p.rule, "error", p.message, Location(file, p.line, p.column)) for p in pre], kind)
+        errors = [Finding(p.rule, "error", p.message, Location(file, p.line, p.column)) for p in pre]
+        return _result(hidden + errors, kind)
 
     if kind == "c" and "\\" in text and _SURROGATE_ESCAPE.search(text):
         kind = "pure"
@@ -87,6 +93,7 @@ def _load(raw: bytes, file: str, limits: Limits, size: int | None, kind: str) ->
     next_event, dispose = _backend.open_events(text, kind, limits.max_depth)
     try:
         data, locations, findings = compose(next_event, text, index, file, limits)
+        findings = hidden + findings
     finally:
         try:
             dispose()

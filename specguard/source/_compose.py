@@ -15,7 +15,7 @@ from typing import Any, NoReturn
 from specguard.findings import Finding, Location, kind_of
 
 from ._errors import exception_finding
-from ._text import FORBIDDEN, TextIndex, describe_char
+from ._text import FORBIDDEN, HIDDEN, TextIndex, describe_char, hidden_note
 from ._types import Limits, NodeLoc, Span
 
 _PENDING = object()  # a mapping waits for its next key
@@ -43,6 +43,8 @@ _FLOAT = re.compile(r"[-+]?(?:\.[0-9]+|[0-9]+(?:\.[0-9]*)?)(?:[eE][-+]?[0-9]+)?"
 _INF = re.compile(r"[-+]?\.(?:inf|Inf|INF)")
 _NAN = re.compile(r"\.(?:nan|NaN|NAN)")
 _MAX_NUMBER_CHARS = 100
+# a float literal whose digits before the exponent are not all zero
+_NONZERO_MANTISSA = re.compile(r"[-+]?[0.]*[1-9]")
 
 _SURROGATE = re.compile("[\ud800-\udfff]")
 _SURROGATE_PAIR = re.compile("[\ud800-\udbff][\udc00-\udfff]")
@@ -290,10 +292,20 @@ def compose(
                     add(
                         "number-invalid",
                         "error",
-                        f"'{_short(value)}' is outside the range of a 64-bit float",
+                        f"'{_short(value)}' is too large to represent: outside the range of a 64-bit float",
                         span,
                         report_path(),
                     )
+            elif result == 0.0 and not as_key and _NONZERO_MANTISSA.match(value):
+                # 1e-400 reads as 0.0: what the reviewer reads is not zero, what we
+                # would compute with is (docs/reliability.md F02)
+                add(
+                    "number-invalid",
+                    "error",
+                    f"'{_short(value)}' underflows to zero: too small to represent as a 64-bit float",
+                    span,
+                    report_path(),
+                )
             return result
         elif _INF.fullmatch(value) or _NAN.fullmatch(value):
             if not as_key:
@@ -513,6 +525,16 @@ def compose(
                             "text-encoding",
                             "error",
                             f"escaped {describe_char(bad.group())} in a string is not allowed",
+                            span,
+                            report_path(),
+                        )
+                    hidden = HIDDEN.search(value)
+                    if hidden and hidden.group() not in text[sm.index : em.index]:
+                        # written as an escape: the raw text shows it, the value holds it
+                        add(
+                            "text-encoding",
+                            "warning",
+                            f"escaped {describe_char(hidden.group())} in a string: {hidden_note(hidden.group())}",
                             span,
                             report_path(),
                         )

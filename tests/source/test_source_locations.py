@@ -158,3 +158,51 @@ def test_types_are_frozen():
     loc = NodeLoc(None, Span(1, 1, 1, 2))
     with pytest.raises(AttributeError):
         loc.value.line = 3  # type: ignore[misc]
+
+
+@pytest.mark.parametrize("sep", ["\u2028", "\u2029", "\u0085"])
+def test_line_separators_are_rejected_before_any_later_location(parser_kind, sep):
+    """docs/reliability.md E04: the YAML parsers break lines at NEL, LS and PS, most
+    editors do not. The character is an error at its own line:column (counted by
+    LF/CRLF/CR only, as an editor shows it) and nothing after it is located, so no
+    finding can point one line off."""
+    raw = f"a: 1\nnotes: one{sep}two # c\nb: .nan\nc: [1,\n".encode()
+    r = load_bytes(raw, "ls.yaml")
+    assert r.data is None
+    (f,) = r.findings
+    assert (f.rule, f.severity, f.location.line, f.location.column) == ("text-encoding", "error", 2, 11)
+    assert f"U+{ord(sep):04X}" in f.message
+    # also as the last character of a comment line, and with CRLF line ends
+    (g,) = load_bytes(f"a: 1\r\n# x{sep}\r\nb: 2\r\n".encode(), "ls.yaml").findings
+    assert (g.location.line, g.location.column) == (2, 4)
+
+
+def test_text_index_counts_editor_line_breaks_only():
+    from specguard.source._text import position_in
+
+    text = "a\u2028b\u2029c\u0085d\ne\r\nf\rg"
+    assert position_in(text, text.index("d")) == (1, 7)
+    assert position_in(text, text.index("e")) == (2, 1)
+    assert position_in(text, text.index("f")) == (3, 1)
+    assert position_in(text, text.index("g")) == (4, 1)
+
+
+def test_hidden_characters_do_not_shift_locations(parser_kind):
+    """A bidi control or zero-width character is one code point: a warning at its
+    place, and the locations after it are those of the same text without it, plus
+    one column on its own line."""
+    raw = "a: x\u200by\nb: \u202eok\u202c\nc: .nan\n".encode()
+    r = load_bytes(raw, "h.yaml")
+    assert [(f.rule, f.severity, f.location.line, f.location.column) for f in r.findings] == [
+        ("text-encoding", "warning", 1, 5),
+        ("text-encoding", "warning", 2, 4),
+        ("text-encoding", "warning", 2, 7),
+        ("number-invalid", "error", 3, 4),
+    ]
+
+
+def test_hidden_character_warnings_are_capped(parser_kind):
+    r = load_bytes(("a: " + "x\u200b" * 25 + "\n").encode(), "h.yaml")
+    assert r.data == {"a": "x\u200b" * 25}
+    assert len(r.findings) == 10
+    assert r.findings[-1].message.endswith("(15 more such characters in this file are not listed)")
