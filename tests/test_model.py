@@ -198,3 +198,148 @@ def test_waiver_date_must_exist():
     spec, findings = run(with_change(("waivers",), [waiver]))
     assert spec is None
     assert findings[0].location.path == ("waivers", 0, "expires")
+
+
+# ------------------------------------------------------- under- and overflow (F02)
+
+
+def _quantity_fields():
+    """Every dimensional field of the model: (dotted path, Quantity metadata)."""
+    import typing
+
+    from pydantic import BaseModel
+
+    from specguard.model.quantity import Quantity
+
+    out: dict[str, Quantity] = {}
+
+    def walk(model, prefix):
+        for name, field in model.model_fields.items():
+            todo = [field.annotation, *field.metadata]
+            while todo:
+                a = todo.pop()
+                if isinstance(a, Quantity):
+                    out[".".join(prefix + (name,))] = a
+                elif typing.get_origin(a) is typing.Annotated:
+                    todo.extend(typing.get_args(a))
+                elif isinstance(a, type) and issubclass(a, BaseModel):
+                    walk(a, prefix + (name,))
+                else:
+                    todo.extend(x for x in typing.get_args(a) if x is not Ellipsis)
+
+    walk(Spec, ())
+    return out
+
+
+QUANTITY_FIELDS = _quantity_fields()
+
+
+def test_the_scan_sees_every_dimensional_field():
+    # the fields that took "1e-400 <unit>" silently before: every ge=0 field read it
+    # as 0 and every absolute temperature as 0 degC (273.15 K)
+    silent_before = {
+        "motor.no_load_current", "stage.pwm.dead_time", "stage.switch_resistance",
+        "stage.output_inductance", "chokes.resistance", "cable.resistance", "load.inertia",
+        "operating_points.speed", "operating_points.torque", "profile.segments.speed",
+        "profile.segments.torque", "motor.terminal_resistance.at", "operating_points.ambient",
+        "motor.thermal.max_winding_temperature", "profile.ambient",
+    }
+    assert silent_before <= set(QUANTITY_FIELDS)
+    assert len(QUANTITY_FIELDS) >= 45
+
+
+@pytest.mark.parametrize("field", sorted(QUANTITY_FIELDS))
+def test_every_dimensional_field_refuses_underflow_and_overflow(field):
+    """A nonzero number that reads as 0.0 (1e-400, -1e-400, 1e-318 uA) or as inf
+    (1e999) is an error on every dimensional field, in every accepted unit."""
+    from typing import Annotated
+
+    from pydantic import TypeAdapter, ValidationError
+
+    from specguard.model import units
+
+    quantity = QUANTITY_FIELDS[field]
+    adapter = TypeAdapter(Annotated[float, quantity])
+    for unit in units.accepted_units(quantity.dimension):
+        for number, kind, words in (
+            ("1e-400", "number_invalid", "underflows to zero"),
+            ("-1e-400", "number_invalid", "underflows to zero"),
+            ("1e-330", "number_invalid", "underflows to zero"),
+            ("1e999", "unit_invalid", "too large"),
+            ("-1e999", "unit_invalid", "too large"),
+        ):
+            with pytest.raises(ValidationError) as info:
+                adapter.validate_python(f"{number} {unit}")
+            (err,) = info.value.errors()
+            assert err["type"] == kind, (field, unit, number, err)
+            assert words in err["ctx"]["message"], (field, unit, number, err)
+    # a zero written with an exponent is a zero, not an underflow
+    zero = f"0e-400 {units.accepted_units(quantity.dimension)[0]}"
+    try:
+        adapter.validate_python(zero)
+    except ValidationError as exc:
+        assert "underflows" not in str(exc)
+
+
+@pytest.mark.parametrize(
+    "path, value, pattern",
+    [
+        (("motor", "rated_current"), "1e-400 A", r"motor\.rated_current: '1e-400 A' underflows to zero"),
+        (("motor", "no_load_current"), "-1e-400 mA", r"underflows to zero"),
+        (("operating_points", 0, "ambient"), "1e-400 degC", r"underflows to zero.*in degC"),
+        # the written number is a float (subnormal), its SI value is not
+        (("motor", "terminal_inductance", "value"), "1e-320 nH", r"underflows to zero.*in H;"),
+    ],
+)
+def test_underflow_is_a_number_finding(path, value, pattern):
+    import re
+
+    spec, findings = run(with_change(path, value))
+    assert spec is None
+    (finding,) = findings
+    assert finding.rule == "number-invalid" and finding.location.path == path
+    assert re.search(pattern, finding.message), finding.message
+
+
+# ------------------------------------------------------- look-alike letters
+
+
+@pytest.mark.parametrize(
+    "path, value, pattern",
+    [
+        # Cyrillic capital A for the ampere
+        (("motor", "rated_current"), "2 \u0410", r"U\+0410 CYRILLIC CAPITAL LETTER A.*did you mean A\?"),
+        (("motor", "rated_current"), "2 m\u0410", r"did you mean mA\?"),
+        # a full-width V
+        (("stage", "supply", "voltage"), "24 \uff36", r"U\+FF36 FULLWIDTH LATIN CAPITAL LETTER V.*did you mean V\?"),
+        # the Greek small mu is a micro sign (allowed), the Cyrillic small u is not
+        (("motor", "terminal_inductance", "value"), "85 \u0443H", r"U\+0443 CYRILLIC SMALL LETTER U"),
+    ],
+)
+def test_look_alike_letters_in_units_are_named(path, value, pattern):
+    import re
+
+    spec, findings = run(with_change(path, value))
+    (finding,) = findings
+    assert finding.rule == "unit-invalid"
+    assert re.search(pattern, finding.message), finding.message
+
+
+def test_micro_signs_stay_accepted():
+    spec, findings = run(with_change(("motor", "terminal_inductance", "value"), "85 \u03bcH"))
+    assert findings == [] and spec.motor.terminal_inductance.value == pytest.approx(85e-6)
+
+
+def test_look_alike_letter_in_a_key_is_named():
+    data = with_change(("motor", "rated_current"), KeyError)
+    data["m\u043etor"] = data.pop("motor")  # Cyrillic small o
+    spec, findings = run(data)
+    unknown = [f for f in findings if "unknown key" in f.message]
+    assert unknown and "U+043E CYRILLIC SMALL LETTER O" in unknown[0].message
+    assert "did you mean 'motor'" in unknown[0].message
+    data = copy.deepcopy(BASE)
+    data["motor"]["rated\u200b_current"] = data["motor"].pop("rated_current")
+    _, findings = run(data)
+    (unknown,) = [f for f in findings if "unknown key" in f.message]
+    assert "U+200B ZERO WIDTH SPACE" in unknown.message
+    assert "'\u200b'" not in unknown.message  # an invisible character is named, not printed

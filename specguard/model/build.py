@@ -2,8 +2,9 @@
 
 pydantic runs strict (no ``"5"`` for 5, no ``true`` for 1, no NaN), so that the
 model and the published JSON Schema accept the same documents. Errors become
-findings: unit problems are ``unit-invalid``, everything else
-``schema-violation``. An unknown key points at the key itself with a
+findings: unit problems are ``unit-invalid``, a quantity whose number underflows
+to zero is ``number-invalid`` (as the loader says of a plain number), everything
+else ``schema-violation``. An unknown key points at the key itself with a
 "did you mean" suggestion; a missing key points at its parent mapping.
 """
 
@@ -19,6 +20,7 @@ from pydantic import BaseModel, ValidationError
 
 from ..findings import Finding, Location, dotted, kind_of
 from .spec import Spec
+from .units import foreign_letters
 
 Locate = Callable[..., tuple[Location, tuple[Location, ...]]]
 
@@ -94,12 +96,17 @@ def _error_to_finding(err: Mapping[str, Any], data: dict, locate: Locate) -> Fin
     if kind == "unit_invalid":
         loc, rel = locate(path)
         return Finding("unit-invalid", "error", f"{where}: {err['ctx']['message']}", loc, rel)
+    if kind == "number_invalid":  # a quantity whose number underflows to zero
+        loc, rel = locate(path)
+        return Finding("number-invalid", "error", f"{where}: {err['ctx']['message']}", loc, rel)
     if kind == "extra_forbidden":
         parent = model_at(path[:-1])
         known = list(parent.model_fields) if parent else []
         key = str(path[-1]) if path else ""
         hint = difflib.get_close_matches(key, known, n=1, cutoff=0.6)
-        message = f"{where}: unknown key '{key}'"
+        # a key with a letter of another script looks exactly like the known one
+        foreign, _plain = foreign_letters(key)
+        message = f"{where}: unknown key '{key}'{foreign}"
         if hint:
             message += f"; did you mean '{hint[0]}'?"
         elif known:

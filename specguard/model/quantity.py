@@ -44,9 +44,15 @@ def unit_pattern(dimension: str) -> str:
 def _parser(dimension: str):
     def parse(value: Any) -> float:
         try:
-            return units.parse_quantity(value, dimension)
+            result = units.parse_quantity(value, dimension)
         except units.UnitError as exc:
             raise PydanticCustomError("unit_invalid", "{message}", {"message": exc.message}) from None
+        # "1e-400 A" reads as 0.0 and "1e-400 degC" as 273.15 K: a nonzero value the
+        # reviewer sees, a zero the figures would use (docs/reliability.md F02)
+        underflow = units.underflow_message(value, dimension)
+        if underflow is not None:
+            raise PydanticCustomError("number_invalid", "{message}", {"message": underflow})
+        return result
 
     return parse
 

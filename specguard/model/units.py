@@ -32,6 +32,7 @@ from __future__ import annotations
 import math
 import numbers
 import re
+import unicodedata
 from collections.abc import Mapping
 from dataclasses import dataclass, field
 from types import MappingProxyType
@@ -44,6 +45,8 @@ __all__ = [
     "accepted_units",
     "format_si",
     "parse_quantity",
+    "underflow_message",
+    "foreign_letters",
 ]
 
 ERROR_CODES = frozenset(
@@ -377,6 +380,37 @@ def parse_quantity(value: object, dimension: str) -> float:
     return _diagnose(value, dimension, table)
 
 
+def underflow_message(value: object, dimension: str) -> str | None:
+    """The message for a quantity whose written number is not zero but reads as zero
+    ("1e-400 A", "1e-318 uA": below the smallest float, in the written unit or in SI),
+    else None. ``parse_quantity`` returns 0.0 (or the unit's offset) for such text,
+    so callers that must not compute with a silent zero ask this as well."""
+    if not isinstance(value, str) or ("e" not in value and "E" not in value):
+        return None  # without an exponent, 30 digits cannot reach the float's floor
+    text = value.strip().translate(_MICRO)
+    m = _QUANTITY.fullmatch(text)
+    if m is None:
+        return None
+    mant, exp, unit = m.groups()
+    conv = _FAST[dimension].get(unit)
+    if conv is None or exp is None or not any(c in "123456789" for c in mant):
+        return None
+    exp10, scale, _offset = conv
+    try:
+        written = float(f"{mant}e{exp}")
+        si = float(f"{mant}e{int(exp) + exp10}") * scale
+    except (ValueError, OverflowError):
+        return None
+    if written != 0.0 and si != 0.0:
+        return None
+    si_unit = DIMENSIONS[dimension].si_unit
+    return (
+        f"{_show(value.strip())} underflows to zero: the number is too small to represent "
+        f"as a 64-bit float in {si_unit if written != 0.0 else unit}; write the value you mean "
+        f"(0 if it is zero), e.g. '{_EXAMPLE[dimension]}'"
+    )
+
+
 _KIND_NAMES: dict[type, str] = {
     type(None): "an empty value (null)",
     list: "a list",
@@ -538,12 +572,49 @@ def _diagnose(value: object, dimension: str, table: dict[str, tuple[int, float, 
             f"{shown}: {_show(unit)} is not accepted for {phrase}; write {hint}; "
             f"accepted: {listing}",
         )
+    foreign, plain = foreign_letters(unit)
+    if foreign:
+        guess = f"; did you mean {plain}?" if plain in accepted else ""
+        raise fail(
+            "unknown_unit",
+            f"{shown}: unknown unit {_show(unit)} for {phrase}{foreign}{guess}; accepted: {listing}",
+        )
     elsewhere = _LOWER_INDEX.get(unit.lower())
     note = f" ({elsewhere[0][1]} is {_PHRASE[elsewhere[0][0]]} unit)" if elsewhere else ""
     raise fail(
         "unknown_unit",
         f"{shown}: unknown unit {_show(unit)} for {phrase}{note}; accepted: {listing}",
     )
+
+
+# Letters of other scripts that look like Latin ones (the usual homoglyphs in units
+# and keys); full-width forms are folded by NFKC first.
+_LOOKALIKE = str.maketrans(
+    "\u0410\u0412\u0415\u041a\u041c\u041d\u041e\u0420\u0421\u0422\u0425"
+    "\u0430\u0435\u043e\u0440\u0441\u0443\u0445\u0455\u0456\u0458"
+    "\u0391\u0392\u0395\u0396\u0397\u0399\u039a\u039c\u039d\u039f\u03a1\u03a4\u03a5\u03a7"
+    "\u03bf\u03bd",
+    "ABEKMHOPCTXaeopcyxsij" "ABEZHIKMNOPTYX" "ov",
+)
+# Non-ASCII characters the unit table itself uses or names in a hint.
+_KNOWN_SIGNS = frozenset("\u00b5\u03bc\u03a9\u2126\u00b0\u2103\u00b2\u00b3\u00b7\u22c5\u00d7\u0394")
+
+
+def foreign_letters(text: str) -> tuple[str, str | None]:
+    """(a note naming the characters of ``text`` that look like ASCII but are not, or
+    "", and the text with them replaced by the ASCII they imitate, or None when
+    nothing would change). The micro, ohm, degree signs are not reported."""
+    odd = [c for c in dict.fromkeys(text) if ord(c) > 0x7E and c not in _KNOWN_SIGNS]
+    if not odd:
+        return "", None
+    shown = ", ".join(
+        # an invisible or format character is named only, never printed
+        ("" if unicodedata.category(c)[0] in "CZ" else f"'{c}' is ")
+        + f"U+{ord(c):04X} {unicodedata.name(c, 'an unnamed character')}"
+        for c in odd[:3]
+    )
+    plain = unicodedata.normalize("NFKC", text).translate(_LOOKALIKE)
+    return f" ({shown}, not an ASCII character)", (plain if plain != text and plain.isascii() else None)
 
 
 def _closest_case(unit: str, accepted: tuple[str, ...]) -> str | None:
