@@ -4,7 +4,7 @@ A reader of a file written here sees either the old content or the new, never a
 part: the bytes go to a temporary file in the target's own directory (so
 ``os.replace`` never crosses a filesystem), are flushed and fsynced, get the
 final mode, and then replace the target in one step. Every error path removes
-the temporary file. RELIABILITY.md, "The error contract" and FI01-FI14, FI22, FI23.
+the temporary file. docs/reliability.md §2 (the error contract) and FI01-FI14, FI22, FI23.
 
 The lock is an OS advisory lock (``fcntl.flock``) on a separate lock file opened
 with ``O_NOFOLLOW``: the kernel releases it when the holder dies, so a killed

@@ -10,7 +10,7 @@ Key (sha256 over a JSON list):
 - the effective policy for the file (``EffectiveConfig.for_file``) and the
   files references may not reach (baseline, reports, the cache itself);
 - the spec's repo-relative path and the sha256 of the bytes read for it (the
-  same bytes the parser gets: RELIABILITY.md FI24).
+  same bytes the parser gets: docs/reliability.md FI24).
 
 The entry stores the spec's reference closure (every library file read, with
 its sha256). A lookup is a hit only when every closure file still has that

@@ -10,7 +10,7 @@ library only, nothing imported: the atomic writer and the CLI load it at start.
 from __future__ import annotations
 
 # Exit status after a signal, as shells report it: 128 + the signal number
-# (RELIABILITY.md, "The error contract": 130 on SIGINT, 143 on SIGTERM).
+# (docs/reliability.md §2 (the error contract): 130 on SIGINT, 143 on SIGTERM).
 EXIT_SIGINT, EXIT_SIGTERM = 130, 143
 
 RECEIVED: list[int] = []

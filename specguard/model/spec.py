@@ -45,7 +45,7 @@ AsTuple = BeforeValidator(_as_tuple)
 
 def _integral(value: object) -> object:
     # JSON Schema's "integer" accepts 4.0; so does the model, to keep one policy
-    # at both layers (RELIABILITY.md F11). 4.5 and true stay errors.
+    # at both layers (docs/reliability.md F11). 4.5 and true stay errors.
     if isinstance(value, float) and value.is_integer():
         return int(value)
     return value

@@ -1,7 +1,7 @@
 """The guarded loader: bytes in, plain JSON-compatible data plus a location index
 and located findings out. It never raises on spec content.
 
-Pipeline (RELIABILITY.md 7.5): size cap -> strict UTF-8 (BOM stripped) and a ban
+Pipeline (docs/reliability.md §7.5): size cap -> strict UTF-8 (BOM stripped) and a ban
 on control characters and the line breaks editors do not show (NEL, LS, PS) ->
 warnings for bidirectional controls and invisible characters -> pre-scan (directives, nesting depth) -> parser events
 (C parser of ruamel.yaml.clib, or the pure-Python parser) -> our own composer,

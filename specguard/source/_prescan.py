@@ -2,7 +2,7 @@
 
 It rejects directives other than ``%YAML 1.2`` and bounds the nesting depth, so
 the C parser is never handed the deeply nested text that crashes it
-(RELIABILITY.md A10). The depth is an estimate from flow brackets (counted
+(docs/reliability.md A10). The depth is an estimate from flow brackets (counted
 outside quoted scalars and comments) and block indentation (one level per
 indentation step, per ``- `` / ``? `` indicator and per mapping key start). The
 exact depth is enforced again on the event stream, so an estimate that is low

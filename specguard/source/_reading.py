@@ -1,5 +1,5 @@
 """Reading files without surprises: size cap, no blocking on FIFOs, and library
-references confined to the repository root (RELIABILITY.md 7.2)."""
+references confined to the repository root (docs/reliability.md §7.2)."""
 
 from __future__ import annotations
 

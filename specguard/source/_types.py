@@ -10,7 +10,7 @@ from specguard.findings import Finding
 
 @dataclass(frozen=True)
 class Limits:
-    """Budgets of the loader (defaults: RELIABILITY.md G4)."""
+    """Budgets of the loader (defaults: docs/reliability.md G4)."""
 
     max_bytes: int = 256 * 1024
     max_nodes: int = 50_000  # expanded nodes: an alias is charged the size it expands to

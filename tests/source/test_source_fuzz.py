@@ -1,4 +1,4 @@
-"""Property tests (RELIABILITY.md G1, 8): random bytes and random mutations of a
+"""Property tests (docs/reliability.md G1, 8): random bytes and random mutations of a
 small realistic spec never raise through load_bytes and always give either plain
 JSON data or located findings."""
 

@@ -18,7 +18,7 @@ REPO = Path(__file__).resolve().parents[2]
 
 
 def test_10mb_file_rejected_fast_reading_at_most_cap_plus_one(tmp_path, monkeypatch):
-    """RELIABILITY.md A12/G5."""
+    """docs/reliability.md A12/G5."""
     spec = (Path(__file__).parent / "data" / "axis_5k.yaml").read_bytes()
     big = tmp_path / "big.yaml"
     big.write_bytes((spec * (10_700_000 // len(spec) + 1))[:10_700_000])
@@ -50,7 +50,7 @@ def test_truncated_bytes_with_small_size_argument():
 
 
 def test_alias_bomb_stops_fast(parser_kind):
-    """RELIABILITY.md A01/G6: the 9x9 bomb, well under 0.5 s."""
+    """docs/reliability.md A01/G6: the 9x9 bomb, well under 0.5 s."""
     bomb = b'a: &a ["lol","lol","lol","lol","lol","lol","lol","lol","lol"]\n' + b"".join(
         b"%c: &%c [%s]\n" % (c, c, b",".join([b"*%c" % p] * 9)) for p, c in zip(b"abcdefgh", b"bcdefghi", strict=True)
     )
@@ -64,7 +64,7 @@ def test_alias_bomb_stops_fast(parser_kind):
 
 
 def test_one_line_flow_list_within_raised_cap(parser_kind):
-    """RELIABILITY.md A13/A14: with the byte cap raised, the node budget stops a
+    """docs/reliability.md A13/A14: with the byte cap raised, the node budget stops a
     huge flow list quickly."""
     raw = b"l: [" + b"1," * 1_000_000 + b"1]\n"
     t0 = time.perf_counter()
@@ -91,7 +91,7 @@ _DEEP_SCRIPT = textwrap.dedent(
 
 @pytest.mark.skipif(_backend._load_c_parser() is None, reason="ruamel.yaml.clib is not installed")
 def test_100k_deep_input_never_reaches_the_c_parser():
-    """RELIABILITY.md A10: in a subprocess, so a segfault would show as rc -11/139."""
+    """docs/reliability.md A10: in a subprocess, so a segfault would show as rc -11/139."""
     env = dict(os.environ, PYTHONPATH=str(REPO))
     env.pop("SPECGUARD_PURE_YAML", None)
     proc = subprocess.run(
@@ -134,7 +134,7 @@ def test_surrogate_escape_takes_the_pure_path(parser_kind):
 
 
 def test_any_library_exception_becomes_a_finding(parser_kind, monkeypatch):
-    """RELIABILITY.md 7.5: exceptions of any class from the parser are located."""
+    """docs/reliability.md §7.5: exceptions of any class from the parser are located."""
 
     def broken(text, kind, max_depth):
         events = iter([object()])

@@ -111,7 +111,7 @@ def test_anchors_and_aliases(parser_kind):
 
 
 def test_comment_lines_between_key_and_value(parser_kind):
-    """RELIABILITY.md decisions: valid YAML that crashes one loader mode must load
+    """docs/reliability.md §1 (decisions): valid YAML that crashes one loader mode must load
     with correct locations."""
     raw = b"a:\n  # why\n\n  # more\n  b: 1\nc:\n# left\n\n  - x\nd:\n  # note\n  e\n"
     r = load_bytes(raw, "c.yaml")
@@ -126,7 +126,7 @@ def _all(result):
 
 
 def test_crlf_identical_to_lf(parser_kind):
-    """RELIABILITY.md E10: same locations and findings for CRLF."""
+    """docs/reliability.md E10: same locations and findings for CRLF."""
     lf = BLOCK + "bad: .nan\n" + "dup: 1\ndup: 2\nm: {a: 1, b: [1, 2]}\n"
     r_lf = load_bytes(lf.encode(), "x.yaml")
     r_crlf = load_bytes(lf.replace("\n", "\r\n").encode(), "x.yaml")
@@ -140,7 +140,7 @@ def test_crlf_identical_to_lf(parser_kind):
 
 
 def test_bom_does_not_shift_columns(parser_kind):
-    """RELIABILITY.md E01 / ECOSYSTEM.md 2: the BOM must not count as column 1."""
+    """docs/reliability.md E01: the BOM must not count as column 1."""
     plain = load_bytes(BLOCK.encode(), "x.yaml")
     bom = load_bytes(b"\xef\xbb\xbf" + BLOCK.encode(), "x.yaml")
     assert bom.data == plain.data

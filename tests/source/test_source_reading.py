@@ -1,4 +1,4 @@
-"""read_limited and open_reference (RELIABILITY.md H01-H11, I01, 7.2)."""
+"""read_limited and open_reference (docs/reliability.md H01-H11, I01, 7.2)."""
 
 from __future__ import annotations
 
@@ -61,7 +61,7 @@ def test_reference_reads_at_most_cap_plus_one(repo):
 @pytest.mark.parametrize(
     "ref, pattern",
     [
-        ("/etc/passwd", "absolute path"),  # RELIABILITY.md H01
+        ("/etc/passwd", "absolute path"),  # docs/reliability.md H01
         ("C:\\x.yaml", "names a drive"),
         ("C:x.yaml", "names a drive"),
         ("\\\\host\\share\\x.yaml", "network"),
@@ -70,17 +70,17 @@ def test_reference_reads_at_most_cap_plus_one(repo):
         ("$HOME/x.yaml", "environment variables are not expanded"),
         ("${HOME}/x.yaml", "environment variables are not expanded"),
         ("lib/%USERPROFILE%/x.yaml", "environment variables are not expanded"),
-        ("https://example.com/m.yaml", "is a URL"),  # RELIABILITY.md H04
+        ("https://example.com/m.yaml", "is a URL"),  # docs/reliability.md H04
         ("file:///etc/passwd", "is a URL"),
         ("git://host/repo.yaml", "is a URL"),
-        ("lib/m1.yaml\x00.txt", "NUL, line break or control"),  # RELIABILITY.md H10
+        ("lib/m1.yaml\x00.txt", "NUL, line break or control"),  # docs/reliability.md H10
         ("lib/m1.yaml\nother", "NUL, line break or control"),
         ("lib\\motors\\m1.yaml", "backslash"),
-        ("../../outside.yaml", "leads outside the repository root"),  # RELIABILITY.md H02
+        ("../../outside.yaml", "leads outside the repository root"),  # docs/reliability.md H02
         ("../../../../../../etc/passwd", "leads outside the repository root"),
         ("../lib/../../../outside.yaml", "leads outside the repository root"),
         ("..", "leads outside the repository root"),
-        ("../.git/config", "into .git/"),  # RELIABILITY.md H11
+        ("../.git/config", "into .git/"),  # docs/reliability.md H11
         ("", "is empty"),
     ],
 )
@@ -121,7 +121,7 @@ def test_directory_target(repo, opened):
 
 
 def test_fifo_target_does_not_block(repo, opened):
-    """RELIABILITY.md H08: a plain open of a FIFO blocks forever."""
+    """docs/reliability.md H08: a plain open of a FIFO blocks forever."""
     fifo = repo / "lib" / "pipe.yaml"
     os.mkfifo(fifo)
     outcome = []
@@ -167,7 +167,7 @@ def test_denied_paths(repo, opened):
 
 
 def test_missing_target(repo, opened):
-    """RELIABILITY.md H05: names the resolved repo-relative path."""
+    """docs/reliability.md H05: names the resolved repo-relative path."""
     with pytest.raises(ReferenceProblem, match="'lib/motors/nope.yaml', which does not exist"):
         open_reference(repo, repo / "axes" / "x1.yaml", "../lib/motors/nope.yaml")
     assert opened == []
@@ -175,7 +175,7 @@ def test_missing_target(repo, opened):
 
 def test_swap_race_is_caught_by_nofollow(repo, tmp_path, monkeypatch):
     """If the target is swapped for a symlink after the lstat check, O_NOFOLLOW
-    refuses to open it (RELIABILITY.md 7.2, the swap race)."""
+    refuses to open it (docs/reliability.md §7.2, the swap race)."""
     target = repo / "lib" / "motors" / "m1.yaml"
     real_open = os.open
 
@@ -227,7 +227,7 @@ def test_read_limited_device():
 
 
 def test_read_limited_unreadable(tmp_path, monkeypatch):
-    """RELIABILITY.md I02: as root chmod does nothing, so inject EACCES."""
+    """docs/reliability.md I02: as root chmod does nothing, so inject EACCES."""
     p = tmp_path / "a.yaml"
     p.write_text("a: 1\n")
 

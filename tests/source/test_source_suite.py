@@ -29,7 +29,7 @@ needs_suite = pytest.mark.skipif(
 )
 
 # Invalid per the suite (folder has an `error` file) yet accepted by the parser:
-# known parser gaps (RELIABILITY.md B10). Pinned so an upgrade shows any change.
+# known parser gaps (docs/reliability.md B10). Pinned so an upgrade shows any change.
 ACCEPTED_INVALID = {
     "c": {"9C9N", "DK95/01", "QB6E", "S98Z", "SU5Z", "X4QW"},
     "pure": {"9C9N", "DK95/01", "QB6E", "SU5Z"},
