@@ -13,9 +13,24 @@ import sys
 from pathlib import Path
 
 from . import SPEC_FORMAT_VERSION, __version__
-from .interrupt import EXIT_SIGINT, RECEIVED, Interrupted, stop_if_signalled
+from .interrupt import EXIT_SIGINT, RECEIVED, Interrupted
+from .runsetup import (
+    EXIT_CLEAN,
+    EXIT_FINDINGS,
+    EXIT_INTERNAL,
+    EXIT_USAGE,
+    Progress,
+    cache_dir_denied,
+    emit,
+    fail,
+    located,
+    policy_index,
+    prepare,
+    result_cache,
+    root_of,
+)
 
-EXIT_CLEAN, EXIT_FINDINGS, EXIT_USAGE, EXIT_INTERNAL = 0, 1, 2, 3
+__all__ = ["EXIT_CLEAN", "EXIT_FINDINGS", "EXIT_INTERNAL", "EXIT_USAGE", "build_parser", "main"]
 
 
 class _Parser(argparse.ArgumentParser):
@@ -61,6 +76,9 @@ def build_parser() -> argparse.ArgumentParser:
     _speed_options(hook)
 
     demo = sub.add_parser("demo", help="check the bundled demo specs (an invented lab robot)")
+    demo.add_argument("--copy", metavar="DIR",
+                      help="copy the demo tree into DIR (a new or empty folder) to start from, "
+                      "instead of checking it")
     _common_options(demo, root=False)
     _output_options(demo)
     _speed_options(demo)
@@ -70,9 +88,12 @@ def build_parser() -> argparse.ArgumentParser:
     config = sub.add_parser("config", help="show the effective policy and where each value comes from")
     config.add_argument("file", nargs="?", metavar="FILE",
                         help="a spec file: show the values in force for it, per-path entries included")
-    config.add_argument("--config", metavar="FILE", help="policy file (default: .specguard.yaml at the root)")
-    config.add_argument("--root", metavar="DIR", help="repository root (default: nearest parent "
-                        "with .specguard.yaml or .git)")
+    config.add_argument("--config", metavar="FILE", help="policy file for every spec (default: the nearest "
+                        ".specguard.yaml in the spec's folder or above it, up to the repository root)")
+    config.add_argument("--changed", action="store_true",
+                        help="show only the values that differ from the built-in defaults")
+    config.add_argument("--root", metavar="DIR", help="repository root (default: the top of the "
+                        "git work tree, else the nearest parent with .specguard.yaml)")
 
     schema = sub.add_parser("schema", help="print the JSON Schema of the spec format")
     schema.add_argument("--path", action="store_true", help="print where the schema file is installed")
@@ -106,7 +127,7 @@ def _common_options(p: argparse.ArgumentParser, root: bool = True) -> None:
     if root:
         p.add_argument("--root", metavar="DIR",
                        help="repository root that references must stay inside "
-                       "(default: nearest parent with .specguard.yaml or .git)")
+                       "(default: the top of the git work tree, else the nearest parent with .specguard.yaml)")
 
 
 def _output_options(p: argparse.ArgumentParser) -> None:
@@ -118,7 +139,8 @@ def _output_options(p: argparse.ArgumentParser) -> None:
 
 def _policy_options(p: argparse.ArgumentParser) -> None:
     p.add_argument("--config", metavar="FILE",
-                   help="policy file (default: .specguard.yaml at the root, when present)")
+                   help="policy file for every spec (default: the nearest .specguard.yaml in the "
+                   "spec's folder or above it, up to the repository root)")
     baseline = p.add_mutually_exclusive_group()
     baseline.add_argument("--baseline", metavar="FILE",
                           help="suppress the findings recorded in this baseline file")
@@ -156,144 +178,6 @@ def _jobs(text: str) -> int:
     return value
 
 
-class _Progress:
-    """``specguard: 412/1000 files`` on stderr, rewritten in place; only on a terminal,
-    never in CI (``CI`` set) or with --quiet, and only once a run lasts over a second."""
-
-    DELAY = 1.0
-
-    def __init__(self, stream=None, enabled: bool | None = None) -> None:
-        import time
-
-        self.stream = stream or sys.stderr
-        if enabled is None:
-            enabled = bool(getattr(self.stream, "isatty", lambda: False)()) and not os.environ.get("CI")
-        self.enabled = enabled
-        self.clock = time.monotonic
-        self.start = self.clock()
-        self.width = 0
-        self.last = -1.0
-
-    def __call__(self, done: int, total: int) -> None:
-        if not self.enabled:
-            return
-        now = self.clock()
-        if now - self.start < self.DELAY or (now - self.last < 0.1 and done < total):
-            return
-        self.last = now
-        line = f"specguard: {done}/{total} files"
-        self.width = max(self.width, len(line))
-        try:
-            self.stream.write("\r" + line.ljust(self.width))
-            self.stream.flush()
-        except (OSError, ValueError):
-            self.enabled = False
-
-    def clear(self) -> None:
-        if self.width:
-            try:
-                self.stream.write("\r" + " " * self.width + "\r")
-                self.stream.flush()
-            except (OSError, ValueError):
-                pass
-            self.width = 0
-
-
-def _result_cache(args, root: Path, config):
-    """The run's result cache, or None with --no-cache (or where a command has none)."""
-    if getattr(args, "no_cache", True):
-        return None
-    from . import cache as rc
-    from .report.json_report import REPORT_FORMAT
-    from .source import parser_path
-
-    directory = args.cache_dir or rc.default_dir()
-    builtin = _builtin_rules_dir()
-    rule_dirs = ([builtin] if builtin else []) + [str(p) for p in getattr(config, "extra_rule_paths", ())]
-    versions = {"tool": __version__, "spec_format": SPEC_FORMAT_VERSION,
-                "report_format": REPORT_FORMAT, "parser": parser_path(), "cache": rc.CACHE_FORMAT,
-                "code": rc.sha256_file_tree([os.path.dirname(os.path.abspath(__file__))], (".py",))}
-    denied = [os.path.realpath(d) for d in _denied_for_cache(args)]
-    return rc.ResultCache(directory, rc.run_salt(versions, rule_dirs, denied), str(root))
-
-
-def _builtin_rules_dir() -> str | None:
-    from importlib.resources import files
-
-    try:
-        return str(files("specguard.pack"))
-    except (ModuleNotFoundError, TypeError):
-        return None
-
-
-def _denied_for_cache(args) -> list[str]:
-    return [str(p) for p in (getattr(args, "output", None), getattr(args, "write_baseline", None),
-                             getattr(args, "baseline", None)) if p]
-
-
-def _cache_dir_denied(args) -> tuple:
-    """The cache directory is never a reference target (RELIABILITY.md H11)."""
-    if getattr(args, "no_cache", True) and not getattr(args, "cache_dir", None):
-        return ()
-    from .cache import default_dir
-
-    return (Path(args.cache_dir or default_dir()),)
-
-
-def _fail(message: str, rule: str) -> int:
-    """A tool error before or after analysis: one line on stderr, exit 2."""
-    from .report.safe import escape_controls
-
-    sys.stderr.write(f"specguard: error: {escape_controls(message)} [{rule}]\n")
-    return EXIT_USAGE
-
-
-def _located(findings) -> int:
-    from .report import text
-
-    for finding in findings:
-        sys.stderr.write(text.finding_line(finding) + "\n")
-    return EXIT_USAGE
-
-
-def _today():
-    """The reference date for waiver expiry: SOURCE_DATE_EPOCH when set (reproducible
-    runs, https://reproducible-builds.org/specs/source-date-epoch/), else today."""
-    import datetime as dt
-
-    raw = os.environ.get("SOURCE_DATE_EPOCH")
-    if raw is None or raw == "":
-        return dt.date.today()
-    if not raw.isdigit():
-        raise ValueError(f"SOURCE_DATE_EPOCH must be a whole number of seconds, not {raw!r}")
-    return dt.datetime.fromtimestamp(int(raw), tz=dt.timezone.utc).date()
-
-
-def _config_path(args, root: Path) -> Path | None:
-    if getattr(args, "config", None):
-        return Path(args.config)
-    default = root / ".specguard.yaml"
-    return default if default.exists() else None
-
-
-def _load_policy(args, root: Path):
-    """(config, pack) or an exit status after printing the located problems."""
-    from .engine.config import ConfigError, load_policy
-
-    path = _config_path(args, root)
-    if path is not None and not path.is_file():
-        return _fail(f"--config {path.as_posix()}: no such file", "config-invalid")
-    pack_cache = None
-    if not getattr(args, "no_cache", True):  # commands with a cache keep the parsed pack there too
-        from .cache import default_dir
-
-        pack_cache = args.cache_dir or default_dir()
-    try:
-        return load_policy(path, root, pack_cache)
-    except ConfigError as exc:
-        return _located(exc.findings)
-
-
 def _render(report, fmt: str, colour: bool) -> str:
     if fmt == "json":
         from .report import json_report
@@ -308,96 +192,9 @@ def _render(report, fmt: str, colour: bool) -> str:
     return text.render(report, colour=colour)
 
 
-_ESCAPE_ERRORS = "specguard-uescape"
-
-
-def _u_escape(error: UnicodeError) -> tuple[str, int]:
-    """Codec error handler: each character the encoding lacks as ``\\uXXXX`` (a UTF-16
-    pair above U+FFFF), readable in text and still valid inside JSON strings, where
-    "backslashreplace" would write ``\\xfc``, which JSON does not accept (FI18)."""
-    if not isinstance(error, UnicodeEncodeError):  # registered for encoding only
-        raise error
-    out = []
-    for ch in error.object[error.start:error.end]:
-        cp = ord(ch)
-        if cp > 0xFFFF:
-            cp -= 0x10000
-            out.append(f"\\u{0xD800 + (cp >> 10):04x}\\u{0xDC00 + (cp & 0x3FF):04x}")
-        else:
-            out.append(f"\\u{cp:04x}")
-    return "".join(out), error.end
-
-
-def _emit(text: str) -> None:
-    """Write to stdout; characters the stream cannot encode are escaped, and a
-    reader that went away (``| head``) ends the output quietly."""
-    stop_if_signalled()
-    stream = sys.stdout
-    try:
-        try:
-            stream.write(text)
-        except UnicodeEncodeError:
-            import codecs
-
-            try:
-                codecs.lookup_error(_ESCAPE_ERRORS)
-            except LookupError:
-                codecs.register_error(_ESCAPE_ERRORS, _u_escape)
-            encoding = getattr(stream, "encoding", None) or "ascii"
-            stream.write(text.encode(encoding, _ESCAPE_ERRORS).decode(encoding))
-        stream.flush()
-    except BrokenPipeError:
-        # Point stdout at /dev/null so the interpreter's final flush cannot fail.
-        devnull = os.open(os.devnull, os.O_WRONLY)
-        os.dup2(devnull, stream.fileno())
-        os.close(devnull)
-
-
-def _policy_with_fail_level(args, root: Path):
-    """(config, pack, fail level) with --fail-level applied over the policy's, or an
-    exit status after printing the problem."""
-    policy = _load_policy(args, root)
-    if isinstance(policy, int):
-        return policy
-    config, pack = policy
-    fail_level = args.fail_level or config.fail_level.value
-    if args.fail_level:
-        config = config.with_fail_level(args.fail_level, "--fail-level")
-    return config, pack, fail_level
-
-
-def _prepare_run(args, root: Path, denied: tuple):
-    """(config, fail level, RunOptions) for check and report, or an exit status after
-    printing the problem: policy, --fail-level, baseline, waiver date, denied files."""
-    from .pipeline import RunOptions
-
-    policy = _policy_with_fail_level(args, root)
-    if isinstance(policy, int):
-        return policy
-    config, pack, fail_level = policy
-    baseline = None
-    if getattr(args, "baseline", None):
-        from .engine.baseline import BaselineError, load
-
-        path = Path(args.baseline)
-        try:
-            baseline = load(path, _display(path, root))
-        except BaselineError as exc:
-            return _located([exc.finding])
-        denied += (path,)
-    try:
-        today = _today()
-    except ValueError as exc:
-        return _fail(str(exc), "config-invalid")
-    options = RunOptions(config=config, pack=pack, today=today,
-                         no_waivers=getattr(args, "no_waivers", False), baseline=baseline,
-                         strict_baseline=getattr(args, "strict_baseline", False), denied=denied)
-    return config, fail_level, options
-
-
 def _run_check(args, paths: list[str], root: Path, select=None) -> int:
     from .atomic import target_problem
-    from .pipeline import check_paths
+    from .pipeline import run_targets
     from .report import text
 
     # Everything that can make the run a tool error is checked before any analysis.
@@ -406,26 +203,25 @@ def _run_check(args, paths: list[str], root: Path, select=None) -> int:
     for option, target in (("--output", output), ("--write-baseline", write_baseline)):
         problem = target_problem(target) if target is not None else None
         if target is not None and problem is not None:
-            return _fail(f"{option} {target.as_posix()}: {problem}", "output-error")
-    denied = tuple(p for p in (output, write_baseline) if p) + _cache_dir_denied(args)
-    prepared = _prepare_run(args, root, denied)
-    if isinstance(prepared, int):
-        return prepared
-    config, fail_level, options = prepared
+            return fail(f"{option} {target.as_posix()}: {problem}", "output-error")
+    denied = tuple(p for p in (output, write_baseline) if p) + cache_dir_denied(args)
     if select is not None:  # pre-commit mode: the specs to check for the changed files
-        paths = select(config)
+        paths = select()
         if not paths:
             return EXIT_CLEAN
-    result_cache = _result_cache(args, root, config)
-    progress = _Progress(enabled=False if getattr(args, "quiet", False) else None)
+    prepared = prepare(args, root, denied, paths)
+    if isinstance(prepared, int):
+        return prepared
+    targets, fail_level, options, index = prepared
+    cache = result_cache(args, root, index)
+    progress = Progress(enabled=False if getattr(args, "quiet", False) else None)
     try:
-        report = check_paths(paths, root=root, fail_level=fail_level, debug=args.debug,
-                             options=options, jobs=getattr(args, "jobs", 1),
-                             result_cache=result_cache, progress=progress)
+        report = run_targets(targets, fail_level=fail_level, debug=args.debug, options=options,
+                             jobs=getattr(args, "jobs", 1), result_cache=cache, progress=progress)
     finally:
         progress.clear()
-    if result_cache is not None:
-        for line in result_cache.warnings():
+    if cache is not None:
+        for line in cache.warnings():
             sys.stderr.write(line + "\n")
     if write_baseline is not None:
         status = _write_baseline(report, write_baseline, root)
@@ -440,10 +236,10 @@ def _run_check(args, paths: list[str], root: Path, select=None) -> int:
         try:
             write_atomic(output, rendered)
         except WriteError as exc:
-            return max(_fail(str(exc), "output-error"), report.exit_status())
-        _emit(text.summary(report) + "\n")
+            return max(fail(str(exc), "output-error"), report.exit_status())
+        emit(text.summary(report) + "\n")
     else:
-        _emit(rendered)
+        emit(rendered)
     return report.exit_status()
 
 
@@ -453,7 +249,7 @@ def _display(path: Path, root: Path) -> str:
     return relpath(path, root)
 
 
-# Seconds a second writer of the same baseline waits for the lock (RELIABILITY.md FI10);
+# Seconds a second writer of the same baseline waits for the lock (docs/reliability.md FI10);
 # the environment variable SPECGUARD_LOCK_TIMEOUT (seconds, 0 to 3600) sets another wait.
 BASELINE_LOCK_TIMEOUT = 10.0
 LOCK_TIMEOUT_VARIABLE = "SPECGUARD_LOCK_TIMEOUT"
@@ -492,81 +288,98 @@ def _write_baseline(report, path: Path, root: Path):
     try:
         timeout = _lock_timeout()
     except ValueError as exc:
-        return _fail(str(exc), "config-invalid")
+        return fail(str(exc), "config-invalid")
     try:
         written = bl.write(path, display, {r.file: r.findings for r in report.files}, root,
                            lock_timeout=timeout)
     except bl.BaselineError as exc:
-        return _located([exc.finding])
+        return located([exc.finding])
     except LockTimeout as exc:
-        return _fail(f"the baseline {display} was not written: {exc}", "output-error")
+        return fail(f"the baseline {display} was not written: {exc}", "output-error")
     except WriteError as exc:
-        return _fail(str(exc), "output-error")
+        return fail(str(exc), "output-error")
     return apply_baseline(report, written, root)
 
 
-def _root_or_usage(args, parser) -> Path:
-    """--root when given (a usage error unless it is a directory), else the root found
-    upwards from the working directory."""
-    if args.root is not None:
-        root = Path(args.root)
-        if not root.is_dir():
-            parser.error(f"--root {args.root}: not a directory")
-        return root
-    from .pipeline import find_root
+def _with_root(run):
+    """A command that needs the repository root (--root, else found upwards)."""
 
-    return find_root(Path.cwd())
+    def command(args) -> int:
+        root = root_of(args)
+        return root if isinstance(root, int) else run(args, root)
+
+    return command
+
+
+def _check(args, root: Path) -> int:
+    return _run_check(args, args.paths, root)
+
+
+def _hook(args, root: Path) -> int:
+    if not args.files:  # nothing staged that the hook's file filter passes
+        return EXIT_CLEAN
+
+    def select():
+        from .hook import select as pick
+
+        index = policy_index(args, root)
+        chosen = pick(args.files, root, index)[0]
+        # A broken policy file: the run's set-up reads it again and stops with exit 2.
+        return list(args.files) if index.errors else chosen
+
+    return _run_check(args, [], root, select=select)
+
+
+def _demo(args) -> int:
+    from .demo_data import copy_demo, demo_root
+
+    if args.copy:
+        try:
+            written = copy_demo(Path(args.copy))
+        except OSError as exc:
+            return fail(f"--copy {args.copy}: {exc.strerror or exc}", "output-error")
+        emit(f"specguard: the demo is in {written.as_posix()}; try 'specguard check {written.as_posix()}'\n")
+        return EXIT_CLEAN
+    root = demo_root()
+    return _run_check(args, [str(root)], root)
+
+
+def _compare(args) -> int:
+    from .compare import run_compare
+
+    return run_compare(args)
+
+
+def _schema(args) -> int:
+    from importlib.resources import files
+
+    resource = files("specguard.schemas") / "spec-v1.schema.json"
+    emit((str(resource) if args.path else resource.read_text(encoding="utf-8")) + "\n")
+    return EXIT_CLEAN
 
 
 def _main(argv: list[str] | None) -> int:
     parser = build_parser()
     args = parser.parse_args(argv)
     if args.version:
-        _emit(_version_text() + "\n")
+        emit(_version_text() + "\n")
         return EXIT_CLEAN
     if args.command is None:
         parser.print_help(sys.stderr)
         return EXIT_USAGE
-    if args.command == "check":
-        return _run_check(args, args.paths, _root_or_usage(args, parser))
-    if args.command == "hook":
-        if not args.files:  # nothing staged that the hook's file filter passes
-            return EXIT_CLEAN
-        root = _root_or_usage(args, parser)
-
-        def select(config):
-            from .hook import select as pick
-
-            policy = _config_path(args, root)
-            return pick(args.files, root, config.wanted, (policy,) if policy is not None else (),
-                        tuple(config.extra_rule_paths))[0]
-
-        return _run_check(args, [], root, select=select)
-    if args.command == "compare":
-        from .compare import run_compare
-
-        return run_compare(args)
-    if args.command == "demo":
-        from .demo_data import demo_root
-
-        root = demo_root()
-        return _run_check(args, [str(root)], root)
-    if args.command == "figures":
-        return _run_figures(args)
-    if args.command == "report":
-        return _run_report(args)
-    if args.command == "config":
-        return _run_config(args)
-    if args.command == "schema":
-        from importlib.resources import files
-
-        resource = files("specguard.schemas") / "spec-v1.schema.json"
-        _emit((str(resource) if args.path else resource.read_text(encoding="utf-8")) + "\n")
-        return EXIT_CLEAN
-    if args.command in ("rules", "explain"):
-        return _run_rules(args)
-    parser.error(f"unknown command {args.command}")
-    return EXIT_USAGE
+    commands = {
+        "check": _with_root(_check),
+        "hook": _with_root(_hook),
+        "compare": _compare,
+        "demo": _demo,
+        "figures": _with_root(_run_figures),
+        "report": _with_root(_run_report),
+        "config": _with_root(_run_config),
+        "schema": _schema,
+        "rules": _run_rules,
+        "explain": _run_rules,
+    }
+    return commands[args.command](args)
 
 
 def _run_rules(args) -> int:
@@ -584,14 +397,14 @@ def _run_rules(args) -> int:
         width = max(len(r.id) for r in pack.rules)
         lines = [f"{r.id:<{width}}  {r.rule.default_severity:<7}  {r.rule.title}"
                  for r in sorted(pack.rules, key=lambda r: r.id)]
-        _emit("\n".join(lines) + "\n")
+        emit("\n".join(lines) + "\n")
         return EXIT_CLEAN
     prule = pack.get(args.rule)
     if prule is not None:
-        _emit(explain_text(prule))
+        emit(explain_text(prule))
         return EXIT_CLEAN
     if args.rule in BUILTIN_IDS:
-        _emit(f"{args.rule}: built-in finding, not a rule of the pack\n  {BUILTIN_IDS[args.rule]}\n")
+        emit(f"{args.rule}: built-in finding, not a rule of the pack\n  {BUILTIN_IDS[args.rule]}\n")
         return EXIT_CLEAN
     hint = pack.suggest(args.rule)
     sys.stderr.write(f"specguard: unknown rule '{args.rule}'"
@@ -599,20 +412,36 @@ def _run_rules(args) -> int:
     return EXIT_USAGE
 
 
-def _run_config(args) -> int:
-    from .pipeline import find_root, relpath
+def _run_config(args, root: Path) -> int:
+    import posixpath
+
+    from .pipeline import relpath
     from .report.safe import escape_controls
 
-    root = Path(args.root) if args.root else find_root(Path.cwd())
-    if not root.is_dir():
-        return _fail(f"--root {args.root}: not a directory", "input-unreadable")
-    policy = _load_policy(args, root)
-    if isinstance(policy, int):
-        return policy
-    config, _pack = policy
-    rel = relpath(Path(args.file), root) if args.file else None
-    _emit("\n".join(escape_controls(line) for line in config.explain_text(rel).split("\n")))
+    index = policy_index(args, root)
+    rel = relpath(Path(args.file), root) if args.file else posixpath.join(relpath(Path.cwd(), root), "-")
+    if args.file and not Path(args.file).exists():
+        return fail(f"{args.file}: no such file", "input-unreadable")
+    options = index.options_for(root, rel)
+    status = index.report_errors()
+    if status is not None or options is None:
+        return EXIT_USAGE if status is None else status
+    config = options.config
+    assert config is not None  # the index always puts a policy in its options
+    used = index.config_path(root, rel)
+    where = relpath(used, root) if used is not None else None
+    head = (f"policy file in force: {where}" if where is not None
+            else "policy file in force: none (no .specguard.yaml in this folder or above it, "
+            "up to the repository root): built-in defaults")
+    body = config.explain_text(rel if args.file else None)
+    if args.changed:
+        body = config.changed_text(rel if args.file else None)
+    _emit_lines(head + "\n" + body, escape_controls)
     return EXIT_CLEAN
+
+
+def _emit_lines(text: str, escape) -> None:
+    emit("\n".join(escape(line) for line in text.split("\n")))
 
 
 # ---------------------------------------------------------------- report
@@ -631,31 +460,29 @@ def _figures_parser(sub) -> None:
     figures.add_argument("--config", metavar="FILE", help="policy file (as for check)")
 
 
-def _run_figures(args) -> int:
+def _run_figures(args, root: Path) -> int:
     """Exit 0 when every file gave its figures; 2 for unreadable inputs; 3 on a bug."""
     from .atomic import WriteError, target_problem, write_atomic
-    from .pipeline import RunOptions, check_paths, find_root
+    from .pipeline import run_targets
     from .report import figures_table
 
-    root = Path(args.root) if args.root else find_root(Path.cwd())
     output = Path(args.output) if args.output else None
     if output is not None and (problem := target_problem(output)) is not None:
-        return _fail(f"--output {output.as_posix()}: {problem}", "output-error")
+        return fail(f"--output {output.as_posix()}: {problem}", "output-error")
     args.no_waivers = False
-    policy = _load_policy(args, root)
-    if isinstance(policy, int):
-        return policy
-    config, pack = policy
-    options = RunOptions(config=config, pack=pack, today=_today())
-    report = check_paths(args.paths, root=root, debug=args.debug, options=options)
+    prepared = prepare(args, root, (), args.paths)
+    if isinstance(prepared, int):
+        return prepared
+    targets, _level, options, _index = prepared
+    report = run_targets(targets, debug=args.debug, options=options)
     rendered = (figures_table.render_json if args.format == "json" else figures_table.render_text)(report)
     if output is not None:
         try:
             write_atomic(output, rendered)
         except WriteError as exc:
-            return _fail(str(exc), "output-error")
+            return fail(str(exc), "output-error")
     else:
-        _emit(rendered)
+        emit(rendered)
     status = report.exit_status()
     return status if status >= 2 else EXIT_CLEAN
 
@@ -706,34 +533,28 @@ def _generated_text() -> str | None:
     return dt.datetime.fromtimestamp(int(raw), tz=dt.timezone.utc).strftime("%Y-%m-%d %H:%M UTC")
 
 
-def _run_report(args) -> int:
+def _run_report(args, root: Path) -> int:
     """`specguard report PATH... --html FILE --markdown FILE`: the check of `check`, other outputs."""
     from .atomic import WriteError, target_problem, write_atomic
-    from .pipeline import check_paths, find_root
+    from .pipeline import run_targets
     from .report import text
 
     targets = [(opt, Path(value)) for opt, value in (("--html", args.html), ("--markdown", args.markdown)) if value]
     if not targets:
-        return _fail("report needs --html FILE, --markdown FILE or both", "output-error")
+        return fail("report needs --html FILE, --markdown FILE or both", "output-error")
     if args.write_baseline:
-        return _fail("report does not write baselines; use 'check --write-baseline'", "output-error")
+        return fail("report does not write baselines; use 'check --write-baseline'", "output-error")
     for option, target in targets:
         problem = target_problem(target)
         if problem is not None:
-            return _fail(f"{option} {target.as_posix()}: {problem}", "output-error")
-    if args.root is not None:
-        root = Path(args.root)
-        if not root.is_dir():
-            return _fail(f"--root {args.root}: not a directory", "input-unreadable")
-    else:
-        root = find_root(Path.cwd())
-    prepared = _prepare_run(args, root, tuple(t for _, t in targets))
+            return fail(f"{option} {target.as_posix()}: {problem}", "output-error")
+    prepared = prepare(args, root, tuple(t for _, t in targets), args.paths)
     if isinstance(prepared, int):
         return prepared
-    config, fail_level, options = prepared
-    progress = _Progress(enabled=False if args.quiet else None)
+    planned, fail_level, options, _index = prepared
+    progress = Progress(enabled=False if args.quiet else None)
     try:  # never from the result cache: the HTML plots need each spec's model
-        report = check_paths(args.paths, root=root, fail_level=fail_level, debug=args.debug,
+        report = run_targets(planned, fail_level=fail_level, debug=args.debug,
                              options=options, jobs=args.jobs, progress=progress)
     finally:
         progress.clear()
@@ -742,7 +563,11 @@ def _run_report(args) -> int:
         if option == "--html":
             from .report import html
 
-            rendered = html.render(report, generated=_generated_text())
+            missing = html.plots_unavailable()
+            if missing is not None:
+                sys.stderr.write(f"specguard: the HTML report has no plots: {missing}\n")
+            rendered = html.render(report, generated=_generated_text(), plots=missing is None,
+                                   plots_note=missing)
         else:
             from .report import markdown
 
@@ -750,8 +575,8 @@ def _run_report(args) -> int:
         try:
             write_atomic(target, rendered)
         except WriteError as exc:
-            return max(_fail(str(exc), "output-error"), status)
-    _emit(text.summary(report) + "\n")
+            return max(fail(str(exc), "output-error"), status)
+    emit(text.summary(report) + "\n")
     return status
 
 

@@ -23,8 +23,10 @@ import os
 import subprocess
 import sys
 import tempfile
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from pathlib import Path
+
+from .pipeline import Policies
 
 COMPARE_FORMAT = 1
 
@@ -416,9 +418,27 @@ def _files_for(rels: list[str], base: Path, wanted) -> list[str]:
     return out
 
 
+class _WorkingTreePolicies(Policies):
+    """The working tree's policies for the files of the revision's tree: each file
+    is judged by the policy in force for the same path in the working tree."""
+
+    def __init__(self, index, root: Path) -> None:
+        super().__init__(None)
+        self.index = index
+        self.root = root
+
+    def options_for(self, _root: Path, rel: str):
+        return self.index.options_for(self.root, rel)
+
+    def wanted(self, rel: str) -> bool:
+        options = self.options_for(self.root, rel)
+        config = options.config if options is not None else None
+        return config.wanted(rel) if config is not None else rel.endswith((".axis.yaml", ".axis.yml"))
+
+
 def run_compare(args) -> int:
-    from . import cli
-    from .pipeline import RunOptions, check_paths, find_root, relpath
+    from . import runsetup as rs
+    from .pipeline import RunOptions, plan, relpath, run_targets
 
     output = Path(args.output) if args.output else None
     if output is not None:
@@ -426,60 +446,59 @@ def run_compare(args) -> int:
 
         problem = target_problem(output)
         if problem is not None:
-            return cli._fail(f"--output {output.as_posix()}: {problem}", "output-error")
-    root = Path(args.root) if args.root else find_root(Path.cwd())
-    if not root.is_dir():
-        return cli._fail(f"--root {args.root}: not a directory", "input-unreadable")
+            return rs.fail(f"--output {output.as_posix()}: {problem}", "output-error")
+    root = rs.root_of(args)
+    if isinstance(root, int):
+        return root
     try:
         top = git_toplevel(root)
         commit = resolve_rev(args.rev, top)
     except CompareError as exc:
-        return cli._fail(str(exc), "input-unreadable")
-    policy = cli._policy_with_fail_level(args, root)
-    if isinstance(policy, int):
-        return policy
-    config, pack, fail_level = policy
+        return rs.fail(str(exc), "input-unreadable")
     try:
-        today = cli._today()
+        today = rs.today()
     except ValueError as exc:
-        return cli._fail(str(exc), "config-invalid")
+        return rs.fail(str(exc), "config-invalid")
     rels = []
     for raw in args.paths or [str(root)]:
         rel = relpath(Path(raw), root)
         if Path(rel).is_absolute() or rel == ".." or rel.startswith("../"):
-            return cli._fail(f"{raw}: outside the repository root {root.as_posix()}", "input-unreadable")
+            return rs.fail(f"{raw}: outside the repository root {root.as_posix()}", "input-unreadable")
         rels.append(rel)
     prefix = relpath(root, top)
     prefix = "" if prefix == "." else prefix
-    denied = cli._cache_dir_denied(args) + ((output,) if output else ())
-    options = RunOptions(config=config, pack=pack, today=today, no_waivers=args.no_waivers,
-                         denied=denied)
+    denied = rs.cache_dir_denied(args) + ((output,) if output else ())
+    index = rs.policy_index(args, root, RunOptions(today=today, no_waivers=args.no_waivers, denied=denied))
+    fail_level = rs.run_fail_level(args, index, root)
+    policies = _WorkingTreePolicies(index, root)
     with tempfile.TemporaryDirectory(prefix="specguard-compare-") as tmp:
         old_root = Path(tmp) / "tree"
         old_root.mkdir()
         try:
             export_tree(commit, top, prefix, old_root)
         except CompareError as exc:
-            return cli._fail(str(exc), "input-unreadable")
-        new_files = _files_for(rels, root, config.wanted)
-        old_files = _files_for(rels, old_root, config.wanted)
+            return rs.fail(str(exc), "input-unreadable")
+        new_files = _files_for(rels, root, policies.wanted)
+        old_files = _files_for(rels, old_root, policies.wanted)
+        new_targets = plan(new_files, root, policies)
+        old_targets = [replace(t, options=t.options and replace(t.options, denied=()))
+                       for t in plan(old_files, old_root, policies)]
+        status = index.report_errors()
+        if status is not None:
+            return status
         for rel in rels:
             base_new, base_old = root / rel, old_root / rel
             if not (base_new.exists() or base_old.exists()):
-                return cli._fail(f"{rel}: no such file or directory in the working tree or at "
-                                 f"{args.rev}", "input-unreadable")
+                return rs.fail(f"{rel}: no such file or directory in the working tree or at "
+                               f"{args.rev}", "input-unreadable")
         jobs = args.jobs
-        progress = cli._Progress(enabled=False if args.quiet else None)
+        progress = rs.Progress(enabled=False if args.quiet else None)
         try:
-            new_report = check_paths(new_files, root=root, fail_level=fail_level, debug=args.debug,
-                                     options=options, jobs=jobs,
-                                     result_cache=cli._result_cache(args, root, config),
+            new_report = run_targets(new_targets, fail_level=fail_level, debug=args.debug, jobs=jobs,
+                                     result_cache=rs.result_cache(args, root, index),
                                      progress=progress) if new_files else _empty(fail_level)
-            old_options = RunOptions(config=config, pack=pack, today=today,
-                                     no_waivers=args.no_waivers)
-            old_report = check_paths(old_files, root=old_root, fail_level=fail_level,
-                                     debug=args.debug, options=old_options, jobs=jobs,
-                                     result_cache=cli._result_cache(args, old_root, config),
+            old_report = run_targets(old_targets, fail_level=fail_level, debug=args.debug, jobs=jobs,
+                                     result_cache=rs.result_cache(args, old_root, index),
                                      ) if old_files else _empty(fail_level)
         finally:
             progress.clear()
@@ -492,12 +511,12 @@ def run_compare(args) -> int:
         try:
             write_atomic(output, text)
         except WriteError as exc:
-            return max(cli._fail(str(exc), "output-error"), comparison.exit_status)
+            return max(rs.fail(str(exc), "output-error"), comparison.exit_status)
         s = summary_counts(comparison)
         sys.stdout.write(f"specguard: {s['new']} new, {s['resolved']} resolved findings; "
                          f"{s['figures_changed']} figures changed\n")
     else:
-        cli._emit(text)
+        rs.emit(text)
     return comparison.exit_status
 
 

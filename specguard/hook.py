@@ -3,7 +3,7 @@
 A changed spec is checked. A changed library file is not checked on its own: every
 spec of the repository whose reference closure holds it (directly or through a
 chain of ``from:`` references) is checked instead, so editing a shared motor
-file cannot pass the hook while it breaks an axis that uses it (RELIABILITY.md
+file cannot pass the hook while it breaks an axis that uses it (docs/reliability.md
 FI20, §7.2). A changed policy file (the ``.specguard.yaml`` in force, or the ``--config`` file) or
 a changed file inside one of its ``extra_rule_dirs`` can change the outcome of every
 spec, so it makes the hook check every spec the policy picks up. Any other file is
@@ -91,36 +91,54 @@ def _is_policy(real: str, policy_files: tuple[str, ...], rule_dirs: tuple[str, .
     return any(real.startswith(d.rstrip(os.sep) + os.sep) for d in rule_dirs)
 
 
-def select(files: list[str], root: Path, wanted, policy_files: tuple[Path, ...] = (),
-           rule_dirs: tuple[Path, ...] = ()) -> tuple[list[str], int]:
+def select(files: list[str], root: Path, policies) -> tuple[list[str], int]:
     """The spec files to check for the changed ``files``: (paths, number of changed
-    library files). ``wanted(rel)`` is the policy's include/exclude test;
-    ``policy_files`` and ``rule_dirs`` are the policy file in force and its team rule
-    directories: a change to one of them selects every spec."""
-    from .pipeline import discover, relpath
+    library files). ``policies`` (:class:`specguard.runsetup.PolicyIndex`) gives the
+    policy in force for each file: its include/exclude test, its policy file and its
+    team rule directories. A change to a policy file (``.specguard.yaml`` or the
+    ``--config`` file) or to a file in its rule directories selects every spec of the
+    folder that policy governs (the whole repository for the root's or --config's)."""
+    from .pipeline import CONFIG_NAME, discover, relpath
 
-    real_policy = tuple(os.path.realpath(p) for p in policy_files)
-    real_dirs = tuple(os.path.realpath(d) for d in rule_dirs)
     chosen: dict[str, str] = {}
     others: list[str] = []
-    policy_changed = False
+    folders: list[Path] = []
     for name in files:
         rel = relpath(Path(name), root)
         real = os.path.realpath(name)
-        if _is_policy(real, real_policy, real_dirs):
-            policy_changed = True
-        elif wanted(rel):
+        options = policies.options_for(root, rel)
+        config = options.config if options is not None else None
+        policy_file = policies.config_path(root, rel)
+        governs = root if policy_file is None or policies.override is not None else policy_file.parent
+        policy_files = tuple(os.path.realpath(p) for p in (policy_file,) if p is not None)
+        rule_dirs = tuple(os.path.realpath(d) for d in getattr(config, "extra_rule_paths", ()))
+        if os.path.basename(name) == CONFIG_NAME and policies.override is None:
+            folders.append(Path(name).parent)  # a policy file added or changed: its folder
+        elif _is_policy(real, policy_files, rule_dirs):
+            folders.append(governs)
+        elif config is not None and config.wanted(rel):
+            chosen.setdefault(real, name)
+        elif config is None and rel.endswith((".axis.yaml", ".axis.yml")):
             chosen.setdefault(real, name)
         elif os.path.isfile(name):
             others.append(real)
-    if policy_changed:  # every spec the policy picks up, as `specguard check ROOT` finds them
-        return [str(root)], 0
+    for folder in folders:  # every spec the policy picks up, as `specguard check FOLDER` finds them
+        chosen.setdefault(os.path.realpath(folder) + os.sep, str(folder))
     libraries = 0
     if others:
-        specs = [p for p, error in discover([str(root)], root, wanted) if error is None]
+        specs = [p for p, error in discover([str(root)], root, _wanted(policies, root)) if error is None]
         users = referencing_specs(others, specs, root)
         for spec in users:
             chosen.setdefault(os.path.realpath(spec), str(spec))
         if users:
             libraries = len(others)
     return sorted(chosen.values()), libraries
+
+
+def _wanted(policies, root: Path):
+    def wanted(rel: str) -> bool:
+        options = policies.options_for(root, rel)
+        config = options.config if options is not None else None
+        return config.wanted(rel) if config is not None else rel.endswith((".axis.yaml", ".axis.yml"))
+
+    return wanted

@@ -2,7 +2,8 @@
 
 The parent reads every spec's bytes (and answers what it can from the result
 cache); only the files left to analyse go to the workers, in chunks, as
-(index, path, rel, bytes, size, key). Each worker parses its own library files
+(index, path, rel, bytes, size, key, context), where the context indexes a table
+of (root, options) pairs that the workers inherit. Each worker parses its own library files
 (``LibraryCache`` per process: no shared mutable state) and stores its own cache
 entries (atomic replace, so concurrent writers are safe). The parent puts the
 results back by index, so the report is the same as a serial run's.
@@ -42,7 +43,7 @@ def _unblock_signals(previous) -> None:
         signal.pthread_sigmask(signal.SIG_SETMASK, previous)
 
 
-def _init(root, options, debug, cache_settings) -> None:
+def _init(contexts, debug, cache_settings) -> None:
     import signal
 
     if hasattr(signal, "pthread_sigmask"):  # forked while the parent blocked them
@@ -51,7 +52,7 @@ def _init(root, options, debug, cache_settings) -> None:
     from .source.library import LibraryCache
 
     _STATE.clear()
-    _STATE.update(root=root, options=options, debug=debug, libs=LibraryCache(Limits()))
+    _STATE.update(contexts=contexts, debug=debug, libs=LibraryCache(Limits()))
     if cache_settings is not None:
         from .cache import ResultCache
 
@@ -65,16 +66,18 @@ def _run_chunk(chunk):
 
     s = _STATE
     out = []
-    for index, path, rel, raw, size, key in chunk:
-        out.append((index, analyse_one(path, rel, raw, size, s["root"], s["libs"], s["options"],
+    for index, path, rel, raw, size, key, context in chunk:
+        root, options = s["contexts"][context]
+        out.append((index, analyse_one(path, rel, raw, size, root, s["libs"], options,
                                        s["debug"], s["cache"], key)))
     cache = s["cache"]
     problem = cache.write_problem if cache is not None else None
     return out, problem
 
 
-def run_work(work, root, options, debug, jobs, result_cache):
-    """Yield (index, FileResult) for every item of ``work`` (in completion order)."""
+def run_work(work, contexts, debug, jobs, result_cache):
+    """Yield (index, FileResult) for every item of ``work`` (in completion order);
+    ``contexts`` holds the (root, options) pairs the items index."""
     if not work:
         return
     if jobs is None:
@@ -88,7 +91,8 @@ def run_work(work, root, options, debug, jobs, result_cache):
         from .source.library import LibraryCache
 
         libs = LibraryCache(Limits())
-        for index, path, rel, raw, size, key in work:
+        for index, path, rel, raw, size, key, context in work:
+            root, options = contexts[context]
             yield index, analyse_one(path, rel, raw, size, root, libs, options, debug,
                                      result_cache, key)
         return
@@ -105,7 +109,7 @@ def run_work(work, root, options, debug, jobs, result_cache):
     settings = result_cache.settings() if result_cache is not None else None
     pending = {}
     with ProcessPoolExecutor(max_workers=jobs, mp_context=context, initializer=_init,
-                             initargs=(root, options, debug, settings)) as pool:
+                             initargs=(contexts, debug, settings)) as pool:
         # Workers are forked while the chunks are submitted. A SIGINT/SIGTERM handler
         # that raised inside the interpreter's fork hooks would be swallowed
         # ("Exception ignored in ..."), so the signals wait until the submissions are

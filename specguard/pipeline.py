@@ -9,47 +9,28 @@ from __future__ import annotations
 
 import datetime as _dt
 import os
-from dataclasses import dataclass, field, replace
+from dataclasses import dataclass, replace
 from pathlib import Path
 from typing import TYPE_CHECKING
 
-from .findings import SEVERITY_ORDER, Finding, Location
+from .findings import Finding, Location
+from .results import FileResult, Report, RuleDoc
 
 if TYPE_CHECKING:  # for the annotations only: these modules load on use
-    from .engine.baseline import Baseline, BaselineOutcome
+    from .engine.baseline import Baseline
     from .engine.config import EffectiveConfig
     from .engine.pack import Pack
+    from .figures import FigureSet
 
 # File pattern for specs found by searching a directory (documented in README).
 SPEC_SUFFIXES = (".axis.yaml", ".axis.yml")
 
 
+__all__ = ["FileResult", "Report", "RuleDoc", "RunOptions", "Target", "check_paths", "plan", "run_targets"]
+
+
 class InputPathError(Exception):
     """An input path given on the command line cannot be used (exit 2)."""
-
-
-@dataclass(frozen=True)
-class FileResult:
-    file: str
-    findings: tuple[Finding, ...]
-    spec: object | None = None  # specguard.model.Spec when it was built
-    closure: tuple[tuple[str, str], ...] = ()
-    input_error: str | None = None  # set when the file could not be read (exit 2)
-    links: tuple[tuple[str, str], ...] = ()  # references reached through a symbolic link
-    figures: object | None = None  # specguard.figures.FigureSet when computed
-
-
-@dataclass(frozen=True)
-class RuleDoc:
-    """What the outputs say about a rule of the pack (SARIF rule descriptors)."""
-
-    id: str
-    title: str
-    description: str  # what it checks
-    help: str  # why it matters and the relation behind it
-    default_severity: str
-    sources: tuple[str, ...] = ()
-    aliases: tuple[str, ...] = ()
 
 
 @dataclass(frozen=True)
@@ -62,56 +43,72 @@ class RunOptions:
     no_waivers: bool = False  # --no-waivers: ignore every waiver
     baseline: Baseline | None = None
     strict_baseline: bool = False
-    # files specs may not reference: the baseline and the reports (RELIABILITY.md H11)
+    # files specs may not reference: the baseline and the reports (docs/reliability.md H11)
     denied: tuple = ()
-
-
-@dataclass(frozen=True)
-class Report:
-    files: tuple[FileResult, ...]
-    fail_level: str = "error"
-    parser: str = ""
-    extra: dict = field(default_factory=dict)
-    baseline: BaselineOutcome | None = None
-    rules: tuple[RuleDoc, ...] = ()
-
-    @property
-    def findings(self) -> tuple[Finding, ...]:
-        out = [f for r in self.files for f in r.findings]
-        return tuple(sorted(out, key=Finding.sort_key))
-
-    def counts(self) -> dict[str, int]:
-        counts = {"error": 0, "warning": 0, "info": 0}
-        for f in self.findings:
-            if not f.suppressed:
-                counts[f.severity] += 1
-        return counts
-
-    @property
-    def input_errors(self) -> tuple[FileResult, ...]:
-        return tuple(r for r in self.files if r.input_error is not None)
-
-    def exit_status(self) -> int:
-        if any(f.rule == "internal-error" for f in self.findings):
-            return 3
-        if self.input_errors:
-            return 2
-        threshold = SEVERITY_ORDER[self.fail_level]
-        for f in self.findings:
-            if not f.suppressed and SEVERITY_ORDER[f.severity] >= threshold:
-                return 1
-        if self.baseline is not None and self.baseline.strict and self.baseline.stale_count:
-            return 1
-        return 0
+    # the fail level of this policy, when it judges its files by its own level
+    # (None: the run's level, as with --fail-level)
+    fail_level: str | None = None
 
 
 def find_root(start: Path) -> Path:
-    """The repository root: the nearest ancestor holding ``.specguard.yaml`` or ``.git``."""
-    here = start.resolve()
-    for candidate in (here, *here.parents):
-        if (candidate / ".specguard.yaml").exists() or (candidate / ".git").exists():
+    """The repository root for ``start`` (a folder): the top of the git work tree
+    holding it (the nearest ancestor with ``.git``); outside git, the nearest
+    ancestor holding ``.specguard.yaml``; else ``start`` itself.
+
+    A policy file marks where a policy applies, not where the repository ends: a
+    sub-project's ``.specguard.yaml`` must not narrow the root its specs' library
+    references may reach, or a run from the sub-project would refuse references a
+    run from the top accepts."""
+    here = Path(os.path.realpath(start))
+    chain = (here, *here.parents)
+    for candidate in chain:
+        if (candidate / ".git").exists():
+            return candidate
+    for candidate in chain:
+        if (candidate / CONFIG_NAME).exists():
             return candidate
     return here
+
+
+CONFIG_NAME = ".specguard.yaml"
+
+# Folders a directory search never enters outside a git work tree (inside one, the
+# repository's own ignore rules decide): virtual environments, build output and
+# installed packages, where copies of specs (the bundled demo among them) live.
+SKIPPED_DIRS = frozenset({"build", "dist", "node_modules", "site-packages", "__pycache__", "venv"})
+
+
+def _skipped_dir(dirpath: str, name: str) -> bool:
+    if name.startswith(".") or name in SKIPPED_DIRS or name.endswith(".egg-info"):
+        return True
+    return os.path.exists(os.path.join(dirpath, name, "pyvenv.cfg"))  # a virtual environment
+
+
+@dataclass(frozen=True)
+class Target:
+    """One input of a run: the file, why it cannot be checked (or None), its path
+    as shown, the root its references stay inside, the policy in force for it and
+    the prefix shown before its paths (a file outside the run's root)."""
+
+    path: Path
+    error: str | None
+    rel: str
+    inside: bool
+    root: Path
+    options: RunOptions | None = None
+    shown_as: str = ""
+
+
+class Policies:
+    """The policy of each file of a run. This one gives every file the same
+    :class:`RunOptions`; the command line's lookup of the nearest policy file
+    (``specguard.runsetup.PolicyIndex``) has the same method."""
+
+    def __init__(self, options: RunOptions | None) -> None:
+        self.options = options
+
+    def options_for(self, root: Path, rel: str) -> RunOptions | None:
+        return self.options
 
 
 def discover(paths: list[str], root: Path, wanted=None) -> list[tuple[Path, str | None]]:
@@ -120,48 +117,119 @@ def discover(paths: list[str], root: Path, wanted=None) -> list[tuple[Path, str 
     ``wanted(rel_path)`` (the policy's include/exclude) picks the files of a
     directory search; files named explicitly are always checked.
     """
-    return [(path, error) for path, error, _rel, _inside in _discover(paths, root, wanted)]
+    policies = _WantedOnly(wanted)
+    return [(t.path, t.error) for t in _discover(paths, root, policies)]
 
 
-def _discover(paths: list[str], root: Path, wanted=None) -> list[tuple[Path, str | None, str, bool]]:
-    """:func:`discover` with each file's repo-relative path and whether it lies inside
-    the root (every path resolved once)."""
+class _WantedOnly(Policies):
+    def __init__(self, wanted) -> None:
+        super().__init__(None)
+        self.wanted = wanted
+
+
+def _wanted_test(policies: Policies, root: Path, rel: str):
+    own = getattr(policies, "wanted", None)
+    if own is not None:
+        return own
+    options = policies.options_for(root, rel)
+    config = options.config if options is not None else None
+    return config.wanted if config is not None else None
+
+
+def _discover(paths: list[str], root: Path, policies: Policies | None = None) -> list[Target]:
+    """:func:`discover` with each file's shown path, root and policy (every path
+    resolved once). A directory inside a git work tree skips what git ignores."""
+    policies = policies or Policies(None)
     real_root = _real(root)
+    out: dict[str, Target] = {}
 
-    def rel_of(path: Path, real: Path) -> tuple[str, bool]:
-        try:
-            return real.relative_to(real_root).as_posix(), True
-        except ValueError:
-            return path.as_posix(), False
+    def target(path: Path, real: Path, error: str | None = None, named: bool = False) -> Target:
+        if _under(Path(os.path.abspath(path)) if named else real, real_root):
+            try:
+                rel, inside = real.relative_to(real_root).as_posix(), True
+            except ValueError:  # named inside the root, but a link leads out of it
+                rel, inside = path.as_posix(), False
+            return Target(path, error, rel, inside, root, policies.options_for(root, rel))
+        # Named on the command line outside the run's root: checked within a root
+        # of its own, shown with a path the user can open.
+        own = find_root(real.parent)
+        rel = real.relative_to(own).as_posix()
+        shown = str(own) if path.is_absolute() else os.path.relpath(own)
+        return Target(path, error, rel, True, own, policies.options_for(own, rel), Path(shown).as_posix())
 
-    out: dict[str, tuple[Path, str | None, str, bool]] = {}
     for raw in paths:
         p = Path(raw)
         if p.is_dir():
             matched = 0
+            walk_root = root if _under(_real(p), real_root) or _under(Path(os.path.abspath(p)), real_root) \
+                else find_root(_real(p))
+            ignored = _git_ignored(p)
             for dirpath, dirnames, filenames in os.walk(p):
-                dirnames[:] = sorted(d for d in dirnames if not d.startswith("."))
+                dirnames[:] = sorted(
+                    d for d in dirnames
+                    if not (d.startswith(".") or (ignored is None and _skipped_dir(dirpath, d))
+                            or (ignored is not None and _real(Path(dirpath) / d) in ignored))
+                )
                 for name in sorted(filenames):
-                    if wanted is None and not name.endswith(SPEC_SUFFIXES):
-                        continue
                     found = Path(dirpath) / name
                     real = _real(found)
-                    rel, inside = rel_of(found, real)
-                    if wanted is not None and not wanted(rel):
+                    if ignored is not None and real in ignored:
+                        continue
+                    item = target(found, real) if walk_root == root else target(found, real, named=True)
+                    wanted = _wanted_test(policies, item.root, item.rel)
+                    if wanted is None and not name.endswith(SPEC_SUFFIXES):
+                        continue
+                    if wanted is not None and not wanted(item.rel):
                         continue
                     matched += 1
-                    out.setdefault(str(real), (found, None, rel, inside))
+                    out.setdefault(str(real), item)
             if matched == 0:  # named explicitly but holding no spec: never a silent pass
-                out.setdefault(str(p.absolute()),
-                               (p, "no spec files matching the search patterns in this directory",
-                                relpath(p, root), False))
+                out.setdefault(str(p.absolute()), Target(
+                    p, "no spec files matching the search patterns in this directory",
+                    relpath(p, root), False, root))
         elif p.exists() or p.is_symlink():
             real = _real(p)
-            out.setdefault(str(real), (p, None, *rel_of(p, real)))
+            out.setdefault(str(real), target(p, real, named=True))
         else:
             out.setdefault(str(p.absolute()),
-                           (p, "no such file or directory", relpath(p, root), False))
-    return sorted(out.values(), key=lambda item: item[2])
+                           Target(p, "no such file or directory", relpath(p, root), False, root))
+    return sorted(out.values(), key=lambda t: (t.shown_as, t.rel))
+
+
+def _under(path: Path, real_root: Path) -> bool:
+    try:
+        path.relative_to(real_root)
+    except ValueError:
+        return False
+    return True
+
+
+def _git_ignored(folder: Path) -> frozenset[Path] | None:
+    """The real paths git ignores below ``folder`` (files, and folders as a whole), or
+    None when ``folder`` is not inside a git work tree or git cannot be run.
+
+    Asking git itself (``git ls-files --others --ignored --exclude-standard
+    --directory``, one process per searched folder) applies every ignore source
+    exactly as git does (nested .gitignore files, .git/info/exclude, the user's
+    global excludes, negations), which a re-implementation of the matching rules
+    would only approximate. A file named on the command line is never asked about."""
+    import subprocess
+
+    real = _real(folder)
+    if not any((c / ".git").exists() for c in (real, *real.parents)):
+        return None
+    try:
+        done = subprocess.run(
+            ["git", "ls-files", "-z", "--others", "--ignored", "--exclude-standard", "--directory"],
+            cwd=real, capture_output=True, timeout=60, check=False,
+            env={**os.environ, "GIT_OPTIONAL_LOCKS": "0"},
+        )
+    except (OSError, subprocess.SubprocessError):
+        return None
+    if done.returncode != 0:
+        return None
+    names = done.stdout.decode("utf-8", "surrogateescape").split("\0")
+    return frozenset(_real(real / name.rstrip("/")) for name in names if name)
 
 
 def _real(path: Path) -> Path:
@@ -197,7 +265,7 @@ def _inside(path: Path, root: Path) -> bool:
 
 def read_spec(path: Path, root: Path, rel: str, inside: bool):
     """The spec's bytes and real size (read once: hash and parse use the same bytes,
-    RELIABILITY.md FI24), or a FileResult with the input error."""
+    docs/reliability.md FI24), or a FileResult with the input error."""
     from .source import InputError, Limits, read_limited
 
     if not inside:
@@ -307,7 +375,7 @@ def from_payload(rel: str, closure, payload: dict, options: RunOptions | None) -
                       closure=tuple((a, b) for a, b in closure), figures=figures)
 
 
-def _rule_findings(spec, locate, rel: str, options: RunOptions | None) -> tuple[list[Finding], object]:
+def _rule_findings(spec, locate, rel: str, options: RunOptions | None) -> tuple[list[Finding], FigureSet | None]:
     """Figures, then the rule pack: (findings, FigureSet or None). A failure of either
     is an internal-error finding (exit 3)."""
     from .engine.evaluate import evaluate, load_pack
@@ -348,10 +416,9 @@ def _overrides(rel: str, options: RunOptions | None) -> dict:
             _OVERRIDES_MEMO.clear()
         held = (config, {})
         _OVERRIDES_MEMO[id(config)] = held
-    paths = getattr(config, "paths", None)
-    if paths is None:
+    if getattr(config, "paths", None) is None:
         return config.for_file(rel)
-    signature = tuple(i for i, entry in enumerate(paths) if entry.regex.match(rel))
+    signature = config.matching_entries(rel)
     memo = held[1]
     if signature not in memo:
         memo[signature] = config.for_file(rel)
@@ -377,67 +444,118 @@ def check_paths(
     jobs: int | None = 1,
     result_cache=None,
     progress=None,
+    policies: Policies | None = None,
 ) -> Report:
     """Check files and directories; never raises for bad input (InputPathError aside).
 
     ``options`` carries the policy (config, rule pack), the waiver date and mode
     and the baseline; without it no policy, waivers or baseline apply.
+    ``policies`` (instead of ``options``) gives each file its own policy, as the
+    command line does with the nearest ``.specguard.yaml``.
     ``jobs``: worker processes for the files not found in ``result_cache``
     (a :class:`specguard.cache.ResultCache`); None picks the number of CPUs when
     more than :data:`PARALLEL_MIN_FILES` files need analysis. ``progress(done,
     total)`` is called as files complete. The report is the same whatever the
     jobs, the cache or the argument order.
     """
+    root = root or find_root(Path.cwd())
+    policies = policies or Policies(options)
+    return run_targets(_discover(paths, root, policies), fail_level=fail_level, debug=debug,
+                       options=options, jobs=jobs, result_cache=result_cache, progress=progress)
+
+
+def plan(paths: list[str], root: Path, policies: Policies) -> list[Target]:
+    """The inputs of a run, each with its root and policy (see :func:`run_targets`)."""
+    return _discover(paths, root, policies)
+
+
+def run_targets(
+    found: list[Target],
+    fail_level: str = "error",
+    debug: bool = False,
+    options: RunOptions | None = None,
+    jobs: int | None = 1,
+    result_cache=None,
+    progress=None,
+) -> Report:
+    """Check planned inputs (:func:`plan`). ``options`` gives the run's rule pack and
+    baseline for the report; each file is judged by its own target's options."""
     from .source import parser_path
 
-    root = root or find_root(Path.cwd())
-    wanted = options.config.wanted if options is not None and options.config is not None else None
-    found = _discover(paths, root, wanted)
     results: list[FileResult | None] = [None] * len(found)
-    work: list[tuple[int, Path, str, bytes, int, str | None]] = []
-    for index, (path, error, rel, inside) in enumerate(found):
-        if error is not None:
-            results[index] = FileResult(rel, (), input_error=error)
+    contexts: list[tuple[Path, RunOptions | None]] = []
+    context_index: dict[tuple[str, int], int] = {}
+    work: list[tuple[int, Path, str, bytes, int, str | None, int]] = []
+    for index, t in enumerate(found):
+        if t.error is not None:
+            results[index] = _shown(FileResult(t.rel, (), input_error=t.error), t)
             continue
-        read = read_spec(path, root, rel, inside)
+        read = read_spec(t.path, t.root, t.rel, t.inside)
         if isinstance(read, FileResult):
-            results[index] = read
+            results[index] = _shown(read, t)
             continue
         raw, size = read
         key = None
-        if result_cache is not None:
+        cache = result_cache if not t.shown_as else None  # the cache keeps paths under the run's root
+        if cache is not None:
             import hashlib
 
             sha = hashlib.sha256(raw).hexdigest()
-            key = result_cache.key(rel, sha, policy_text(rel, options))
-            payload = result_cache.lookup(key, rel, sha)
+            key = cache.key(t.rel, sha, policy_text(t.rel, t.options))
+            payload = cache.lookup(key, t.rel, sha)
             if payload is not None:
                 try:
-                    results[index] = from_payload(rel, payload["closure"], payload, options)
+                    results[index] = _shown(from_payload(t.rel, payload["closure"], payload, t.options), t)
                     continue
                 except (KeyboardInterrupt, SystemExit):
                     raise
                 except Exception:
-                    result_cache.damaged += 1
-        work.append((index, path, rel, raw, size, key))
+                    cache.damaged += 1
+        ckey = (str(t.root), id(t.options))
+        if ckey not in context_index:
+            context_index[ckey] = len(contexts)
+            contexts.append((t.root, t.options))
+        work.append((index, t.path, t.rel, raw, size, key if cache is not None else None, context_index[ckey]))
     total = len(found)
     done = total - len(work)
     if progress is not None:
         progress(done, total)
     from .parallel import run_work
 
-    for index, result in run_work(work, root, options, debug, jobs, result_cache):
-        results[index] = result
+    for index, result in run_work(work, contexts, debug, jobs, result_cache):
+        results[index] = _shown(result, found[index])
         done += 1
         if progress is not None:
             progress(done, total)
-    rules = rule_docs(options.pack) if options is not None and options.pack is not None else ()
     checked = tuple(r for r in results if r is not None)
     assert len(checked) == len(results)  # every file has its result by now
+    if options is None:
+        options = next((t.options for t in found if t.options is not None), None)
+    rules = rule_docs(options.pack) if options is not None and options.pack is not None else ()
     report = Report(checked, fail_level=fail_level, parser=parser_path(), rules=rules)
     if options is not None and options.baseline is not None:
+        root = found[0].root if found else Path.cwd()
         report = apply_baseline(report, options.baseline, root, options.strict_baseline)
     return report
+
+
+def _shown(result: FileResult, target: Target) -> FileResult:
+    """The result with the file's own fail level, and its paths prefixed when the file
+    lies outside the run's root (shown with a path the user can open)."""
+    options = target.options
+    level = options.fail_level if options is not None else None
+    if level is not None and result.fail_level != level:
+        result = replace(result, fail_level=level)
+    if not target.shown_as:
+        return result
+    prefix = target.shown_as.rstrip("/") + "/"
+
+    def move(loc: Location) -> Location:
+        return replace(loc, file=prefix + loc.file)
+
+    findings = tuple(replace(f, location=move(f.location), related=tuple(move(r) for r in f.related))
+                     for f in result.findings)
+    return replace(result, file=prefix + result.file, findings=findings)
 
 
 # Below this many files to analyse, a run stays in one process (start-up of the

@@ -9,7 +9,7 @@ pointer), the same operating point, and the same **values digest**: a hash of th
 figures behind the finding, each rounded to three significant digits. Line and
 column are not part of it, so an edit that only moves a finding keeps it
 baselined; a changed spec path or rule breaks the match, and so does a change
-that moves the finding's numbers (RELIABILITY.md G17: "a changed value
+that moves the finding's numbers (docs/reliability.md G17: "a changed value
 un-baselines it"). Message wording is not part of it either, so rewording a
 message in a new release does not un-baseline a repository.
 
@@ -325,7 +325,8 @@ def _entry_order(e: Entry) -> tuple:
 
 
 _UNSAFE_JSON = re.compile(
-    "[\x7f-\x9f\u200e\u200f\u202a-\u202e\u2066-\u2069\u2028\u2029\ud800-\udfff]"
+    "[\x7f-\x9f\u00ad\u061c\u180e\u200b-\u200f\u202a-\u202e\u2060-\u2064\u2066-\u2069"
+    "\u2028\u2029\ufeff\ud800-\udfff]"
 )
 
 

@@ -1,4 +1,5 @@
-"""The policy file: one ``.specguard.yaml`` at the repository root.
+"""The policy file ``.specguard.yaml``: each spec is judged by the nearest one in its
+folder or above it, up to the repository root (``specguard.runsetup.PolicyIndex``).
 
 It is read with the project's own guarded loader (:func:`specguard.source.load_bytes`)
 and validated by the strict pydantic model below, from which
@@ -21,12 +22,13 @@ and validated by the strict pydantic model below, from which
           <rule id>: {enabled: false}
 
 Precedence, lowest first: the rule pack's defaults, the ``rules:`` section, then
-every ``paths:`` entry whose ``match`` glob matches the file's repo-relative path,
-in file order. Unknown keys and unknown rule ids are errors with a "did you mean"
+every ``paths:`` entry whose ``match`` glob matches the file's path relative to the
+policy file's folder, in file order. Unknown keys and unknown rule ids are errors with a "did you mean"
 hint; every problem is a ``config-invalid`` finding, and the CLI exits 2 before
 any analysis.
 
-Globs match the whole repo-relative posix path: ``*`` and ``?`` stay within one
+Globs match the whole posix path relative to the policy file's folder (the
+repository root for ``--config``): ``*`` and ``?`` stay within one
 path segment, ``**`` (a whole segment) matches any number of segments, including
 none, and ``[...]`` is a character class.
 """
@@ -112,16 +114,18 @@ class RulePolicy(_Model):
 
 
 class PathPolicy(_Model):
-    """Overrides for the files whose repo-relative path matches a glob."""
+    """Overrides for the files whose path (relative to the policy file's folder) matches a glob."""
 
-    match: Glob = Field(description="glob on the repo-relative path, e.g. prototypes/**")
+    match: Glob = Field(
+        description="glob on the path relative to the policy file's folder, e.g. prototypes/**"
+    )
     rules: dict[str, RulePolicy] = Field(
         description="per rule id, the same keys as the top-level rules"
     )
 
 
 class ConfigModel(_Model):
-    """The specguard policy file (.specguard.yaml at the repository root)."""
+    """The specguard policy file (.specguard.yaml; the nearest one above a spec is in force)."""
 
     format: Literal[1] = Field(description="policy file format version")
     rules: dict[str, RulePolicy] = Field(default_factory=dict, description="per rule id")
@@ -134,7 +138,8 @@ class ConfigModel(_Model):
     extra_rule_dirs: Annotated[tuple[RelDir, ...], AsTuple] = Field(
         (),
         max_length=20,
-        description="repo-relative directories with the team's own rule files (rule pack format)",
+        description="directories with the team's own rule files (rule pack format), relative to "
+        "the policy file's folder and inside the repository",
     )
     include: Annotated[tuple[Glob, ...], AsTuple] | None = Field(
         None,
@@ -231,11 +236,14 @@ def catalogue_from_pack(pack) -> dict[str, RuleFacts]:
     return out
 
 
-def load_policy(config_path: Path | None, root: Path, pack_cache: str | None = None):
+def load_policy(
+    config_path: Path | None, root: Path, pack_cache: str | None = None, base: Path | None = None
+):
     """The effective policy and the rule pack it selects (built-in rules plus the
-    config's ``extra_rule_dirs``). Raises :class:`ConfigError` for a bad config or
-    a bad rule file of the team; a bad built-in rule file is a bug and raises
-    ``PackError``."""
+    config's ``extra_rule_dirs``). ``base``: the folder its globs and rule
+    directories are relative to (default: ``root``; a discovered policy file's own
+    folder). Raises :class:`ConfigError` for a bad config or a bad rule file of the
+    team; a bad built-in rule file is a bug and raises ``PackError``."""
     from .evaluate import PackError, load_pack
 
     packs: list = []
@@ -252,7 +260,7 @@ def load_policy(config_path: Path | None, root: Path, pack_cache: str | None = N
 
     if config_path is None:
         return EffectiveConfig.default(catalogue_for(())), packs[-1]
-    config = load_config(config_path, root, catalogue_for)
+    config = load_config(config_path, root, catalogue_for, base)
     # Team rule files are shown by their repo-relative path, never an absolute one.
     from dataclasses import replace as _replace
 
@@ -362,6 +370,9 @@ class EffectiveConfig:
     exclude: Setting = Setting(())
     extra_rule_dirs: Setting = Setting(())
     extra_rule_paths: tuple[Path, ...] = ()  # resolved, inside the root
+    # Root-relative folder the globs and rule directories are relative to: the policy
+    # file's own folder for a discovered .specguard.yaml, "" for --config or the root's.
+    base: str = ""
 
     @classmethod
     def default(cls, catalogue: Catalogue) -> EffectiveConfig:
@@ -372,17 +383,32 @@ class EffectiveConfig:
 
         return replace(self, fail_level=Setting(level, Origin("cli", note=note)))
 
+    def local(self, rel_path: str) -> str | None:
+        """``rel_path`` (repo-relative) as the globs see it: relative to :attr:`base`;
+        None for a file outside the policy's folder."""
+        if not self.base:
+            return rel_path
+        prefix = self.base + "/"
+        return rel_path[len(prefix) :] if rel_path.startswith(prefix) else None
+
     def wanted(self, rel_path: str) -> bool:
         """Whether a directory search picks up ``rel_path`` (include, then exclude)."""
-        if not any(glob_match(p, rel_path) for p in self.include.value):
+        local = self.local(rel_path)
+        if local is None or not any(glob_match(p, local) for p in self.include.value):
             return False
-        return not any(glob_match(p, rel_path) for p in self.exclude.value)
+        return not any(glob_match(p, local) for p in self.exclude.value)
+
+    def matching_entries(self, rel_path: str) -> tuple[int, ...]:
+        """Indexes of the ``paths:`` entries whose glob matches ``rel_path``."""
+        local = self.local(rel_path)
+        if local is None:
+            return ()
+        return tuple(i for i, entry in enumerate(self.paths) if entry.regex.match(local))
 
     def _layers(self, rel_path: str):
         yield self.rules
-        for entry in self.paths:
-            if entry.regex.match(rel_path):
-                yield entry.rules
+        for index in self.matching_entries(rel_path):
+            yield self.paths[index].rules
 
     def _settings(self, rule: str, rel_path: str | None) -> dict[str, Setting]:
         facts = self.catalogue[rule]
@@ -417,15 +443,16 @@ class EffectiveConfig:
             )
         return out
 
-    def explain_for_file(self, rel_path: str | None) -> list[Explained]:
+    def explain_for_file(self, rel_path: str | None, changed: bool = False) -> list[Explained]:
         """Every effective value with where it came from (``rel_path`` None: the
-        repository-wide values, without per-path entries)."""
+        repository-wide values, without per-path entries); ``changed``: only the
+        values the policy file or the command line set."""
         out = [
             Explained(
                 "run",
                 "policy file",
                 self.file or "(none)",
-                "in use" if self.file else "no .specguard.yaml at the root: built-in defaults only",
+                "in use" if self.file else "no .specguard.yaml in force: built-in defaults only",
             ),
             Explained(
                 "run", "fail_level", str(self.fail_level.value), self.fail_level.origin.describe()
@@ -449,21 +476,31 @@ class EffectiveConfig:
                 self.extra_rule_dirs.origin.describe(),
             ),
         ]
+        if changed:
+            moved = {"fail_level": self.fail_level, "include": self.include,
+                     "exclude": self.exclude, "extra_rule_dirs": self.extra_rule_dirs}
+            out = [out[0]] + [e for e in out[1:] if moved[e.key].origin.kind not in _DEFAULT_KINDS]
         for rule in sorted(self.catalogue):
             for key, setting in self._settings(rule, rel_path).items():
+                if changed and setting.origin.kind in _DEFAULT_KINDS:
+                    continue
                 out.append(
                     Explained(rule, key, _show(setting.value, key), setting.origin.describe())
                 )
         return out
 
-    def explain_text(self, rel_path: str | None) -> str:
+    def changed_text(self, rel_path: str | None) -> str:
+        """:meth:`explain_text` with only the values that differ from the defaults."""
+        return self.explain_text(rel_path, changed=True)
+
+    def explain_text(self, rel_path: str | None, changed: bool = False) -> str:
         lines: list[str] = []
         if rel_path is None:
             lines.append("effective policy for the whole repository (per-path entries not applied)")
         else:
             lines.append(f"effective policy for {rel_path}")
         scope = None
-        for item in self.explain_for_file(rel_path):
+        for item in self.explain_for_file(rel_path, changed):
             if item.scope != scope:
                 scope = item.scope
                 lines.append("" if scope == "run" else f"rule {scope}:")
@@ -480,6 +517,7 @@ class EffectiveConfig:
 
 
 _BAND_ORDER = {"info": 0, "warning": 1, "error": 2}
+_DEFAULT_KINDS = ("default", "pack")  # origins of values nobody set
 
 
 def _band_rank(band: str) -> int:
@@ -606,12 +644,15 @@ def _pydantic_findings(exc: ValidationError, locate: _Locator) -> list[Finding]:
     return list(out.values())
 
 
-def _resolve_dir(root: Path, text: str) -> str | None:
-    """Why a repo-relative rule directory is not acceptable, or None."""
+def _resolve_dir(root: Path, text: str, base: Path | None = None) -> str | None:
+    """Why a rule directory (relative to ``base``, the policy's folder, default
+    ``root``) is not acceptable, or None. It must stay inside ``root``."""
     posix = PurePosixPath(text)
     if posix.is_absolute() or ":" in text.split("/")[0]:
-        return "must be a path relative to the repository root"
-    parts: list[str] = []
+        return "must be a path relative to the policy file's folder"
+    base = root if base is None else base
+    start = list(PurePosixPath(os.path.relpath(os.path.realpath(base), os.path.realpath(root))).parts)
+    parts: list[str] = [p for p in start if p != "."]
     for part in posix.parts:
         if part == "..":
             if not parts:
@@ -635,6 +676,7 @@ def load_config(
     path: Path,
     root: Path,
     catalogue_for: Callable[[tuple[Path, ...]], Catalogue],
+    base: Path | None = None,
 ) -> EffectiveConfig:
     """Read, validate and resolve the policy file at ``path``.
 
@@ -680,7 +722,7 @@ def load_config(
                 )
             ]
         )
-    return validate(result.data, result.locations, display, root, catalogue_for)
+    return validate(result.data, result.locations, display, root, catalogue_for, base)
 
 
 def _display(path: Path, root: Path) -> str:
@@ -696,8 +738,12 @@ def validate(
     display: str,
     root: Path,
     catalogue_for: Callable[[tuple[Path, ...]], Catalogue],
+    base: Path | None = None,
 ) -> EffectiveConfig:
     """Validate loaded config data (see :func:`load_config`)."""
+    base_dir = root if base is None else base
+    base_rel = _display(base_dir, root)
+    base_rel = "" if base_rel in (".", "") else base_rel
     locate = _Locator(display, locations)
     if not isinstance(data, dict):
         raise ConfigError([_bad(locate, (), "the policy file must hold a mapping")])
@@ -717,11 +763,11 @@ def validate(
     # -- rule directories, confined to the root
     resolved: list[Path] = []
     for i, text in enumerate(model.extra_rule_dirs):
-        why = _resolve_dir(root, text)
+        why = _resolve_dir(root, text, base_dir)
         if why is not None:
             problems.append(_bad(locate, ("extra_rule_dirs", i), f"'{text}' {why}"))
         else:
-            resolved.append(root / text)
+            resolved.append(base_dir / text)
     for key in ("include", "exclude"):
         for i, pattern in enumerate(getattr(model, key) or ()):
             if any(seg == ".." for seg in pattern.split("/")):
@@ -834,6 +880,7 @@ def validate(
         exclude=top("exclude", model.exclude, ()),
         extra_rule_dirs=top("extra_rule_dirs", model.extra_rule_dirs, ()),
         extra_rule_paths=tuple(resolved),
+        base=base_rel,
     )
 
 

@@ -9,6 +9,11 @@ the text table shows them in readable units.
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:  # the report model sits below the reporters
+    from ..results import Report
+
 import math
 
 from .. import __version__
@@ -37,7 +42,7 @@ def shown(name: str, value) -> str:
     return format_si(value, fdef.dimension)
 
 
-def render_text(report) -> str:
+def render_text(report: Report) -> str:
     lines: list[str] = []
     for result in report.files:
         fs = result.figures
@@ -93,7 +98,7 @@ def definitions() -> list[dict]:
     ]
 
 
-def render_json(report) -> str:
+def render_json(report: Report) -> str:
     document = {
         "figures_format": FIGURES_FORMAT,
         "tool": {"name": "specguard", "version": __version__},

@@ -16,6 +16,11 @@ the Agg backend and ``Figure`` (no pyplot), fixed rcParams and a fixed
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:  # the report model sits below the reporters
+    from ..results import Report
+
 import html as _html
 import io
 import math
@@ -618,23 +623,40 @@ def _axis_section(plotter, result, index: int, fail_level: str, ripple_fraction:
     return "".join(parts)
 
 
-def render(report, *, generated: str | None = None, ripple_fraction: float = 0.2,
-           title: str = "specguard review report", plots: bool = True) -> str:
+def plots_unavailable() -> str | None:
+    """Why the plots cannot be drawn here (the plotting library is missing or broken,
+    with the one command that installs it), or None when they can."""
+    import importlib.util
+
+    try:
+        found = importlib.util.find_spec("matplotlib") is not None
+    except (ImportError, ValueError):
+        found = False
+    if not found:
+        return "matplotlib is not installed; 'python -m pip install matplotlib' adds them"
+    return None
+
+
+def render(report: Report, *, generated: str | None = None, ripple_fraction: float = 0.2,
+           title: str = "specguard review report", plots: bool = True,
+           plots_note: str | None = None) -> str:
     """The whole report as one HTML document (a pure function of the report).
 
     ``generated``: a date text to print (the CLI passes SOURCE_DATE_EPOCH when
     set); None prints no time at all. ``ripple_fraction``: the ripple limit as a
     fraction of rated current, when the rule's threshold is not known.
-    ``plots=False`` leaves the plots out (and matplotlib unimported).
+    ``plots=False`` leaves the plots out (and matplotlib unimported); ``plots_note``
+    says why in the report.
     """
     plotter = _Plotter() if plots else None
+    title_note = f'<p class="muted">Plots are not drawn in this report: {text(plots_note)}.</p>' if plots_note else ""
     counts = report.counts()
     status = report.exit_status()
     overall = {0: "passes", 1: f"fails (findings at or above {report.fail_level})",
                2: "incomplete: some inputs could not be read", 3: "specguard failed internally"}.get(status, "")
     toc = "".join(
         f'<li><a href="#{anchor_id(i)}">{text(getattr(getattr(r.spec, "axis", None), "name", None) or r.file)}</a>'
-        f" \u2013 {text(verdict(r, report.fail_level)[1])}</li>"
+        f" \u2013 {text(verdict(r, report.fail_level_of(r))[1])}</li>"
         for i, r in enumerate(report.files)
     )
     head = (
@@ -653,9 +675,12 @@ def render(report, *, generated: str | None = None, ripple_fraction: float = 0.2
     ]
     if generated:
         intro.append(f'<p class="muted">Generated {text(generated)}.</p>')
+    if title_note:
+        intro.append(title_note)
     if toc:
         intro.append(f'<ul class="toc">{toc}</ul>')
-    sections = [_axis_section(plotter, r, i, report.fail_level, ripple_fraction) for i, r in enumerate(report.files)]
+    sections = [_axis_section(plotter, r, i, report.fail_level_of(r), ripple_fraction)
+                for i, r in enumerate(report.files)]
     foot = ('<p class="muted">Written by specguard. Values in SI internally; shown in readable units.</p>'
             '</body></html>\n')
     return head + "".join(intro) + "".join(sections) + foot

@@ -9,6 +9,11 @@ only repo-relative paths.
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:  # the report model sits below the reporters
+    from ..results import Report
+
 import json
 import math
 import re
@@ -22,7 +27,8 @@ REPORT_FORMAT = 1
 # and out of UTF-8 encoders (docs/reliability.md G16). They can only occur inside
 # strings, so a substitution over the whole text is safe.
 _RAW_UNSAFE = re.compile(
-    "[\x7f-\x9f\u200e\u200f\u202a-\u202e\u2066-\u2069\u2028\u2029\ud800-\udfff]"
+    "[\x7f-\x9f\u00ad\u061c\u180e\u200b-\u200f\u202a-\u202e\u2060-\u2064\u2066-\u2069"
+    "\u2028\u2029\ufeff\ud800-\udfff]"
 )
 
 
@@ -102,7 +108,7 @@ def figures(fs) -> dict | None:
     }
 
 
-def document(report) -> dict:
+def document(report: Report) -> dict:
     from .. import __version__
 
     files = []
@@ -161,5 +167,5 @@ def document(report) -> dict:
     }
 
 
-def render(report) -> str:
+def render(report: Report) -> str:
     return dumps(document(report))

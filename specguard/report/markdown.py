@@ -11,6 +11,11 @@ and e-mail autolinks; every line starts with text of our own (``|``, ``-``,
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:  # the report model sits below the reporters
+    from ..results import Report
+
 import math
 import re
 
@@ -95,7 +100,7 @@ def _figure_values(fs, name: str) -> list[float]:
     return out
 
 
-def render(report) -> str:
+def render(report: Report) -> str:
     counts = report.counts()
     status = report.exit_status()
     word = {0: "PASS", 1: "FAIL", 2: "INCOMPLETE", 3: "INTERNAL ERROR"}.get(status, "FAIL")
@@ -112,7 +117,7 @@ def render(report) -> str:
     for r in report.files:
         c = _counts(r)
         lines.append(
-            f"| {escape(r.file)} | {_verdict(r, report.fail_level)} | {c['error']} | {c['warning']} | "
+            f"| {escape(r.file)} | {_verdict(r, report.fail_level_of(r))} | {c['error']} | {c['warning']} | "
             f"{c['info']} | {c['waived']} |"
         )
     unread = [r for r in report.files if r.input_error is not None]
@@ -144,6 +149,7 @@ def render(report) -> str:
         ]
         for r in axes:
             fs = r.figures
+            assert fs is not None  # picked above for having figures
             name = getattr(getattr(r.spec, "axis", None), "name", None) or r.file
             ripple = fs.axis.get("ripple_ratio_worst")
             duties = _figure_values(fs, "duty")

@@ -19,6 +19,11 @@ one of kind ``external``.
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:  # the report model sits below the reporters
+    from ..results import Report
+
 import hashlib
 import json
 from urllib.parse import quote
@@ -99,7 +104,7 @@ def _descriptors(report) -> list[dict]:
     return [out[k] for k in sorted(out)]
 
 
-def document(report) -> dict:
+def document(report: Report) -> dict:
     from .. import __version__
 
     rules = _descriptors(report)
@@ -235,5 +240,5 @@ def document(report) -> dict:
     return {"$schema": SARIF_SCHEMA, "version": "2.1.0", "runs": [run]}
 
 
-def render(report) -> str:
+def render(report: Report) -> str:
     return dumps(document(report))

@@ -2,6 +2,11 @@
 
 from __future__ import annotations
 
+from typing import TYPE_CHECKING
+
+if TYPE_CHECKING:  # the report model sits below the reporters
+    from ..results import Report
+
 import os
 from typing import TextIO
 
@@ -42,7 +47,7 @@ def finding_line(finding, colour: bool = False) -> str:
     return f"{shown_path(loc.file)}:{loc.line}:{loc.column}: {severity}: {message} [{finding.rule}]{waived}"
 
 
-def render(report, colour: bool = False) -> str:
+def render(report: Report, colour: bool = False) -> str:
     lines: list[str] = []
     for result in report.files:
         if result.input_error is not None:
@@ -60,7 +65,7 @@ def render(report, colour: bool = False) -> str:
     return "\n".join(lines) + "\n"
 
 
-def summary(report) -> str:
+def summary(report: Report) -> str:
     counts = report.counts()
     files = len(report.files)
     parts = [

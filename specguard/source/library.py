@@ -83,19 +83,20 @@ def _with_path(loc: Location, path: Path_) -> Location:
 
 
 class LibraryCache:
-    """Parses each file once per run (keyed by real path and content hash)."""
+    """Parses each file once per run (keyed by real path, shown path and content
+    hash: files under different roots of one run are shown by different paths)."""
 
     def __init__(self, limits: Limits) -> None:
         self.limits = limits
-        self._parsed: dict[str, tuple[str, LoadResult]] = {}
+        self._parsed: dict[tuple[str, str], tuple[str, LoadResult]] = {}
 
     def parse(self, real: str, raw: bytes, size: int, rel: str) -> tuple[str, LoadResult]:
         digest = hashlib.sha256(raw).hexdigest()
-        hit = self._parsed.get(real)
+        hit = self._parsed.get((real, rel))
         if hit is not None and hit[0] == digest:
             return hit
         result = (digest, load_bytes(raw, rel, self.limits, size=size))
-        self._parsed[real] = result
+        self._parsed[(real, rel)] = result
         return result
 
 
