@@ -900,9 +900,12 @@ def _threshold_problem(value: str | float, dimension: str | None) -> str | None:
         except Exception:
             example = "unit"
         return f"{value:g} needs its unit, e.g. '{value:g} {example}'"
-    from ..model.units import UnitError, parse_quantity
+    from ..model.units import UnitError, parse_quantity, underflow_message
 
     try:
+        too_small = underflow_message(value, dimension)
+        if too_small is not None:  # parse_quantity would read it as a silent zero
+            return too_small
         parse_quantity(value, dimension)
     except UnitError as exc:
         return exc.message

@@ -271,6 +271,11 @@ def threshold_si(value: object, figure: FigureDef, comparator: str) -> float | b
             f"figure '{figure.name}' is a {figure.dimension.replace('_', ' ')}: write the threshold "
             f"with its unit as text, e.g. '{_example(figure.dimension)}'"
         )
+    from ..model.units import underflow_message
+
+    too_small = underflow_message(value, figure.dimension)
+    if too_small is not None:  # parse_quantity would read it as a silent zero
+        raise ValueError(too_small)
     try:
         return parse_quantity(value, figure.dimension)
     except UnitError as exc:
