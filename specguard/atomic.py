@@ -186,9 +186,7 @@ def locked(lock_path: Path | str, timeout: float = 10.0) -> Iterator[None]:
                     raise WriteError(f"cannot lock {lock.as_posix()}: {_reason(exc)}") from exc
                 if time.monotonic() >= deadline:
                     holder = _holder(fd)
-                    raise LockTimeout(
-                        f"{lock.as_posix()} is locked by {holder}; gave up after {timeout:g} s"
-                    ) from None
+                    raise LockTimeout(f"{lock.as_posix()} is locked by {holder}; gave up after {timeout:g} s") from None
                 time.sleep(0.05)
         with contextlib.suppress(OSError):
             os.ftruncate(fd, 0)

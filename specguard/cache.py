@@ -150,8 +150,9 @@ class Tables:
     def loc(self, loc) -> int:
         fi = self._intern("f", loc.file, self.files, loc.file)
         key = (fi, loc.line, loc.column, loc.end_line, loc.end_column, *loc.path)
-        return self._intern("l", key, self.locs,
-                            [fi, loc.line, loc.column, loc.end_line, loc.end_column, list(loc.path)])
+        return self._intern(
+            "l", key, self.locs, [fi, loc.line, loc.column, loc.end_line, loc.end_column, list(loc.path)]
+        )
 
     def text(self, value: str) -> int:
         return self._intern("t", value, self.texts, value)
@@ -165,25 +166,41 @@ class Tables:
 
 
 def finding_to_json(f, t: Tables) -> list:
-    return [f.rule, f.severity, f.message, t.loc(f.location), [t.loc(r) for r in f.related],
-            f.operating_point, [list(x) for x in f.figures], list(f.remedies), t.text(f.help),
-            f.waived, [list(m) for m in f.meta], f.baselined]
+    return [
+        f.rule,
+        f.severity,
+        f.message,
+        t.loc(f.location),
+        [t.loc(r) for r in f.related],
+        f.operating_point,
+        [list(x) for x in f.figures],
+        list(f.remedies),
+        t.text(f.help),
+        f.waived,
+        [list(m) for m in f.meta],
+        f.baselined,
+    ]
 
 
 def finding_from_json(d: list, t: Tables):
     from .findings import Finding
 
-    (rule, severity, message, loc, related, point, figures, remedies, help_, waived, meta,
-     baselined) = d
+    (rule, severity, message, loc, related, point, figures, remedies, help_, waived, meta, baselined) = d
     if not isinstance(rule, str) or not isinstance(message, str):
         raise ValueError("bad finding")
     return Finding(
-        rule, severity, message, t.unloc(loc),
+        rule,
+        severity,
+        message,
+        t.unloc(loc),
         related=tuple(t.unloc(r) for r in related),
         operating_point=point,
         figures=tuple((n, v, u) for n, v, u in figures),
-        remedies=tuple(remedies), help=t.texts[help_], waived=waived,
-        meta=tuple((a, b) for a, b in meta), baselined=baselined,
+        remedies=tuple(remedies),
+        help=t.texts[help_],
+        waived=waived,
+        meta=tuple((a, b) for a, b in meta),
+        baselined=baselined,
     )
 
 
@@ -288,8 +305,12 @@ class ResultCache:
             return None
         try:
             entry = json.loads(raw)
-            if (not isinstance(entry, dict) or entry.get("cache_format") != CACHE_FORMAT
-                    or entry.get("key") != key or entry.get("file") != rel):
+            if (
+                not isinstance(entry, dict)
+                or entry.get("cache_format") != CACHE_FORMAT
+                or entry.get("key") != key
+                or entry.get("file") != rel
+            ):
                 raise ValueError("not an entry of this version")
             closure = entry["closure"]
             if not closure or closure[0] != [rel, spec_sha]:
@@ -322,9 +343,14 @@ class ResultCache:
     def store(self, key: str, rel: str, closure, payload: dict, links=()) -> None:
         if self.write_problem is not None:
             return
-        entry = {"cache_format": CACHE_FORMAT, "key": key, "file": rel,
-                 "closure": [list(c) for c in closure], "links": [list(x) for x in links],
-                 "result": payload}
+        entry = {
+            "cache_format": CACHE_FORMAT,
+            "key": key,
+            "file": rel,
+            "closure": [list(c) for c in closure],
+            "links": [list(x) for x in links],
+            "result": payload,
+        }
         try:
             text = json.dumps(entry, ensure_ascii=True, separators=(",", ":"))
         except (TypeError, ValueError) as exc:  # not representable: just don't cache
@@ -347,9 +373,12 @@ class ResultCache:
         out = []
         if self.damaged:
             n = self.damaged
-            out.append(f"specguard: warning: ignored {n} damaged cache entr{'ies' if n != 1 else 'y'}"
-                       f" in {self.top} (they are analysed again and rewritten)")
+            out.append(
+                f"specguard: warning: ignored {n} damaged cache entr{'ies' if n != 1 else 'y'}"
+                f" in {self.top} (they are analysed again and rewritten)"
+            )
         if self.write_problem is not None:
-            out.append(f"specguard: warning: the result cache is not written for the rest of this "
-                       f"run: {self.write_problem}")
+            out.append(
+                f"specguard: warning: the result cache is not written for the rest of this run: {self.write_problem}"
+            )
         return out

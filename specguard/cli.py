@@ -67,8 +67,10 @@ def build_parser() -> argparse.ArgumentParser:
     _speed_options(check)
 
     hook = sub.add_parser(
-        "hook", help="pre-commit mode: check the given spec files, and for a given library "
-        "file every spec that uses it; other files are ignored")
+        "hook",
+        help="pre-commit mode: check the given spec files, and for a given library "
+        "file every spec that uses it; other files are ignored",
+    )
     hook.add_argument("files", nargs="*", metavar="FILE", help="changed files (as a commit hook gets them)")
     _common_options(hook)
     _output_options(hook)
@@ -76,9 +78,11 @@ def build_parser() -> argparse.ArgumentParser:
     _speed_options(hook)
 
     demo = sub.add_parser("demo", help="check the bundled demo specs (an invented lab robot)")
-    demo.add_argument("--copy", metavar="DIR",
-                      help="copy the demo tree into DIR (a new or empty folder) to start from, "
-                      "instead of checking it")
+    demo.add_argument(
+        "--copy",
+        metavar="DIR",
+        help="copy the demo tree into DIR (a new or empty folder) to start from, instead of checking it",
+    )
     _common_options(demo, root=False)
     _output_options(demo)
     _speed_options(demo)
@@ -86,14 +90,26 @@ def build_parser() -> argparse.ArgumentParser:
     _compare_parser(sub)
 
     config = sub.add_parser("config", help="show the effective policy and where each value comes from")
-    config.add_argument("file", nargs="?", metavar="FILE",
-                        help="a spec file: show the values in force for it, per-path entries included")
-    config.add_argument("--config", metavar="FILE", help="policy file for every spec (default: the nearest "
-                        ".specguard.yaml in the spec's folder or above it, up to the repository root)")
-    config.add_argument("--changed", action="store_true",
-                        help="show only the values that differ from the built-in defaults")
-    config.add_argument("--root", metavar="DIR", help="repository root (default: the top of the "
-                        "git work tree, else the nearest parent with .specguard.yaml)")
+    config.add_argument(
+        "file",
+        nargs="?",
+        metavar="FILE",
+        help="a spec file: show the values in force for it, per-path entries included",
+    )
+    config.add_argument(
+        "--config",
+        metavar="FILE",
+        help="policy file for every spec (default: the nearest "
+        ".specguard.yaml in the spec's folder or above it, up to the repository root)",
+    )
+    config.add_argument(
+        "--changed", action="store_true", help="show only the values that differ from the built-in defaults"
+    )
+    config.add_argument(
+        "--root",
+        metavar="DIR",
+        help="repository root (default: the top of the git work tree, else the nearest parent with .specguard.yaml)",
+    )
 
     schema = sub.add_parser("schema", help="print the JSON Schema of the spec format")
     schema.add_argument("--path", action="store_true", help="print where the schema file is installed")
@@ -102,13 +118,22 @@ def build_parser() -> argparse.ArgumentParser:
     _figures_parser(sub)
 
     rules = sub.add_parser("rules", help="list the rules: id, default severity, title")
-    rules.add_argument("--rules-dir", action="append", default=[], metavar="DIR",
-                       help="also list the rule files of DIR (a team's rules; may be repeated)")
-    explain = sub.add_parser("explain", help="explain one rule: what, why, formula, thresholds, "
-                             "sources, examples")
+    rules.add_argument(
+        "--rules-dir",
+        action="append",
+        default=[],
+        metavar="DIR",
+        help="also list the rule files of DIR (a team's rules; may be repeated)",
+    )
+    explain = sub.add_parser("explain", help="explain one rule: what, why, formula, thresholds, sources, examples")
     explain.add_argument("rule", metavar="RULE", help="rule id (or a former id)")
-    explain.add_argument("--rules-dir", action="append", default=[], metavar="DIR",
-                         help="also look in the rule files of DIR (may be repeated)")
+    explain.add_argument(
+        "--rules-dir",
+        action="append",
+        default=[],
+        metavar="DIR",
+        help="also look in the rule files of DIR (may be repeated)",
+    )
     return parser
 
 
@@ -120,52 +145,68 @@ def _common_options(p: argparse.ArgumentParser, root: bool = True) -> None:
         help="lowest severity that makes the exit status 1 (default: the config's fail_level, else error)",
     )
     colour = p.add_mutually_exclusive_group()
-    colour.add_argument("--color", dest="colour", action="store_true", default=None,
-                        help="colour the text output even when not on a terminal")
-    colour.add_argument("--no-color", dest="colour", action="store_false",
-                        help="never colour the text output")
+    colour.add_argument(
+        "--color",
+        dest="colour",
+        action="store_true",
+        default=None,
+        help="colour the text output even when not on a terminal",
+    )
+    colour.add_argument("--no-color", dest="colour", action="store_false", help="never colour the text output")
     if root:
-        p.add_argument("--root", metavar="DIR",
-                       help="repository root that references must stay inside "
-                       "(default: the top of the git work tree, else the nearest parent with .specguard.yaml)")
+        p.add_argument(
+            "--root",
+            metavar="DIR",
+            help="repository root that references must stay inside "
+            "(default: the top of the git work tree, else the nearest parent with .specguard.yaml)",
+        )
 
 
 def _output_options(p: argparse.ArgumentParser) -> None:
-    p.add_argument("--format", choices=("text", "json", "sarif"), default="text",
-                   help="output format (default: text)")
-    p.add_argument("--output", metavar="FILE",
-                   help="write the report to FILE (atomically) instead of standard output")
+    p.add_argument("--format", choices=("text", "json", "sarif"), default="text", help="output format (default: text)")
+    p.add_argument("--output", metavar="FILE", help="write the report to FILE (atomically) instead of standard output")
 
 
 def _policy_options(p: argparse.ArgumentParser) -> None:
-    p.add_argument("--config", metavar="FILE",
-                   help="policy file for every spec (default: the nearest .specguard.yaml in the "
-                   "spec's folder or above it, up to the repository root)")
+    p.add_argument(
+        "--config",
+        metavar="FILE",
+        help="policy file for every spec (default: the nearest .specguard.yaml in the "
+        "spec's folder or above it, up to the repository root)",
+    )
     baseline = p.add_mutually_exclusive_group()
-    baseline.add_argument("--baseline", metavar="FILE",
-                          help="suppress the findings recorded in this baseline file")
-    baseline.add_argument("--write-baseline", metavar="FILE",
-                          help="record the current rule findings in FILE (atomically) and suppress them; "
-                          "a second writer waits for the lock up to SPECGUARD_LOCK_TIMEOUT seconds "
-                          "(default 10)")
-    p.add_argument("--strict-baseline", action="store_true",
-                   help="baseline entries that match no finding make the exit status 1")
-    p.add_argument("--no-waivers", action="store_true",
-                   help="ignore every waiver in the specs (strict mode)")
+    baseline.add_argument("--baseline", metavar="FILE", help="suppress the findings recorded in this baseline file")
+    baseline.add_argument(
+        "--write-baseline",
+        metavar="FILE",
+        help="record the current rule findings in FILE (atomically) and suppress them; "
+        "a second writer waits for the lock up to SPECGUARD_LOCK_TIMEOUT seconds "
+        "(default 10)",
+    )
+    p.add_argument(
+        "--strict-baseline", action="store_true", help="baseline entries that match no finding make the exit status 1"
+    )
+    p.add_argument("--no-waivers", action="store_true", help="ignore every waiver in the specs (strict mode)")
 
 
 def _speed_options(p: argparse.ArgumentParser, cache: bool = True) -> None:
-    p.add_argument("-j", "--jobs", type=_jobs, default=None, metavar="N",
-                   help="worker processes (default: the number of CPUs when more than "
-                   "8 files need analysis, else 1)")
+    p.add_argument(
+        "-j",
+        "--jobs",
+        type=_jobs,
+        default=None,
+        metavar="N",
+        help="worker processes (default: the number of CPUs when more than 8 files need analysis, else 1)",
+    )
     if cache:
-        p.add_argument("--no-cache", action="store_true",
-                       help="neither read nor write the result cache")
-        p.add_argument("--cache-dir", metavar="DIR",
-                       help="result cache directory (default: $SPECGUARD_CACHE_DIR, else "
-                       "$XDG_CACHE_HOME/specguard, else ~/.cache/specguard)")
-    p.add_argument("-q", "--quiet", action="store_true",
-                   help="no progress line on the terminal")
+        p.add_argument("--no-cache", action="store_true", help="neither read nor write the result cache")
+        p.add_argument(
+            "--cache-dir",
+            metavar="DIR",
+            help="result cache directory (default: $SPECGUARD_CACHE_DIR, else "
+            "$XDG_CACHE_HOME/specguard, else ~/.cache/specguard)",
+        )
+    p.add_argument("-q", "--quiet", action="store_true", help="no progress line on the terminal")
 
 
 def _jobs(text: str) -> int:
@@ -216,8 +257,15 @@ def _run_check(args, paths: list[str], root: Path, select=None) -> int:
     cache = result_cache(args, root, index)
     progress = Progress(enabled=False if getattr(args, "quiet", False) else None)
     try:
-        report = run_targets(targets, fail_level=fail_level, debug=args.debug, options=options,
-                             jobs=getattr(args, "jobs", 1), result_cache=cache, progress=progress)
+        report = run_targets(
+            targets,
+            fail_level=fail_level,
+            debug=args.debug,
+            options=options,
+            jobs=getattr(args, "jobs", 1),
+            result_cache=cache,
+            progress=progress,
+        )
     finally:
         progress.clear()
     if cache is not None:
@@ -267,8 +315,7 @@ def _lock_timeout() -> float:
     except ValueError:
         value = math.nan
     if not 0.0 <= value <= 3600.0:  # also false for nan
-        raise ValueError(f"{LOCK_TIMEOUT_VARIABLE} must be a number of seconds from 0 to 3600, "
-                         f"not {raw!r}")
+        raise ValueError(f"{LOCK_TIMEOUT_VARIABLE} must be a number of seconds from 0 to 3600, not {raw!r}")
     return value
 
 
@@ -281,8 +328,7 @@ def _write_baseline(report, path: Path, root: Path):
     if report.exit_status() >= 2:
         # A baseline of a partial run would silently drop the entries of the
         # files that could not be analysed.
-        sys.stderr.write("specguard: the baseline was not written: some inputs could not be "
-                         "analysed\n")
+        sys.stderr.write("specguard: the baseline was not written: some inputs could not be analysed\n")
         return report
     display = _display(path, root)
     try:
@@ -290,8 +336,7 @@ def _write_baseline(report, path: Path, root: Path):
     except ValueError as exc:
         return fail(str(exc), "config-invalid")
     try:
-        written = bl.write(path, display, {r.file: r.findings for r in report.files}, root,
-                           lock_timeout=timeout)
+        written = bl.write(path, display, {r.file: r.findings for r in report.files}, root, lock_timeout=timeout)
     except bl.BaselineError as exc:
         return located([exc.finding])
     except LockTimeout as exc:
@@ -395,8 +440,10 @@ def _run_rules(args) -> int:
         return EXIT_USAGE
     if args.command == "rules":
         width = max(len(r.id) for r in pack.rules)
-        lines = [f"{r.id:<{width}}  {r.rule.default_severity:<7}  {r.rule.title}"
-                 for r in sorted(pack.rules, key=lambda r: r.id)]
+        lines = [
+            f"{r.id:<{width}}  {r.rule.default_severity:<7}  {r.rule.title}"
+            for r in sorted(pack.rules, key=lambda r: r.id)
+        ]
         emit("\n".join(lines) + "\n")
         return EXIT_CLEAN
     prule = pack.get(args.rule)
@@ -407,8 +454,11 @@ def _run_rules(args) -> int:
         emit(f"{args.rule}: built-in finding, not a rule of the pack\n  {BUILTIN_IDS[args.rule]}\n")
         return EXIT_CLEAN
     hint = pack.suggest(args.rule)
-    sys.stderr.write(f"specguard: unknown rule '{args.rule}'"
-                     + (f"; did you mean '{hint}'?" if hint else "; 'specguard rules' lists them") + "\n")
+    sys.stderr.write(
+        f"specguard: unknown rule '{args.rule}'"
+        + (f"; did you mean '{hint}'?" if hint else "; 'specguard rules' lists them")
+        + "\n"
+    )
     return EXIT_USAGE
 
 
@@ -430,9 +480,12 @@ def _run_config(args, root: Path) -> int:
     assert config is not None  # the index always puts a policy in its options
     used = index.config_path(root, rel)
     where = relpath(used, root) if used is not None else None
-    head = (f"policy file in force: {where}" if where is not None
-            else "policy file in force: none (no .specguard.yaml in this folder or above it, "
-            "up to the repository root): built-in defaults")
+    head = (
+        f"policy file in force: {where}"
+        if where is not None
+        else "policy file in force: none (no .specguard.yaml in this folder or above it, "
+        "up to the repository root): built-in defaults"
+    )
     body = config.explain_text(rel if args.file else None)
     if args.changed:
         body = config.changed_text(rel if args.file else None)
@@ -490,31 +543,38 @@ def _run_figures(args, root: Path) -> int:
 # --------------------------------------------------------------- compare
 def _compare_parser(sub) -> None:
     compare = sub.add_parser(
-        "compare", help="design review: compare the specs at a git revision with the working "
+        "compare",
+        help="design review: compare the specs at a git revision with the working "
         "tree (figures changed, findings new and resolved)",
         description="Compare the specs at REV (e.g. $(git merge-base origin/main HEAD)) with the "
         "working tree. Both are checked with the working tree's policy. Exit status: 1 when the "
         "working tree has new findings at or above the fail level, else 0; 2 for a bad revision, "
-        "not a git repository or an unreadable input.")
+        "not a git repository or an unreadable input.",
+    )
     compare.add_argument("rev", metavar="REV", help="the git revision to compare against")
-    compare.add_argument("paths", nargs="*", metavar="PATH",
-                         help="spec files or directories (default: the whole repository)")
-    compare.add_argument("--format", choices=("text", "json", "markdown"), default="text",
-                         help="output format (default: text)")
-    compare.add_argument("--output", metavar="FILE",
-                         help="write the comparison to FILE (atomically) instead of standard output")
-    compare.add_argument("--config", metavar="FILE",
-                         help="policy file (default: .specguard.yaml at the root, when present)")
-    compare.add_argument("--no-waivers", action="store_true",
-                         help="ignore every waiver in the specs (strict mode)")
+    compare.add_argument(
+        "paths", nargs="*", metavar="PATH", help="spec files or directories (default: the whole repository)"
+    )
+    compare.add_argument(
+        "--format", choices=("text", "json", "markdown"), default="text", help="output format (default: text)"
+    )
+    compare.add_argument(
+        "--output", metavar="FILE", help="write the comparison to FILE (atomically) instead of standard output"
+    )
+    compare.add_argument(
+        "--config", metavar="FILE", help="policy file (default: .specguard.yaml at the root, when present)"
+    )
+    compare.add_argument("--no-waivers", action="store_true", help="ignore every waiver in the specs (strict mode)")
     _common_options(compare)
     _speed_options(compare)
 
 
 def _report_parser(sub) -> None:
     report = sub.add_parser(
-        "report", help="check like 'check' and write a standalone HTML review report and/or a "
-        "Markdown summary for a pull-request comment")
+        "report",
+        help="check like 'check' and write a standalone HTML review report and/or a "
+        "Markdown summary for a pull-request comment",
+    )
     report.add_argument("paths", nargs="+", metavar="PATH", help="spec files or directories")
     report.add_argument("--html", metavar="FILE", help="write the HTML review report to FILE (atomically)")
     report.add_argument("--markdown", metavar="FILE", help="write the Markdown summary to FILE (atomically)")
@@ -554,8 +614,9 @@ def _run_report(args, root: Path) -> int:
     planned, fail_level, options, _index = prepared
     progress = Progress(enabled=False if args.quiet else None)
     try:  # never from the result cache: the HTML plots need each spec's model
-        report = run_targets(planned, fail_level=fail_level, debug=args.debug,
-                             options=options, jobs=args.jobs, progress=progress)
+        report = run_targets(
+            planned, fail_level=fail_level, debug=args.debug, options=options, jobs=args.jobs, progress=progress
+        )
     finally:
         progress.clear()
     status = report.exit_status()
@@ -566,8 +627,7 @@ def _run_report(args, root: Path) -> int:
             missing = html.plots_unavailable()
             if missing is not None:
                 sys.stderr.write(f"specguard: the HTML report has no plots: {missing}\n")
-            rendered = html.render(report, generated=_generated_text(), plots=missing is None,
-                                   plots_note=missing)
+            rendered = html.render(report, generated=_generated_text(), plots=missing is None, plots_note=missing)
         else:
             from .report import markdown
 

@@ -58,9 +58,14 @@ def resolve_rev(rev: str, top: Path) -> str:
     if done.returncode == 0:
         return done.stdout.decode().strip()
     shallow = _git(["rev-parse", "--is-shallow-repository"], top).stdout.decode().strip() == "true"
-    hint = ("; this clone is shallow: fetch the history (in CI, check out with fetch-depth: 0, "
-            "or run 'git fetch --unshallow')") if shallow else (
-            "; fetch it first (for the merge base: git fetch origin main)")
+    hint = (
+        (
+            "; this clone is shallow: fetch the history (in CI, check out with fetch-depth: 0, "
+            "or run 'git fetch --unshallow')"
+        )
+        if shallow
+        else ("; fetch it first (for the merge base: git fetch origin main)")
+    )
     raise CompareError(f"revision {rev!r} is not a commit in this repository{hint}")
 
 
@@ -71,8 +76,7 @@ def export_tree(commit: str, top: Path, prefix: str, dest: Path) -> int:
         args += ["--", prefix]
     listing = _git(args, top)
     if listing.returncode != 0:
-        raise CompareError(f"cannot list the files of {commit[:12]}: "
-                           f"{listing.stderr.decode(errors='replace').strip()}")
+        raise CompareError(f"cannot list the files of {commit[:12]}: {listing.stderr.decode(errors='replace').strip()}")
     wanted: list[tuple[str, str]] = []
     for item in listing.stdout.split(b"\0"):
         if not item:
@@ -84,7 +88,7 @@ def export_tree(commit: str, top: Path, prefix: str, dest: Path) -> int:
             continue  # symlinks and submodules are not exported
         if not path.endswith((".yaml", ".yml")):
             continue
-        rel = path if prefix in ("", ".") else path[len(prefix):].lstrip("/")
+        rel = path if prefix in ("", ".") else path[len(prefix) :].lstrip("/")
         parts = rel.split("/")
         if not rel or any(p in ("", ".", "..", ".git") for p in parts):
             continue
@@ -102,7 +106,7 @@ def export_tree(commit: str, top: Path, prefix: str, dest: Path) -> int:
         if len(header) != 3:
             raise CompareError(f"cannot read {rel} at {commit[:12]}")
         size = int(header[2])
-        body = out[end + 1:end + 1 + size]
+        body = out[end + 1 : end + 1 + size]
         pos = end + 1 + size + 1
         target = dest / rel
         target.parent.mkdir(parents=True, exist_ok=True)
@@ -183,8 +187,7 @@ def _figure_changes(old, new) -> list[FigureChange]:
         if _same(va, vb):
             continue
         fdef = FIGURE_DEFS.get(key[1])
-        out.append(FigureChange(key[0], key[1], fdef.unit if fdef else "",
-                                fdef.dimension if fdef else "", va, vb))
+        out.append(FigureChange(key[0], key[1], fdef.unit if fdef else "", fdef.dimension if fdef else "", va, vb))
     return out
 
 
@@ -225,11 +228,9 @@ def compare_reports(old_report, new_report, rev: str, commit: str, fail_level: s
         o, n = old_files.get(name), new_files.get(name)
         if o is None:
             assert n is not None  # the name comes from one side or the other
-            fc = FileComparison(name, "added", [], list(n.findings),
-                                [], [], n.input_error)
+            fc = FileComparison(name, "added", [], list(n.findings), [], [], n.input_error)
         elif n is None:
-            fc = FileComparison(name, "removed", [], [],
-                                list(o.findings), [])
+            fc = FileComparison(name, "removed", [], [], list(o.findings), [])
         else:
             added, gone, same = _match(o.findings, n.findings)
             figs = _figure_changes(o.figures, n.figures)
@@ -299,10 +300,12 @@ def render_text(c: Comparison) -> str:
         if f.input_error:
             lines.append(f"  cannot read input: {esc(f.input_error)}")
         for fc in f.figures:
-            lines.append(f"  figure {fc.name} ({_scope(fc)}): "
-                         f"{value_text(fc.old, fc.dimension, fc.unit)} -> "
-                         f"{value_text(fc.new, fc.dimension, fc.unit)}"
-                         + (f" ({percent_text(fc.percent)})" if fc.percent is not None else ""))
+            lines.append(
+                f"  figure {fc.name} ({_scope(fc)}): "
+                f"{value_text(fc.old, fc.dimension, fc.unit)} -> "
+                f"{value_text(fc.new, fc.dimension, fc.unit)}"
+                + (f" ({percent_text(fc.percent)})" if fc.percent is not None else "")
+            )
         for finding in f.new:
             lines.append("  new: " + finding_line(finding))
         for finding in f.resolved:
@@ -314,7 +317,8 @@ def render_text(c: Comparison) -> str:
         f"specguard: {s['files']} spec{'s' if s['files'] != 1 else ''} compared "
         f"({s['added']} added, {s['removed']} removed, {s['changed']} changed); "
         f"{s['figures_changed']} figure{'s' if s['figures_changed'] != 1 else ''} changed; "
-        f"findings: {s['new']} new, {s['resolved']} resolved, {s['unchanged']} unchanged")
+        f"findings: {s['new']} new, {s['resolved']} resolved, {s['unchanged']} unchanged"
+    )
     return "\n".join(lines) + "\n"
 
 
@@ -327,8 +331,11 @@ def document(c: Comparison) -> dict:
             return v if isinstance(v, bool) or v is None else _number(v)
 
         return {
-            "point": fc.point, "name": fc.name, "unit": fc.unit,
-            "old": num(fc.old), "new": num(fc.new),
+            "point": fc.point,
+            "name": fc.name,
+            "unit": fc.unit,
+            "old": num(fc.old),
+            "new": num(fc.new),
             "change_percent": fc.percent,
             "old_text": value_text(fc.old, fc.dimension, fc.unit),
             "new_text": value_text(fc.new, fc.dimension, fc.unit),
@@ -342,7 +349,9 @@ def document(c: Comparison) -> dict:
         "exit_status": c.exit_status,
         "files": [
             {
-                "file": f.file, "status": f.status, "input_error": f.input_error,
+                "file": f.file,
+                "status": f.status,
+                "input_error": f.input_error,
                 "figures": [fig(x) for x in f.figures],
                 "findings": {
                     "new": [finding(x) for x in f.new],
@@ -387,17 +396,21 @@ def render_markdown(c: Comparison) -> str:
         if f.figures:
             lines += ["", "| figure | where | before | after | change |", "|---|---|---|---|---|"]
             for fc in f.figures:
-                lines.append(f"| {_md(fc.name)} | {_md(_scope(fc))} | "
-                             f"{_md(value_text(fc.old, fc.dimension, fc.unit))} | "
-                             f"{_md(value_text(fc.new, fc.dimension, fc.unit))} | "
-                             f"{_md(percent_text(fc.percent))} |")
+                lines.append(
+                    f"| {_md(fc.name)} | {_md(_scope(fc))} | "
+                    f"{_md(value_text(fc.old, fc.dimension, fc.unit))} | "
+                    f"{_md(value_text(fc.new, fc.dimension, fc.unit))} | "
+                    f"{_md(percent_text(fc.percent))} |"
+                )
         for title, items in (("New findings", f.new), ("Resolved findings", f.resolved)):
             if items:
                 lines += ["", f"{title}:", ""]
                 for x in items:
                     loc = x.location
-                    lines.append(f"- **{x.severity}** `{_md(x.rule)}` {_md(loc.file)}:{loc.line}: "
-                                 f"{_md(x.message)}" + (" (waived)" if x.waived else ""))
+                    lines.append(
+                        f"- **{x.severity}** `{_md(x.rule)}` {_md(loc.file)}:{loc.line}: "
+                        f"{_md(x.message)}" + (" (waived)" if x.waived else "")
+                    )
         if f.unchanged:
             lines += ["", f"{len(f.unchanged)} finding(s) unchanged."]
     return "\n".join(lines) + "\n"
@@ -481,25 +494,44 @@ def run_compare(args) -> int:
         new_files = _files_for(rels, root, policies.wanted)
         old_files = _files_for(rels, old_root, policies.wanted)
         new_targets = plan(new_files, root, policies)
-        old_targets = [replace(t, options=t.options and replace(t.options, denied=()))
-                       for t in plan(old_files, old_root, policies)]
+        old_targets = [
+            replace(t, options=t.options and replace(t.options, denied=())) for t in plan(old_files, old_root, policies)
+        ]
         status = index.report_errors()
         if status is not None:
             return status
         for rel in rels:
             base_new, base_old = root / rel, old_root / rel
             if not (base_new.exists() or base_old.exists()):
-                return rs.fail(f"{rel}: no such file or directory in the working tree or at "
-                               f"{args.rev}", "input-unreadable")
+                return rs.fail(
+                    f"{rel}: no such file or directory in the working tree or at {args.rev}", "input-unreadable"
+                )
         jobs = args.jobs
         progress = rs.Progress(enabled=False if args.quiet else None)
         try:
-            new_report = run_targets(new_targets, fail_level=fail_level, debug=args.debug, jobs=jobs,
-                                     result_cache=rs.result_cache(args, root, index),
-                                     progress=progress) if new_files else _empty(fail_level)
-            old_report = run_targets(old_targets, fail_level=fail_level, debug=args.debug, jobs=jobs,
-                                     result_cache=rs.result_cache(args, old_root, index),
-                                     ) if old_files else _empty(fail_level)
+            new_report = (
+                run_targets(
+                    new_targets,
+                    fail_level=fail_level,
+                    debug=args.debug,
+                    jobs=jobs,
+                    result_cache=rs.result_cache(args, root, index),
+                    progress=progress,
+                )
+                if new_files
+                else _empty(fail_level)
+            )
+            old_report = (
+                run_targets(
+                    old_targets,
+                    fail_level=fail_level,
+                    debug=args.debug,
+                    jobs=jobs,
+                    result_cache=rs.result_cache(args, old_root, index),
+                )
+                if old_files
+                else _empty(fail_level)
+            )
         finally:
             progress.clear()
     comparison = compare_reports(old_report, new_report, args.rev, commit, fail_level)
@@ -513,8 +545,9 @@ def run_compare(args) -> int:
         except WriteError as exc:
             return max(rs.fail(str(exc), "output-error"), comparison.exit_status)
         s = summary_counts(comparison)
-        sys.stdout.write(f"specguard: {s['new']} new, {s['resolved']} resolved findings; "
-                         f"{s['figures_changed']} figures changed\n")
+        sys.stdout.write(
+            f"specguard: {s['new']} new, {s['resolved']} resolved findings; {s['figures_changed']} figures changed\n"
+        )
     else:
         rs.emit(text)
     return comparison.exit_status

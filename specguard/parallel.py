@@ -68,8 +68,7 @@ def _run_chunk(chunk):
     out = []
     for index, path, rel, raw, size, key, context in chunk:
         root, options = s["contexts"][context]
-        out.append((index, analyse_one(path, rel, raw, size, root, s["libs"], options,
-                                       s["debug"], s["cache"], key)))
+        out.append((index, analyse_one(path, rel, raw, size, root, s["libs"], options, s["debug"], s["cache"], key)))
     cache = s["cache"]
     problem = cache.write_problem if cache is not None else None
     return out, problem
@@ -93,8 +92,7 @@ def run_work(work, contexts, debug, jobs, result_cache):
         libs = LibraryCache(Limits())
         for index, path, rel, raw, size, key, context in work:
             root, options = contexts[context]
-            yield index, analyse_one(path, rel, raw, size, root, libs, options, debug,
-                                     result_cache, key)
+            yield index, analyse_one(path, rel, raw, size, root, libs, options, debug, result_cache, key)
         return
     import multiprocessing
     from concurrent.futures import ProcessPoolExecutor, as_completed
@@ -105,11 +103,12 @@ def run_work(work, contexts, debug, jobs, result_cache):
     # Chunks amortise the per-task overhead; several per worker keep the cores busy
     # to the end and let the progress line move.
     size = max(1, min(32, -(-len(work) // (jobs * 4))))
-    chunks = [work[i:i + size] for i in range(0, len(work), size)]
+    chunks = [work[i : i + size] for i in range(0, len(work), size)]
     settings = result_cache.settings() if result_cache is not None else None
     pending = {}
-    with ProcessPoolExecutor(max_workers=jobs, mp_context=context, initializer=_init,
-                             initargs=(contexts, debug, settings)) as pool:
+    with ProcessPoolExecutor(
+        max_workers=jobs, mp_context=context, initializer=_init, initargs=(contexts, debug, settings)
+    ) as pool:
         # Workers are forked while the chunks are submitted. A SIGINT/SIGTERM handler
         # that raised inside the interpreter's fork hooks would be swallowed
         # ("Exception ignored in ..."), so the signals wait until the submissions are

@@ -161,14 +161,21 @@ def _discover(paths: list[str], root: Path, policies: Policies | None = None) ->
         p = Path(raw)
         if p.is_dir():
             matched = 0
-            walk_root = root if _under(_real(p), real_root) or _under(Path(os.path.abspath(p)), real_root) \
+            walk_root = (
+                root
+                if _under(_real(p), real_root) or _under(Path(os.path.abspath(p)), real_root)
                 else find_root(_real(p))
+            )
             ignored = _git_ignored(p)
             for dirpath, dirnames, filenames in os.walk(p):
                 dirnames[:] = sorted(
-                    d for d in dirnames
-                    if not (d.startswith(".") or (ignored is None and _skipped_dir(dirpath, d))
-                            or (ignored is not None and _real(Path(dirpath) / d) in ignored))
+                    d
+                    for d in dirnames
+                    if not (
+                        d.startswith(".")
+                        or (ignored is None and _skipped_dir(dirpath, d))
+                        or (ignored is not None and _real(Path(dirpath) / d) in ignored)
+                    )
                 )
                 for name in sorted(filenames):
                     found = Path(dirpath) / name
@@ -184,15 +191,17 @@ def _discover(paths: list[str], root: Path, policies: Policies | None = None) ->
                     matched += 1
                     out.setdefault(str(real), item)
             if matched == 0:  # named explicitly but holding no spec: never a silent pass
-                out.setdefault(str(p.absolute()), Target(
-                    p, "no spec files matching the search patterns in this directory",
-                    relpath(p, root), False, root))
+                out.setdefault(
+                    str(p.absolute()),
+                    Target(
+                        p, "no spec files matching the search patterns in this directory", relpath(p, root), False, root
+                    ),
+                )
         elif p.exists() or p.is_symlink():
             real = _real(p)
             out.setdefault(str(real), target(p, real, named=True))
         else:
-            out.setdefault(str(p.absolute()),
-                           Target(p, "no such file or directory", relpath(p, root), False, root))
+            out.setdefault(str(p.absolute()), Target(p, "no such file or directory", relpath(p, root), False, root))
     return sorted(out.values(), key=lambda t: (t.shown_as, t.rel))
 
 
@@ -221,7 +230,10 @@ def _git_ignored(folder: Path) -> frozenset[Path] | None:
     try:
         done = subprocess.run(
             ["git", "ls-files", "-z", "--others", "--ignored", "--exclude-standard", "--directory"],
-            cwd=real, capture_output=True, timeout=60, check=False,
+            cwd=real,
+            capture_output=True,
+            timeout=60,
+            check=False,
             env={**os.environ, "GIT_OPTIONAL_LOCKS": "0"},
         )
     except (OSError, subprocess.SubprocessError):
@@ -281,8 +293,9 @@ def read_spec(path: Path, root: Path, rel: str, inside: bool):
 _NOT_CACHED = frozenset({"reference-invalid", "internal-error"})
 
 
-def analyse(raw: bytes, size: int, path: Path, rel: str, root: Path, cache=None,
-            options: RunOptions | None = None) -> tuple[FileResult, dict | None]:
+def analyse(
+    raw: bytes, size: int, path: Path, rel: str, root: Path, cache=None, options: RunOptions | None = None
+) -> tuple[FileResult, dict | None]:
     """Analyse the bytes of one spec: (result, cache payload or None when not cacheable).
 
     The payload holds the findings before the waivers, the figures, and the
@@ -332,8 +345,7 @@ def _payload(before: list[Finding], figures, spec, locate) -> dict | None:
     locations = {}
     if spec is not None:
         for index, w in enumerate(getattr(spec, "waivers", ()) or ()):
-            waivers.append({k: getattr(w, k) for k in
-                            ("rule", "at", "path", "reason", "approved_by", "expires")})
+            waivers.append({k: getattr(w, k) for k in ("rule", "at", "path", "reason", "approved_by", "expires")})
             for name in _WAIVER_FIELDS:
                 loc, related = locate(("waivers", index) + ((name,) if name else ()))
                 locations[f"{index}/{name}"] = [_loc(loc), [_loc(r) for r in related]]
@@ -371,8 +383,9 @@ def from_payload(rel: str, closure, payload: dict, options: RunOptions | None) -
         if waivers:
             spec = SimpleNamespace(waivers=waivers)
             findings = _apply_waivers(findings, spec, locate, rel, options or RunOptions())
-    return FileResult(rel, tuple(sorted(findings, key=Finding.sort_key)),
-                      closure=tuple((a, b) for a, b in closure), figures=figures)
+    return FileResult(
+        rel, tuple(sorted(findings, key=Finding.sort_key)), closure=tuple((a, b) for a, b in closure), figures=figures
+    )
 
 
 def _rule_findings(spec, locate, rel: str, options: RunOptions | None) -> tuple[list[Finding], FigureSet | None]:
@@ -386,17 +399,27 @@ def _rule_findings(spec, locate, rel: str, options: RunOptions | None) -> tuple[
         figures = compute(spec)
     except Exception as exc:
         text = " ".join(f"{type(exc).__name__}: {exc}".split())[:300]
-        return [Finding("internal-error", "error",
-                        f"the figures of this file could not be computed: {text} "
-                        "(run with --debug for the traceback)", loc)], None
+        return [
+            Finding(
+                "internal-error",
+                "error",
+                f"the figures of this file could not be computed: {text} (run with --debug for the traceback)",
+                loc,
+            )
+        ], None
     try:
         pack = options.pack if options is not None and options.pack is not None else load_pack()
         return evaluate(spec, figures, locate, pack, _overrides(rel, options)), figures
     except Exception as exc:
         text = " ".join(f"{type(exc).__name__}: {exc}".split())[:300]
-        return [Finding("internal-error", "error",
-                        f"the rule pack could not be evaluated on this file: {text} "
-                        "(run with --debug for the traceback)", loc)], figures
+        return [
+            Finding(
+                "internal-error",
+                "error",
+                f"the rule pack could not be evaluated on this file: {text} (run with --debug for the traceback)",
+                loc,
+            )
+        ], figures
 
 
 _OVERRIDES_MEMO: dict[int, tuple[object, dict]] = {}
@@ -431,8 +454,7 @@ def _apply_waivers(findings: list[Finding], spec, locate, rel: str, options: Run
 
     names = names_of(options.config.catalogue) if options.config is not None else None
     today = options.today or _dt.date.today()
-    return apply_waivers(findings, spec, locate, _overrides(rel, options), today,
-                         options.no_waivers, names=names)
+    return apply_waivers(findings, spec, locate, _overrides(rel, options), today, options.no_waivers, names=names)
 
 
 def check_paths(
@@ -460,8 +482,15 @@ def check_paths(
     """
     root = root or find_root(Path.cwd())
     policies = policies or Policies(options)
-    return run_targets(_discover(paths, root, policies), fail_level=fail_level, debug=debug,
-                       options=options, jobs=jobs, result_cache=result_cache, progress=progress)
+    return run_targets(
+        _discover(paths, root, policies),
+        fail_level=fail_level,
+        debug=debug,
+        options=options,
+        jobs=jobs,
+        result_cache=result_cache,
+        progress=progress,
+    )
 
 
 def plan(paths: list[str], root: Path, policies: Policies) -> list[Target]:
@@ -553,8 +582,9 @@ def _shown(result: FileResult, target: Target) -> FileResult:
     def move(loc: Location) -> Location:
         return replace(loc, file=prefix + loc.file)
 
-    findings = tuple(replace(f, location=move(f.location), related=tuple(move(r) for r in f.related))
-                     for f in result.findings)
+    findings = tuple(
+        replace(f, location=move(f.location), related=tuple(move(r) for r in f.related)) for f in result.findings
+    )
     return replace(result, file=prefix + result.file, findings=findings)
 
 
@@ -576,9 +606,18 @@ def policy_text(rel: str, options: RunOptions | None) -> str:
 _POLICY_TEXT: dict[int, tuple[dict, str]] = {}
 
 
-def analyse_one(path: Path, rel: str, raw: bytes, size: int, root: Path, cache,
-                options: RunOptions | None, debug: bool, result_cache=None,
-                key: str | None = None) -> FileResult:
+def analyse_one(
+    path: Path,
+    rel: str,
+    raw: bytes,
+    size: int,
+    root: Path,
+    cache,
+    options: RunOptions | None,
+    debug: bool,
+    result_cache=None,
+    key: str | None = None,
+) -> FileResult:
     """Analyse one read spec, turning a bug into an internal-error finding, and
     store a cacheable result."""
     try:
@@ -609,15 +648,17 @@ def rule_docs(pack) -> tuple[RuleDoc, ...]:
     for prule in pack.rules:
         rule = prule.rule
         words = lambda text: " ".join(str(text).split())  # noqa: E731
-        out.append(RuleDoc(
-            id=rule.id,
-            title=words(rule.title),
-            description=words(rule.checks),
-            help=f"{words(rule.why)}\n\nRelation: {words(rule.formula)}",
-            default_severity=rule.default_severity,
-            sources=tuple(rule.sources),
-            aliases=tuple(rule.aliases),
-        ))
+        out.append(
+            RuleDoc(
+                id=rule.id,
+                title=words(rule.title),
+                description=words(rule.checks),
+                help=f"{words(rule.why)}\n\nRelation: {words(rule.formula)}",
+                default_severity=rule.default_severity,
+                sources=tuple(rule.sources),
+                aliases=tuple(rule.aliases),
+            )
+        )
     return tuple(sorted(out, key=lambda d: d.id))
 
 

@@ -48,7 +48,7 @@ def _u_escape(error: UnicodeError) -> tuple[str, int]:
     if not isinstance(error, UnicodeEncodeError):  # registered for encoding only
         raise error
     out = []
-    for ch in error.object[error.start:error.end]:
+    for ch in error.object[error.start : error.end]:
         cp = ord(ch)
         if cp > 0xFFFF:
             cp -= 0x10000
@@ -173,16 +173,24 @@ def result_cache(args, root: Path, index: PolicyIndex):
     directory = args.cache_dir or rc.default_dir()
     builtin = builtin_rules_dir()
     rule_dirs = ([builtin] if builtin else []) + [str(p) for p in index.rule_dirs()]
-    versions = {"tool": __version__, "spec_format": SPEC_FORMAT_VERSION,
-                "report_format": REPORT_FORMAT, "parser": parser_path(), "cache": rc.CACHE_FORMAT,
-                "code": rc.sha256_file_tree([os.path.dirname(os.path.abspath(__file__))], (".py",))}
+    versions = {
+        "tool": __version__,
+        "spec_format": SPEC_FORMAT_VERSION,
+        "report_format": REPORT_FORMAT,
+        "parser": parser_path(),
+        "cache": rc.CACHE_FORMAT,
+        "code": rc.sha256_file_tree([os.path.dirname(os.path.abspath(__file__))], (".py",)),
+    }
     denied = [os.path.realpath(d) for d in _denied_for_cache(args)]
     return rc.ResultCache(directory, rc.run_salt(versions, rule_dirs, denied), str(root))
 
 
 def _denied_for_cache(args) -> list[str]:
-    return [str(p) for p in (getattr(args, "output", None), getattr(args, "write_baseline", None),
-                             getattr(args, "baseline", None)) if p]
+    return [
+        str(p)
+        for p in (getattr(args, "output", None), getattr(args, "write_baseline", None), getattr(args, "baseline", None))
+        if p
+    ]
 
 
 def cache_dir_denied(args) -> tuple:
@@ -203,8 +211,7 @@ class PolicyIndex(Policies):
     file alike. Each policy file is read once; its problems collect in
     :attr:`errors` (the command stops with exit 2 before any analysis)."""
 
-    def __init__(self, override: Path | None, fail_level: str | None, pack_cache: str | None,
-                 base: RunOptions) -> None:
+    def __init__(self, override: Path | None, fail_level: str | None, pack_cache: str | None, base: RunOptions) -> None:
         super().__init__(None)
         self.override = override
         self.cli_fail_level = fail_level
@@ -320,8 +327,13 @@ def prepare(args, root: Path, denied: tuple, paths: list[str]):
         date = today()
     except ValueError as exc:
         return fail(str(exc), "config-invalid")
-    base = RunOptions(today=date, no_waivers=getattr(args, "no_waivers", False), baseline=baseline,
-                      strict_baseline=getattr(args, "strict_baseline", False), denied=denied)
+    base = RunOptions(
+        today=date,
+        no_waivers=getattr(args, "no_waivers", False),
+        baseline=baseline,
+        strict_baseline=getattr(args, "strict_baseline", False),
+        denied=denied,
+    )
     index = policy_index(args, root, base)
     fail_level = run_fail_level(args, index, root)
     targets = plan(paths, root, index) if paths else []

@@ -129,10 +129,7 @@ class Case:
 
     def targets(self) -> list[str]:
         if self.folder_case:
-            return [
-                f"{self.rel_dir()}/{t}" if t != "." else self.rel_dir()
-                for t in self.expect["targets"]
-            ]
+            return [f"{self.rel_dir()}/{t}" if t != "." else self.rel_dir() for t in self.expect["targets"]]
         return [f"{self.family}/{self.stem}.yaml"]
 
 
@@ -354,9 +351,7 @@ def _preexec(as_limit: int | None, drop_dac: bool):
 def _environment(extra: dict) -> dict:
     env = {k: v for k, v in os.environ.items() if not k.startswith(("PYTEST", "COV_"))}
     env.pop("PYTHONPATH", None)
-    env.update(
-        {"NO_COLOR": "1", "PYTHONDONTWRITEBYTECODE": "1", "LC_ALL": "C.UTF-8", "COLUMNS": "200"}
-    )
+    env.update({"NO_COLOR": "1", "PYTHONDONTWRITEBYTECODE": "1", "LC_ALL": "C.UTF-8", "COLUMNS": "200"})
     env.update(extra)
     return env
 
@@ -601,15 +596,11 @@ def test_corpus_case(case: Case, corpus_session: Session) -> None:
         own_exit = 1 if any(g["severity"] == "error" for g in mine) else 0
         batch_exit = max(c.expect["exit"] for c in CASES if c.id in run.batch)
         assert run.exit == batch_exit, f"batch exit {run.exit}, expected {batch_exit}" + shown
-        assert own_exit == exp["exit"], (
-            f"exit {own_exit} (from its findings), expected {exp['exit']}" + shown
-        )
+        assert own_exit == exp["exit"], f"exit {own_exit} (from its findings), expected {exp['exit']}" + shown
         got = mine
     else:
         assert run.exit == exp["exit"], f"exit {run.exit}, expected {exp['exit']}" + shown
-    assert any(_SUMMARY.match(line) for line in run.stdout.splitlines()[-3:]), (
-        "no summary line" + shown
-    )
+    assert any(_SUMMARY.match(line) for line in run.stdout.splitlines()[-3:]), "no summary line" + shown
     for expected in exp["findings"]:
         path = _expected_path(case, expected)
         assert any(_matches(expected, g, path) for g in got), f"missing {path}: {expected}" + shown
@@ -619,18 +610,12 @@ def test_corpus_case(case: Case, corpus_session: Session) -> None:
     assert run.wall <= max_wall, f"wall {run.wall:.2f} s > {max_wall} s"
     max_rss = exp.get("max_rss_delta", DEFAULT_RSS_DELTA)
     delta = (run.rss_kib - base.rss_kib) / 1024
-    assert delta <= max_rss, (
-        f"peak RSS {run.rss_kib} KiB is {delta:.1f} MiB above the baseline (limit {max_rss})"
-    )
+    assert delta <= max_rss, f"peak RSS {run.rss_kib} KiB is {delta:.1f} MiB above the baseline (limit {max_rss})"
     if exp.get("max_read") is not None:
         assert run.rchar is not None and base.rchar is not None, "no /proc/<pid>/io"
-        assert run.rchar <= base.rchar + exp["max_read"], (
-            f"read {run.rchar} bytes (baseline {base.rchar})"
-        )
+        assert run.rchar <= base.rchar + exp["max_read"], f"read {run.rchar} bytes (baseline {base.rchar})"
     for canary in exp.get("canary", ()):
-        assert not (corpus_session.root / canary).exists(), (
-            f"{canary} was created: the input executed something"
-        )
+        assert not (corpus_session.root / canary).exists(), f"{canary} was created: the input executed something"
     for s in exp.get("forbid_output", ()):
         assert s not in run.stdout and s not in run.stderr, f"{s!r} reached the output"
     if exp.get("mode") == "crlf_identical":

@@ -45,6 +45,8 @@ def _variants(value):
         for plain in EDGE_PLAIN:
             if plain != value:
                 yield f"= {plain}", plain
+
+
 _NOT_A_NUMBER = re.compile(r"(?<![\w.])-?(inf|nan)(?![\w])", re.IGNORECASE)
 
 
@@ -99,6 +101,7 @@ def _relation_edits(d):
             for part in path[:-1]:
                 node = node.setdefault(part, {})
             node[path[-1]] = value
+
         return edit
 
     def every(where, **values):
@@ -106,6 +109,7 @@ def _relation_edits(d):
             items = x.get(where, []) if where == "operating_points" else x.get("profile", {}).get("segments", [])
             for item in items:
                 item.update(values)
+
         return edit
 
     yield "trip = supply", put("stage", "overvoltage_trip", f"{volts} V")
@@ -118,8 +122,10 @@ def _relation_edits(d):
     yield "dead time a quarter period", put("stage", "pwm", "dead_time", f"{1 / (4 * f_pwm)} s")
     yield "dead times fill the period", put("stage", "pwm", "dead_time", f"{1 / (2 * f_pwm)} s")
     yield "timer clock = PWM frequency", put("stage", "pwm", "timer_clock", f"{f_pwm} Hz")
-    yield "loop bandwidth = PWM frequency", put("stage", "current_loop", {"bandwidth": f"{f_pwm} Hz",
-                                                                           "sampling": "single-update"})
+    yield (
+        "loop bandwidth = PWM frequency",
+        put("stage", "current_loop", {"bandwidth": f"{f_pwm} Hz", "sampling": "single-update"}),
+    )
     yield "points idle", every("operating_points", speed="0 rpm", torque="0 N*m")
     yield "profile idle", every("profile", speed="0 rpm", torque="0 N*m")
     yield "load inertia 0", put("load", {"inertia": "0 kg*m^2"})
@@ -129,12 +135,15 @@ def _relation_edits(d):
         yield "points at max speed", every("operating_points", speed=d["motor"]["max_speed"])
     if thermal.get("max_winding_temperature"):
         limit = thermal["max_winding_temperature"]
-        yield "ambient = winding limit", lambda x: (every("operating_points", ambient=limit)(x),
-                                                     x.get("profile", {}).__setitem__("ambient", limit)
-                                                     if "profile" in x else None)
+        yield (
+            "ambient = winding limit",
+            lambda x: (
+                every("operating_points", ambient=limit)(x),
+                x.get("profile", {}).__setitem__("ambient", limit) if "profile" in x else None,
+            ),
+        )
     if thermal.get("winding_time_constant"):
-        yield "time constants equal", put("motor", "thermal", "motor_time_constant",
-                                          thermal["winding_time_constant"])
+        yield "time constants equal", put("motor", "thermal", "motor_time_constant", thermal["winding_time_constant"])
 
 
 def test_values_on_each_other_give_findings_not_crashes():
@@ -151,7 +160,10 @@ def test_values_on_each_other_give_findings_not_crashes():
             except Exception as exc:
                 found.append(f"{rel} {how}: {type(exc).__name__}: {exc}")
                 continue
-            found += [f"{rel} {how}: [{f.rule}] {f.message}" for f in findings
-                      if f.rule == "internal-error" or any(_NOT_A_NUMBER.search(t) for t in (f.message, *f.remedies))]
+            found += [
+                f"{rel} {how}: [{f.rule}] {f.message}"
+                for f in findings
+                if f.rule == "internal-error" or any(_NOT_A_NUMBER.search(t) for t in (f.message, *f.remedies))
+            ]
     assert count > 80
     assert not found, "\n".join(found[:20])

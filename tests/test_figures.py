@@ -291,10 +291,13 @@ def test_runaway_profile_is_reported_not_crashed():
     constant slipped by 1e-9 divided by zero in the thermal eigenvalues (exit 3)."""
     data = copy.deepcopy(E4)
     data["motor"]["thermal"].update({"winding_time_constant": "15 s", "motor_time_constant": "600 s"})
-    data["profile"] = {"ambient": "25 degC", "segments": [
-        {"duration": "1 s", "speed": "1000 rpm", "torque": "3e7 N*m"},
-        {"duration": "2 s", "speed": "0 rpm", "torque": "0.01 N*m"},
-    ]}
+    data["profile"] = {
+        "ambient": "25 degC",
+        "segments": [
+            {"duration": "1 s", "speed": "1000 rpm", "torque": "3e7 N*m"},
+            {"duration": "2 s", "speed": "0 rpm", "torque": "0.01 N*m"},
+        ],
+    }
     fs = figures_of(data)
     assert fs.value("profile_peak_temperature") is None
     assert "runaway" in fs.missing["profile_peak_temperature"]

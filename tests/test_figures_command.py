@@ -16,7 +16,10 @@ PIPETTE = "examples/robot/axes/pipette-x.axis.yaml"
 def run(*args):
     return subprocess.run(
         [sys.executable, "-m", "specguard", "figures", *args],
-        cwd=ROOT, capture_output=True, text=True, check=False,
+        cwd=ROOT,
+        capture_output=True,
+        text=True,
+        check=False,
     )
 
 

@@ -238,11 +238,21 @@ def test_the_scan_sees_every_dimensional_field():
     # the fields that took "1e-400 <unit>" silently before: every ge=0 field read it
     # as 0 and every absolute temperature as 0 degC (273.15 K)
     silent_before = {
-        "motor.no_load_current", "stage.pwm.dead_time", "stage.switch_resistance",
-        "stage.output_inductance", "chokes.resistance", "cable.resistance", "load.inertia",
-        "operating_points.speed", "operating_points.torque", "profile.segments.speed",
-        "profile.segments.torque", "motor.terminal_resistance.at", "operating_points.ambient",
-        "motor.thermal.max_winding_temperature", "profile.ambient",
+        "motor.no_load_current",
+        "stage.pwm.dead_time",
+        "stage.switch_resistance",
+        "stage.output_inductance",
+        "chokes.resistance",
+        "cable.resistance",
+        "load.inertia",
+        "operating_points.speed",
+        "operating_points.torque",
+        "profile.segments.speed",
+        "profile.segments.torque",
+        "motor.terminal_resistance.at",
+        "operating_points.ambient",
+        "motor.thermal.max_winding_temperature",
+        "profile.ambient",
     }
     assert silent_before <= set(QUANTITY_FIELDS)
     assert len(QUANTITY_FIELDS) >= 45

@@ -40,9 +40,7 @@ REPO = Path(__file__).resolve().parents[1]
 DEMO = REPO / "examples" / "robot"
 # Raw characters that must never appear: C0 but tab and newline, DEL, C1, bidi
 # marks/embeddings/overrides/isolates, line and paragraph separators, surrogates.
-RAW_UNSAFE = re.compile(
-    "[\x00-\x08\x0b-\x1f\x7f-\x9f\u200e\u200f\u202a-\u202e\u2066-\u2069\u2028\u2029\ud800-\udfff]"
-)
+RAW_UNSAFE = re.compile("[\x00-\x08\x0b-\x1f\x7f-\x9f\u200e\u200f\u202a-\u202e\u2066-\u2069\u2028\u2029\ud800-\udfff]")
 DANGEROUS_TAGS = {
     "script",
     "iframe",
@@ -103,10 +101,7 @@ def file_stem(p: str, k: int) -> str:
     """A payload as a file name: no '/' or NUL, other lone surrogates as raw bytes
     where Linux allows them (PEP 383), at most about 150 bytes."""
     name = p.replace("/", "\u2215").replace("\x00", "NUL")
-    name = "".join(
-        c if not 0xD800 <= ord(c) <= 0xDFFF or 0xDC80 <= ord(c) <= 0xDCFF else "\udcff"
-        for c in name
-    )
+    name = "".join(c if not 0xD800 <= ord(c) <= 0xDFFF or 0xDC80 <= ord(c) <= 0xDCFF else "\udcff" for c in name)
     while len(os.fsencode(name)) > 150:
         name = name[:-1]
     return f"{name}.{k}"
@@ -186,16 +181,14 @@ def build_repo(root: Path) -> dict[str, str]:
         # 2. names, tags, keys and a library file carry it (schema findings quote them)
         lib = root / "lib" / "motors" / f"payload-{k}.yaml"
         lib.write_text(
-            motor.replace(
-                "motor:\n", f"motor:\n  {json.dumps(p)}: 1\n  datasheet: {json.dumps(p)}\n", 1
-            ),
+            motor.replace("motor:\n", f"motor:\n  {json.dumps(p)}: 1\n  datasheet: {json.dumps(p)}\n", 1),
             encoding="utf-8",
         )
         (root / "specs").mkdir(exist_ok=True)
         (root / "specs" / f"n{k:02d}.axis.yaml").write_text(
-            _spec_text(
-                p, "ok", p, f"../lib/motors/payload-{k}.yaml", "ok", ("ok", "ok"), [p], p, p
-            ).replace("from: lib/", "from: ../lib/"),
+            _spec_text(p, "ok", p, f"../lib/motors/payload-{k}.yaml", "ok", ("ok", "ok"), [p], p, p).replace(
+                "from: lib/", "from: ../lib/"
+            ),
             encoding="utf-8",
         )
     template = (DEMO / "axes" / "sample-lift.axis.yaml").read_text(encoding="utf-8")
@@ -205,9 +198,7 @@ def build_repo(root: Path) -> dict[str, str]:
         fname = f"{name}.x{k}.axis.yaml"
         (root / fname).write_text(template, encoding="utf-8")
         names[fname] = name
-    (root / b"\xff\xfe-not-utf8.axis.yaml".decode("utf-8", "surrogateescape")).write_text(
-        template, encoding="utf-8"
-    )
+    (root / b"\xff\xfe-not-utf8.axis.yaml".decode("utf-8", "surrogateescape")).write_text(template, encoding="utf-8")
     return names
 
 

@@ -40,13 +40,20 @@ ROOT = Path(__file__).resolve().parents[1]
 EXTENDED = os.environ.get("SPECGUARD_EXTENDED") == "1"
 
 if EXTENDED:
-    SETTINGS = settings(max_examples=20_000, derandomize=False, deadline=None, database=None,
-                        print_blob=True, suppress_health_check=list(HealthCheck))
+    SETTINGS = settings(
+        max_examples=20_000,
+        derandomize=False,
+        deadline=None,
+        database=None,
+        print_blob=True,
+        suppress_health_check=list(HealthCheck),
+    )
     SHUFFLE_SETTINGS = SETTINGS
     FULL_SETTINGS = SETTINGS
 else:
-    SETTINGS = settings(max_examples=1000, derandomize=True, deadline=None, database=None,
-                        suppress_health_check=list(HealthCheck))
+    SETTINGS = settings(
+        max_examples=1000, derandomize=True, deadline=None, database=None, suppress_health_check=list(HealthCheck)
+    )
     SHUFFLE_SETTINGS = settings(SETTINGS, max_examples=200)
     FULL_SETTINGS = settings(SETTINGS, max_examples=200)
 
@@ -91,20 +98,120 @@ def test_arbitrary_text_never_crashes(repo, text):
 
 # ------------------------------------------------------------ (b) YAML grammar
 _INDICATORS = ["-", "?", ":", ",", "[", "]", "{", "}", "#", "&", "*", "!", "|", ">", "'", '"', "%", "@", "`"]
-_KEYS = ["format", "axis", "name", "motor", "type", "winding", "from", "stage", "supply", "voltage", "range",
-         "pwm", "frequency", "scheme", "max_duty", "chokes", "count", "operating_points", "speed", "torque",
-         "ambient", "profile", "segments", "duration", "waivers", "expires", "terminal_resistance", "value", "at",
-         "<<", "notes"]
-_VALUES = ["1", "48 V", "85 uH", "25 kHz", "4200 rpm", "40 degC", "0.95", "1e400", "-0", "0x1F", "0o17", "010",
-           ".nan", "-.inf", "true", "yes", "null", "~", "2027-01-15", "1:30", "2.5 MH", "5 mOhm", "µH", "",
-           "brushed-dc", "bipolar", "../library/x.yaml", "/etc/passwd", "https://x", "\\ud800", "é"]
+_KEYS = [
+    "format",
+    "axis",
+    "name",
+    "motor",
+    "type",
+    "winding",
+    "from",
+    "stage",
+    "supply",
+    "voltage",
+    "range",
+    "pwm",
+    "frequency",
+    "scheme",
+    "max_duty",
+    "chokes",
+    "count",
+    "operating_points",
+    "speed",
+    "torque",
+    "ambient",
+    "profile",
+    "segments",
+    "duration",
+    "waivers",
+    "expires",
+    "terminal_resistance",
+    "value",
+    "at",
+    "<<",
+    "notes",
+]
+_VALUES = [
+    "1",
+    "48 V",
+    "85 uH",
+    "25 kHz",
+    "4200 rpm",
+    "40 degC",
+    "0.95",
+    "1e400",
+    "-0",
+    "0x1F",
+    "0o17",
+    "010",
+    ".nan",
+    "-.inf",
+    "true",
+    "yes",
+    "null",
+    "~",
+    "2027-01-15",
+    "1:30",
+    "2.5 MH",
+    "5 mOhm",
+    "µH",
+    "",
+    "brushed-dc",
+    "bipolar",
+    "../library/x.yaml",
+    "/etc/passwd",
+    "https://x",
+    "\\ud800",
+    "é",
+]
 _TOKENS = (
     _INDICATORS
-    + ["!!int", "!!str", "!!binary", "!!python/object:os.system", "!local", "!<tag:yaml.org,2002:str>",
-       "&a", "&b", "*a", "*b", "*nope", "<<: *a", "%YAML 1.2", "%YAML 1.1", "%TAG ! tag:x,2000:", "---", "...",
-       "# comment", "? ", ": ", "- ", "{", "}", "[", "]", ", ", "|-", ">+", "'q'", '"d\\n"', '"\\u00e9"',
-       "\t", "  ", "\n", "\r\n", "\n  ", "\n    ", "\n- ", "\ufeff", "\x00", "\x1b"]
-    + [k + ":" for k in _KEYS] + _KEYS + _VALUES
+    + [
+        "!!int",
+        "!!str",
+        "!!binary",
+        "!!python/object:os.system",
+        "!local",
+        "!<tag:yaml.org,2002:str>",
+        "&a",
+        "&b",
+        "*a",
+        "*b",
+        "*nope",
+        "<<: *a",
+        "%YAML 1.2",
+        "%YAML 1.1",
+        "%TAG ! tag:x,2000:",
+        "---",
+        "...",
+        "# comment",
+        "? ",
+        ": ",
+        "- ",
+        "{",
+        "}",
+        "[",
+        "]",
+        ", ",
+        "|-",
+        ">+",
+        "'q'",
+        '"d\\n"',
+        '"\\u00e9"',
+        "\t",
+        "  ",
+        "\n",
+        "\r\n",
+        "\n  ",
+        "\n    ",
+        "\n- ",
+        "\ufeff",
+        "\x00",
+        "\x1b",
+    ]
+    + [k + ":" for k in _KEYS]
+    + _KEYS
+    + _VALUES
 )
 
 
@@ -156,7 +263,8 @@ def valid_spec(draw):
         "type": "three-phase" if three else "brushed-dc",
         "winding": draw(st.sampled_from(["iron-core", "coreless", "slotless"])),
         "terminal_resistance": {
-            "value": draw(_q("resistance", 0.01, 50.0)), "at": draw(_q("temperature", 283.15, 323.15)),
+            "value": draw(_q("resistance", 0.01, 50.0)),
+            "at": draw(_q("temperature", 283.15, 323.15)),
         },
         "torque_constant": {
             "value": draw(_q("torque_constant", 1e-3, 2.0)),
@@ -165,13 +273,16 @@ def valid_spec(draw):
         "back_emf_constant": {
             "value": draw(_q("back_emf_constant", 1e-3, 2.0)),
             "voltage": draw(st.sampled_from(["line-to-line-peak", "line-to-line-rms", "phase-peak", "phase-rms"]))
-            if three else "terminal",
+            if three
+            else "terminal",
         },
         "rated_current": draw(_q("current", 0.05, 50.0)),
     }
     if draw(st.booleans()):
-        motor["terminal_inductance"] = {"value": draw(_q("inductance", 1e-6, 0.1)),
-                                        "measured_at": draw(_q("frequency", 50.0, 1e5))}
+        motor["terminal_inductance"] = {
+            "value": draw(_q("inductance", 1e-6, 0.1)),
+            "measured_at": draw(_q("frequency", 50.0, 1e5)),
+        }
     if not motor.get("terminal_inductance") or draw(st.booleans()):
         n = draw(st.integers(2, 5))
         freqs = sorted(set(draw(st.lists(st.floats(10.0, 2e5), min_size=n, max_size=n))))
@@ -189,13 +300,19 @@ def valid_spec(draw):
         if draw(st.booleans()):
             motor["d_axis_inductance"] = draw(_q("inductance", 1e-6, 0.1))
             motor["q_axis_inductance"] = draw(_q("inductance", 1e-6, 0.1))
-    for key, dim, low, high in (("peak_current", "current", 0.05, 200.0), ("no_load_current", "current", 0.0, 1.0),
-                                ("max_speed", "speed", 1.0, 5000.0), ("rotor_inertia", "inertia", 1e-8, 1e-2)):
+    for key, dim, low, high in (
+        ("peak_current", "current", 0.05, 200.0),
+        ("no_load_current", "current", 0.0, 1.0),
+        ("max_speed", "speed", 1.0, 5000.0),
+        ("rotor_inertia", "inertia", 1e-8, 1e-2),
+    ):
         if draw(st.booleans()):
             motor[key] = draw(_q(dim, low, high))
     if draw(st.booleans()):
-        thermal = {"winding_to_housing": draw(_q("thermal_resistance", 0.05, 50.0)),
-                   "housing_to_ambient": draw(_q("thermal_resistance", 0.05, 100.0))}
+        thermal = {
+            "winding_to_housing": draw(_q("thermal_resistance", 0.05, 50.0)),
+            "housing_to_ambient": draw(_q("thermal_resistance", 0.05, 100.0)),
+        }
         if draw(st.booleans()):
             thermal["winding_time_constant"] = draw(_q("time", 0.5, 200.0))
             thermal["motor_time_constant"] = draw(_q("time", 10.0, 1e4))
@@ -205,14 +322,24 @@ def valid_spec(draw):
         if choice in ("class", "both"):
             thermal["insulation_class"] = draw(st.sampled_from(["B", "F", "H", "155", "180"]))
         motor["thermal"] = thermal
-    schemes = (["six-step-chop-one", "six-step-chop-both", "sinusoidal", "space-vector"] if three
-               else ["bipolar", "unipolar-single", "unipolar-phase-shifted"])
-    pwm = {"frequency": draw(_q("frequency", 1e3, 2e5)), "scheme": draw(st.sampled_from(schemes)),
-           "max_duty": draw(st.floats(0.51, 1.0))}
-    for key, strat in (("frequency_is", st.sampled_from(["leg", "ripple"])),
-                       ("freewheeling", st.sampled_from(["synchronous", "diode"])),
-                       ("dead_time", _q("time", 0.0, 2e-6)), ("min_pulse", _q("time", 1e-8, 5e-6)),
-                       ("timer_clock", _q("frequency", 1e6, 5e8)), ("alignment", st.sampled_from(["center", "edge"]))):
+    schemes = (
+        ["six-step-chop-one", "six-step-chop-both", "sinusoidal", "space-vector"]
+        if three
+        else ["bipolar", "unipolar-single", "unipolar-phase-shifted"]
+    )
+    pwm = {
+        "frequency": draw(_q("frequency", 1e3, 2e5)),
+        "scheme": draw(st.sampled_from(schemes)),
+        "max_duty": draw(st.floats(0.51, 1.0)),
+    }
+    for key, strat in (
+        ("frequency_is", st.sampled_from(["leg", "ripple"])),
+        ("freewheeling", st.sampled_from(["synchronous", "diode"])),
+        ("dead_time", _q("time", 0.0, 2e-6)),
+        ("min_pulse", _q("time", 1e-8, 5e-6)),
+        ("timer_clock", _q("frequency", 1e6, 5e8)),
+        ("alignment", st.sampled_from(["center", "edge"])),
+    ):
         if draw(st.booleans()):
             pwm[key] = draw(strat)
     stage = {"supply": {"voltage": f"{supply:.6g} V"}, "pwm": pwm}
@@ -227,16 +354,20 @@ def valid_spec(draw):
         if draw(st.booleans()):
             stage["current_limit"]["peak"] = draw(_q("current", 0.1, 300.0))
     if draw(st.booleans()):
-        stage["current_loop"] = {"bandwidth": draw(_q("frequency", 10.0, 2e4)),
-                                 "sampling": draw(st.sampled_from(["single-update", "double-update"]))}
+        stage["current_loop"] = {
+            "bandwidth": draw(_q("frequency", 10.0, 2e4)),
+            "sampling": draw(st.sampled_from(["single-update", "double-update"])),
+        }
     if draw(st.booleans()):
         stage["bus_capacitance"] = draw(_q("capacitance", 1e-6, 1e-1))
         stage["overvoltage_trip"] = f"{supply * draw(st.floats(1.3, 2.0)):.6g} V"
     spec = {"format": 1, "axis": {"name": draw(_name())}, "motor": motor, "stage": stage}
     if draw(st.booleans()):
-        spec["chokes"] = {"inductance": draw(_q("inductance", 1e-6, 1e-2)),
-                          "placement": "per-phase" if three else "per-lead",
-                          "count": draw(st.integers(1, 3 if three else 2))}
+        spec["chokes"] = {
+            "inductance": draw(_q("inductance", 1e-6, 1e-2)),
+            "placement": "per-phase" if three else "per-lead",
+            "count": draw(st.integers(1, 3 if three else 2)),
+        }
     if draw(st.booleans()):
         spec["cable"] = {"resistance": draw(_q("resistance", 0.0, 1.0)), "length": draw(_q("length", 0.1, 50.0))}
     if draw(st.booleans()):
@@ -246,14 +377,26 @@ def valid_spec(draw):
     # it is pinned by test_all_points_idle_supply_window and
     # test_idle_point_ripple_remedy below, and the generator now reaches it too.
     spec["operating_points"] = [
-        {"name": n, "speed": draw(_q("speed", 0.0, 2000.0)),
-         "torque": draw(_q("torque", 0.0, 5.0)),
-         "ambient": draw(_q("temperature", 253.15, 333.15))} for i, n in enumerate(names)
+        {
+            "name": n,
+            "speed": draw(_q("speed", 0.0, 2000.0)),
+            "torque": draw(_q("torque", 0.0, 5.0)),
+            "ambient": draw(_q("temperature", 253.15, 333.15)),
+        }
+        for i, n in enumerate(names)
     ]
     if draw(st.booleans()):
-        spec["profile"] = {"ambient": draw(_q("temperature", 253.15, 333.15)), "segments": [
-            {"duration": draw(_q("time", 1e-3, 100.0)), "speed": draw(_q("speed", 0.0, 2000.0)),
-             "torque": draw(_q("torque", 0.0, 5.0))} for _ in range(draw(st.integers(1, 4)))]}
+        spec["profile"] = {
+            "ambient": draw(_q("temperature", 253.15, 333.15)),
+            "segments": [
+                {
+                    "duration": draw(_q("time", 1e-3, 100.0)),
+                    "speed": draw(_q("speed", 0.0, 2000.0)),
+                    "torque": draw(_q("torque", 0.0, 5.0)),
+                }
+                for _ in range(draw(st.integers(1, 4)))
+            ],
+        }
     return spec
 
 
@@ -322,13 +465,17 @@ def test_generated_valid_specs_through_the_pipeline(repo, spec):
 
 
 IDLE_SPEC = {
-    "format": 1, "axis": {"name": "a"},
-    "motor": {"type": "brushed-dc", "winding": "iron-core",
-              "terminal_resistance": {"value": "1 ohm", "at": "20 degC"},
-              "terminal_inductance": {"value": "1 mH", "measured_at": "1 kHz"},
-              "torque_constant": {"value": "1 N*m/A", "current": "dc"},
-              "back_emf_constant": {"value": "1 V/(rad/s)", "voltage": "terminal"},
-              "rated_current": "1 A"},
+    "format": 1,
+    "axis": {"name": "a"},
+    "motor": {
+        "type": "brushed-dc",
+        "winding": "iron-core",
+        "terminal_resistance": {"value": "1 ohm", "at": "20 degC"},
+        "terminal_inductance": {"value": "1 mH", "measured_at": "1 kHz"},
+        "torque_constant": {"value": "1 N*m/A", "current": "dc"},
+        "back_emf_constant": {"value": "1 V/(rad/s)", "voltage": "terminal"},
+        "rated_current": "1 A",
+    },
     "stage": {"supply": {"voltage": "6 V"}, "pwm": {"frequency": "20 kHz", "scheme": "bipolar", "max_duty": 1.0}},
     "operating_points": [{"name": "idle", "speed": "0 rpm", "torque": "0 N*m", "ambient": "20 degC"}],
 }
@@ -373,14 +520,15 @@ def test_generator_produces_both_motor_types():
 #  * scalars above 64 KiB, or more nodes than the budget, are `yaml-limit`;
 #  * duplicate keys (`yaml-key`) cannot occur here: Python dicts have none.
 def _json_containers(children):
-    return st.one_of(
-        st.lists(children, max_size=5), st.dictionaries(st.text(max_size=8), children, max_size=5)
-    )
+    return st.one_of(st.lists(children, max_size=5), st.dictionaries(st.text(max_size=8), children, max_size=5))
 
 
 json_values = st.recursive(
-    st.none() | st.booleans() | st.integers(-(2**53), 2**53)
-    | st.floats(allow_nan=False, allow_infinity=False) | st.text(max_size=20),
+    st.none()
+    | st.booleans()
+    | st.integers(-(2**53), 2**53)
+    | st.floats(allow_nan=False, allow_infinity=False)
+    | st.text(max_size=20),
     _json_containers,
     max_leaves=25,
 )

@@ -222,9 +222,7 @@ def run_mutation(pack=None):
                 except Exception as exc:  # a crash is a bug, never a kill
                     crashes.append(f"{rel} {where} {fname}: {type(exc).__name__}: {exc}")
                     continue
-                crashes.extend(
-                    f"{rel} {where} {fname}: {f.message}" for f in found if f.rule == "internal-error"
-                )
+                crashes.extend(f"{rel} {where} {fname}: {f.message}" for f in found if f.rule == "internal-error")
                 new_keys = {_key(f) for f in found} - known
                 counts[fname][1] += 1
                 per_spec[rel][1] += 1
@@ -249,8 +247,10 @@ def summary_text(counts, survivors, equivalent, per_spec, seconds, prone) -> str
     lines = ["unit slips caught by the check (share of mutants with a new finding)", "", "  over every numeric field:"]
     for name, (killed, total) in counts.items():
         need = _required_all_fields(name)
-        lines.append(f"  {FACTOR_WORDS[name]:22s} {killed:4d}/{total:<4d} caught  {_rate(killed, total):6.1%}  "
-                     + (f"(required {need:.0%})" if need is not None else f"(floor {FLOORS[name]:.0%})"))
+        lines.append(
+            f"  {FACTOR_WORDS[name]:22s} {killed:4d}/{total:<4d} caught  {_rate(killed, total):6.1%}  "
+            + (f"(required {need:.0%})" if need is not None else f"(floor {FLOORS[name]:.0%})")
+        )
     killed = sum(k for k, _ in counts.values())
     total = sum(t for _, t in counts.values())
     lines.append(f"  {'all slips':22s} {killed:4d}/{total:<4d} caught  {_rate(killed, total):6.1%}")
@@ -280,8 +280,15 @@ def outcome():
     out = Path(tempfile.gettempdir()) / "specguard-unit-mutation-summary.txt"
     out.write_text(text, encoding="utf-8")
     (out.with_suffix(".json")).write_text(
-        json.dumps({"counts": counts, "slip_prone_counts": prone, "survivors": [list(map(str, s)) for s in survivors],
-                    "seconds": seconds}, indent=1),
+        json.dumps(
+            {
+                "counts": counts,
+                "slip_prone_counts": prone,
+                "survivors": [list(map(str, s)) for s in survivors],
+                "seconds": seconds,
+            },
+            indent=1,
+        ),
         encoding="utf-8",
     )
     print("\n" + text + f"summary written to {out}")

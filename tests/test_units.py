@@ -149,12 +149,8 @@ def test_parsed_value_matches_pint(dimension, unit):
 def test_known_conversions():
     # Hand-checked values; the first three are the common datasheet cases.
     assert parse_quantity("3000 rpm", "speed") == pytest.approx(100 * math.pi, rel=1e-15)
-    assert parse_quantity("1 V/krpm", "back_emf_constant") == pytest.approx(
-        60 / (2 * math.pi * 1000), rel=1e-15
-    )
-    assert parse_quantity("1 mV/rpm", "back_emf_constant") == pytest.approx(
-        60 / (2 * math.pi * 1000), rel=1e-15
-    )
+    assert parse_quantity("1 V/krpm", "back_emf_constant") == pytest.approx(60 / (2 * math.pi * 1000), rel=1e-15)
+    assert parse_quantity("1 mV/rpm", "back_emf_constant") == pytest.approx(60 / (2 * math.pi * 1000), rel=1e-15)
     assert parse_quantity("40 degC", "temperature") == pytest.approx(313.15, rel=1e-15)
     assert parse_quantity("-273.15 degC", "temperature") == 0.0
     assert parse_quantity("2 h", "time") == 7200.0
@@ -189,8 +185,7 @@ POWER_OF_TEN_UNITS = [
     (d, u)
     for d, u in ALL_UNITS
     if DIMENSIONS[d].units[u][1] == 0.0
-    and Fraction(DIMENSIONS[d].units[u][0]).limit_denominator(10**15)
-    in {Fraction(10) ** k for k in range(-12, 7)}
+    and Fraction(DIMENSIONS[d].units[u][0]).limit_denominator(10**15) in {Fraction(10) ** k for k in range(-12, 7)}
 ]
 
 
@@ -507,8 +502,6 @@ def test_module_does_not_import_pint():
         "bad = [m for m in sys.modules if m == 'pint' or m.startswith('pint.')]; "
         "print(bad); sys.exit(1 if bad else 0)"
     )
-    result = subprocess.run(
-        [sys.executable, "-c", code], cwd=root, capture_output=True, text=True, check=False
-    )
+    result = subprocess.run([sys.executable, "-c", code], cwd=root, capture_output=True, text=True, check=False)
     assert result.returncode == 0, result.stdout + result.stderr
     assert result.stdout.strip() == "[]"

@@ -40,9 +40,7 @@ BASELINE_FORMAT = 1
 MAX_BASELINE_BYTES = 64 * 1024 * 1024
 LOCK_TIMEOUT = 10.0
 
-_ENTRY_KEYS = frozenset(
-    {"fingerprint", "rule", "file", "pointer", "operating_point", "values", "count", "message"}
-)
+_ENTRY_KEYS = frozenset({"fingerprint", "rule", "file", "pointer", "operating_point", "values", "count", "message"})
 _TOP_KEYS = frozenset({"baseline_format", "entries"})
 _HEX32 = re.compile(r"^[0-9a-f]{32}$")
 _HEX16 = re.compile(r"^[0-9a-f]{16}$")
@@ -141,9 +139,7 @@ def key_of(finding: Finding, file: str | None = None) -> Entry:
     file = loc.file if file is None else file
     values = values_digest(finding.figures)
     fp = fingerprint(finding.rule, file, loc.pointer, finding.operating_point, values)
-    return Entry(
-        fp, finding.rule, file, loc.pointer, finding.operating_point, values, 1, finding.message
-    )
+    return Entry(fp, finding.rule, file, loc.pointer, finding.operating_point, values, 1, finding.message)
 
 
 # ------------------------------------------------------------------ reading
@@ -208,9 +204,7 @@ def parse(raw: bytes, display: str) -> Baseline:
     try:
         data = json.loads(text, object_pairs_hook=_pairs, parse_constant=_no_constant)
     except json.JSONDecodeError as exc:
-        raise _fail(
-            display, f"not valid JSON ({exc.msg}); the file may be truncated", exc.lineno, exc.colno
-        ) from None
+        raise _fail(display, f"not valid JSON ({exc.msg}); the file may be truncated", exc.lineno, exc.colno) from None
     except (ValueError, RecursionError) as exc:
         raise _fail(display, f"not valid JSON ({exc})") from None
     if not isinstance(data, dict):
@@ -240,9 +234,7 @@ def parse(raw: bytes, display: str) -> Baseline:
         seen[entry.fingerprint] += 1
         if seen[entry.fingerprint] > 1:
             line, col = _position(text, f'"{entry.fingerprint}"', seen[entry.fingerprint])
-            raise _fail(
-                display, f"entry {index}: duplicate fingerprint {entry.fingerprint}", line, col
-            )
+            raise _fail(display, f"entry {index}: duplicate fingerprint {entry.fingerprint}", line, col)
         entries.append(entry)
     return Baseline(display, tuple(entries))
 
@@ -276,8 +268,7 @@ def _entry(item: object, index: int, text: str, display: str) -> Entry:
     if expected != item["fingerprint"]:
         raise _fail(
             display,
-            f"{where}: the fingerprint does not match the entry's fields "
-            "(edited by hand?); write the baseline again",
+            f"{where}: the fingerprint does not match the entry's fields (edited by hand?); write the baseline again",
             line,
             col,
         )
@@ -325,8 +316,7 @@ def _entry_order(e: Entry) -> tuple:
 
 
 _UNSAFE_JSON = re.compile(
-    "[\x7f-\x9f\u00ad\u061c\u180e\u200b-\u200f\u202a-\u202e\u2060-\u2064\u2066-\u2069"
-    "\u2028\u2029\ufeff\ud800-\udfff]"
+    "[\x7f-\x9f\u00ad\u061c\u180e\u200b-\u200f\u202a-\u202e\u2060-\u2064\u2066-\u2069\u2028\u2029\ufeff\ud800-\udfff]"
 )
 
 

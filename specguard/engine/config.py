@@ -108,20 +108,14 @@ class RulePolicy(_Model):
             'for ratios, a value with its unit otherwise ("16 kHz")'
         ),
     )
-    waivable: bool | None = Field(
-        None, description="false: a waiver in a spec cannot accept findings of this rule"
-    )
+    waivable: bool | None = Field(None, description="false: a waiver in a spec cannot accept findings of this rule")
 
 
 class PathPolicy(_Model):
     """Overrides for the files whose path (relative to the policy file's folder) matches a glob."""
 
-    match: Glob = Field(
-        description="glob on the path relative to the policy file's folder, e.g. prototypes/**"
-    )
-    rules: dict[str, RulePolicy] = Field(
-        description="per rule id, the same keys as the top-level rules"
-    )
+    match: Glob = Field(description="glob on the path relative to the policy file's folder, e.g. prototypes/**")
+    rules: dict[str, RulePolicy] = Field(description="per rule id, the same keys as the top-level rules")
 
 
 class ConfigModel(_Model):
@@ -236,9 +230,7 @@ def catalogue_from_pack(pack) -> dict[str, RuleFacts]:
     return out
 
 
-def load_policy(
-    config_path: Path | None, root: Path, pack_cache: str | None = None, base: Path | None = None
-):
+def load_policy(config_path: Path | None, root: Path, pack_cache: str | None = None, base: Path | None = None):
     """The effective policy and the rule pack it selects (built-in rules plus the
     config's ``extra_rule_dirs``). ``base``: the folder its globs and rule
     directories are relative to (default: ``root``; a discovered policy file's own
@@ -264,10 +256,7 @@ def load_policy(
     # Team rule files are shown by their repo-relative path, never an absolute one.
     from dataclasses import replace as _replace
 
-    shown = {
-        rule: _replace(facts, origin=_strip_root(facts.origin, root))
-        for rule, facts in config.catalogue.items()
-    }
+    shown = {rule: _replace(facts, origin=_strip_root(facts.origin, root)) for rule, facts in config.catalogue.items()}
     return _replace(config, catalogue=shown), packs[-1]
 
 
@@ -293,9 +282,7 @@ def _pack_problem(line: str, root: Path) -> Finding:
             Location(match.group(1), int(match.group(2)), int(match.group(3))),
         )
     head, _, rest = line.partition(": ")
-    return Finding(
-        "config-invalid", "error", f"rule file: {rest or line}", Location(head or "?", 1, 1)
-    )
+    return Finding("config-invalid", "error", f"rule file: {rest or line}", Location(head or "?", 1, 1))
 
 
 def names_of(catalogue: Catalogue) -> dict[str, str]:
@@ -454,9 +441,7 @@ class EffectiveConfig:
                 self.file or "(none)",
                 "in use" if self.file else "no .specguard.yaml in force: built-in defaults only",
             ),
-            Explained(
-                "run", "fail_level", str(self.fail_level.value), self.fail_level.origin.describe()
-            ),
+            Explained("run", "fail_level", str(self.fail_level.value), self.fail_level.origin.describe()),
             Explained(
                 "run",
                 "include",
@@ -477,16 +462,18 @@ class EffectiveConfig:
             ),
         ]
         if changed:
-            moved = {"fail_level": self.fail_level, "include": self.include,
-                     "exclude": self.exclude, "extra_rule_dirs": self.extra_rule_dirs}
+            moved = {
+                "fail_level": self.fail_level,
+                "include": self.include,
+                "exclude": self.exclude,
+                "extra_rule_dirs": self.extra_rule_dirs,
+            }
             out = [out[0]] + [e for e in out[1:] if moved[e.key].origin.kind not in _DEFAULT_KINDS]
         for rule in sorted(self.catalogue):
             for key, setting in self._settings(rule, rel_path).items():
                 if changed and setting.origin.kind in _DEFAULT_KINDS:
                     continue
-                out.append(
-                    Explained(rule, key, _show(setting.value, key), setting.origin.describe())
-                )
+                out.append(Explained(rule, key, _show(setting.value, key), setting.origin.describe()))
         return out
 
     def changed_text(self, rel_path: str | None) -> str:
@@ -552,9 +539,7 @@ class _Locator:
             node = self.locations.get(probe)
             if node is not None:
                 span = node.key if (key and node.key is not None) else node.value
-                return Location(
-                    self.file, span.line, span.column, span.end_line, span.end_column, tuple(path)
-                )
+                return Location(self.file, span.line, span.column, span.end_line, span.end_column, tuple(path))
             if not probe:
                 return Location(self.file, 1, 1, path=tuple(path))
             probe = probe[:-1]
@@ -601,9 +586,7 @@ def _pydantic_findings(exc: ValidationError, locate: _Locator) -> list[Finding]:
         # A threshold is a union (text with unit, or number): one message for both members.
         elif "thresholds" in loc and len(loc) > loc.index("thresholds") + 2:
             loc = loc[: loc.index("thresholds") + 2]
-            finding = _bad(
-                locate, loc, "expected a number, or a value with its unit such as '16 kHz'"
-            )
+            finding = _bad(locate, loc, "expected a number, or a value with its unit such as '16 kHz'")
         elif kind == "extra_forbidden":
             model = _model_for(loc[:-1])
             known = list(model.model_fields) if model else []
@@ -611,9 +594,7 @@ def _pydantic_findings(exc: ValidationError, locate: _Locator) -> list[Finding]:
             hint = difflib.get_close_matches(name, known, n=1, cutoff=0.6)
             message = f"unknown key '{name}'"
             message += (
-                f"; did you mean '{hint[0]}'?"
-                if hint
-                else (f" (allowed here: {', '.join(known)})" if known else "")
+                f"; did you mean '{hint[0]}'?" if hint else (f" (allowed here: {', '.join(known)})" if known else "")
             )
             where = dotted(loc[:-1])
             finding = Finding(
@@ -754,9 +735,7 @@ def validate(
 
     problems: list[Finding] = []
 
-    def origin(
-        path: tuple, kind: str = "config", entry: int | None = None, match: str | None = None
-    ) -> Origin:
+    def origin(path: tuple, kind: str = "config", entry: int | None = None, match: str | None = None) -> Origin:
         loc = locate(path)
         return Origin(kind, display, loc.line, loc.column, entry, match)  # type: ignore[arg-type]
 
@@ -774,9 +753,7 @@ def validate(
                 problems.append(_bad(locate, (key, i), f"'{pattern}' must not contain '..'"))
     for i, entry in enumerate(model.paths):
         if any(seg == ".." for seg in entry.match.split("/")):
-            problems.append(
-                _bad(locate, ("paths", i, "match"), f"'{entry.match}' must not contain '..'")
-            )
+            problems.append(_bad(locate, ("paths", i, "match"), f"'{entry.match}' must not contain '..'"))
     if problems:
         raise ConfigError(problems)
 
@@ -812,8 +789,7 @@ def validate(
                     _bad(
                         locate,
                         here,
-                        f"rule '{rule}' is configured twice (as "
-                        f"'{written_as[rule]}' and as '{name}')",
+                        f"rule '{rule}' is configured twice (as '{written_as[rule]}' and as '{name}')",
                         key=True,
                     )
                 )
@@ -839,9 +815,7 @@ def validate(
                     )
                     continue
                 why = (
-                    facts.check(band, value)
-                    if facts.check is not None
-                    else _threshold_problem(value, facts.dimension)
+                    facts.check(band, value) if facts.check is not None else _threshold_problem(value, facts.dimension)
                 )
                 if why is not None:
                     problems.append(_bad(locate, where, why))

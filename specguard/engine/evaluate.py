@@ -98,9 +98,7 @@ def parse_rule_bytes(raw: bytes, display: str, examples_dirs: tuple, builtin: bo
         for err in exc.errors(include_url=False):
             loc = tuple(p for p in err.get("loc", ()) if isinstance(p, (str, int)))
             kind = err.get("type", "")
-            line, col = _locate_in(
-                result, loc if kind != "missing" else loc[:-1], key=kind == "extra_forbidden"
-            )
+            line, col = _locate_in(result, loc if kind != "missing" else loc[:-1], key=kind == "extra_forbidden")
             where = dotted(loc) or "rule"
             msg = err.get("msg", "invalid value")
             if kind == "extra_forbidden":
@@ -131,9 +129,7 @@ def _is_file(folder, name: str) -> bool:
         return False
 
 
-def _read_dir(
-    folder, display_prefix: str, examples_dirs: tuple, builtin: bool
-) -> tuple[list[PackRule], list[str]]:
+def _read_dir(folder, display_prefix: str, examples_dirs: tuple, builtin: bool) -> tuple[list[PackRule], list[str]]:
     rules: list[PackRule] = []
     problems: list[str] = []
     entries = sorted(
@@ -214,8 +210,7 @@ def _read_pack_cache(path: str, examples) -> tuple[PackRule, ...] | None:
         if document.get("pack_cache_format") != PACK_CACHE_FORMAT:
             return None
         return tuple(
-            compile_rule(_construct(Rule, item["rule"]), item["source"], examples, True)
-            for item in document["rules"]
+            compile_rule(_construct(Rule, item["rule"]), item["source"], examples, True) for item in document["rules"]
         )
     except Exception:  # damaged, foreign or unreadable entry: parse the pack instead
         return None
@@ -283,9 +278,7 @@ def load_pack(extra_dirs: Sequence[Path] = (), pack_cache: str | None = None) ->
         if not directory.is_dir():
             problems.append(f"{directory.as_posix()}: rule directory not found")
             continue
-        found, errs = _read_dir(
-            directory, directory.as_posix(), (directory / EXAMPLES_FOLDER, builtin_examples), False
-        )
+        found, errs = _read_dir(directory, directory.as_posix(), (directory / EXAMPLES_FOLDER, builtin_examples), False)
         rules.extend(found)
         problems.extend(errs)
     by_id: dict[str, PackRule] = {}
@@ -294,9 +287,7 @@ def load_pack(extra_dirs: Sequence[Path] = (), pack_cache: str | None = None) ->
         for name in (prule.id, *prule.rule.aliases):
             other = by_id.get(name) or (by_id.get(aliases[name]) if name in aliases else None)
             if other is not None:
-                problems.append(
-                    f"{prule.source}:1:1: rule id or alias '{name}' is already used by {other.source}"
-                )
+                problems.append(f"{prule.source}:1:1: rule id or alias '{name}' is already used by {other.source}")
         by_id.setdefault(prule.id, prule)
         for alias in prule.rule.aliases:
             aliases.setdefault(alias, prule.id)
@@ -321,10 +312,7 @@ def example_data(prule: PackRule, which: str) -> dict:
     result = load_bytes(entry.read_bytes(), f"examples/{name}")
     if result.data is None:
         raise PackError(
-            [
-                f"examples/{name}:{f.location.line}:{f.location.column}: {f.message}"
-                for f in result.findings
-            ]
+            [f"examples/{name}:{f.location.line}:{f.location.column}: {f.message}" for f in result.findings]
         )
     overlay = prule.rule.examples.pass_ if which == "pass" else prule.rule.examples.fail
     merged = merge_overlay(result.data, overlay)
@@ -342,18 +330,14 @@ def effective_bands(prule: PackRule, override: RuleOverride | None) -> tuple[Com
     out = []
     for severity in override.thresholds:
         if severity not in by_severity:
-            raise OverrideError(
-                f"rule '{prule.id}' has no {severity} band (it has: {', '.join(by_severity)})"
-            )
+            raise OverrideError(f"rule '{prule.id}' has no {severity} band (it has: {', '.join(by_severity)})")
     for band in prule.bands:
         if band.severity in override.thresholds:
             written = override.thresholds[band.severity]
             try:
                 value = threshold_si(written, figure, band.comparator)
             except ValueError as exc:
-                raise OverrideError(
-                    f"rule '{prule.id}', {band.severity} threshold: {exc}"
-                ) from None
+                raise OverrideError(f"rule '{prule.id}', {band.severity} threshold: {exc}") from None
             band = CompiledBand(band.severity, band.comparator, value, written)
         out.append(band)
     return tuple(out)
@@ -554,9 +538,7 @@ def _evaluate_rule(
     return out
 
 
-def _finding(
-    prule, spec, figures, locate, override, band, lowest, values, point, point_index, remedy_fn
-) -> Finding:
+def _finding(prule, spec, figures, locate, override, band, lowest, values, point, point_index, remedy_fn) -> Finding:
     rule = prule.rule
     index = point_index.get(point) if point is not None else None
     limit = format_value(band.threshold, prule.figure.dimension)
@@ -633,15 +615,9 @@ def evaluate(
         if override is not None and not override.enabled:
             continue
         if override is not None and override.thresholds:
-            effective_bands(
-                prule, override
-            )  # a bad override is a config error, not an internal one
+            effective_bands(prule, override)  # a bad override is a config error, not an internal one
         try:
-            out.extend(
-                _evaluate_rule(
-                    prule, spec, figures, locate, override, point_values, point_index, remedy
-                )
-            )
+            out.extend(_evaluate_rule(prule, spec, figures, locate, override, point_values, point_index, remedy))
         except (KeyboardInterrupt, SystemExit, OverrideError):
             raise
         except Exception as exc:

@@ -40,16 +40,12 @@ COMPARATOR_WORDS = {
     "is": "is",
 }
 # Words a rule id may not contain: severity is configuration, not identity.
-SEVERITY_WORDS = frozenset(
-    {"error", "errors", "warning", "warn", "info", "notice", "fatal", "critical"}
-)
+SEVERITY_WORDS = frozenset({"error", "errors", "warning", "warn", "info", "notice", "fatal", "critical"})
 # Placeholders a message may use besides the figure names.
 SPECIAL_PLACEHOLDERS = ("limit", "point")
 POINT = "{point}"
 
-_CONFIG = ConfigDict(
-    strict=True, extra="forbid", frozen=True, hide_input_in_errors=True, defer_build=True
-)
+_CONFIG = ConfigDict(strict=True, extra="forbid", frozen=True, hide_input_in_errors=True, defer_build=True)
 
 
 def _as_tuple(value: object) -> object:
@@ -58,9 +54,7 @@ def _as_tuple(value: object) -> object:
 
 AsTuple = BeforeValidator(_as_tuple)
 
-RuleId = Annotated[
-    str, StringConstraints(min_length=3, max_length=63, pattern=r"^[a-z]+(?:-[a-z]+)+$")
-]
+RuleId = Annotated[str, StringConstraints(min_length=3, max_length=63, pattern=r"^[a-z]+(?:-[a-z]+)+$")]
 # A document path, slash-separated keys; the rule's "at" and "related" may hold {point}.
 DocPath = Annotated[
     str,
@@ -69,9 +63,7 @@ DocPath = Annotated[
 FigureName = Annotated[str, StringConstraints(pattern=r"^[a-z][a-z0-9_]*$", max_length=64)]
 Line = Annotated[str, StringConstraints(min_length=1, max_length=200)]
 Paragraph = Annotated[str, StringConstraints(min_length=1, max_length=2000)]
-Tag = Annotated[
-    str, StringConstraints(min_length=1, max_length=64, pattern=r"^[A-Za-z0-9][A-Za-z0-9_.\-]*$")
-]
+Tag = Annotated[str, StringConstraints(min_length=1, max_length=64, pattern=r"^[A-Za-z0-9][A-Za-z0-9_.\-]*$")]
 Threshold = float | Annotated[str, StringConstraints(min_length=1, max_length=40)]
 
 
@@ -83,16 +75,12 @@ class Band(_Model):
     """One threshold band: the finding takes ``severity`` when the figure's value
     passes the one comparator given (the most severe matching band wins)."""
 
-    severity: Literal["error", "warning", "info"] = Field(
-        description="severity of a finding in this band"
-    )
+    severity: Literal["error", "warning", "info"] = Field(description="severity of a finding in this band")
     above: Threshold | None = Field(None, description="matches when the value is greater than this")
     below: Threshold | None = Field(None, description="matches when the value is less than this")
     at_least: Threshold | None = Field(None, description="matches when the value is this or more")
     at_most: Threshold | None = Field(None, description="matches when the value is this or less")
-    is_: bool | None = Field(
-        None, alias="is", description="for flag figures: matches when the flag has this value"
-    )
+    is_: bool | None = Field(None, alias="is", description="for flag figures: matches when the flag has this value")
 
     @property
     def comparator(self) -> str:
@@ -165,13 +153,9 @@ class Rule(_Model):
     """One rule of the pack: a figure, its threshold bands and everything a
     reviewer needs to act on a finding."""
 
-    id: RuleId = Field(
-        description="stable id: lower-case words joined by hyphens, never encoding a severity"
-    )
+    id: RuleId = Field(description="stable id: lower-case words joined by hyphens, never encoding a severity")
     title: Line = Field(description="one line saying what a finding means")
-    figure: FigureName = Field(
-        description="the figure the rule judges (a name of the figure registry)"
-    )
+    figure: FigureName = Field(description="the figure the rule judges (a name of the figure registry)")
     scope: Literal["point", "axis"] = Field(
         description="point: judged at each operating point; axis: once per spec (must match the figure's scope)"
     )
@@ -179,9 +163,7 @@ class Rule(_Model):
         min_length=1, max_length=3, description="threshold bands, one per severity"
     )
     applies: Applies = Field(default_factory=Applies, description="which specs the rule applies to")
-    at: DocPath = Field(
-        description="document path the finding points at; {point} is the operating point's index"
-    )
+    at: DocPath = Field(description="document path the finding points at; {point} is the operating point's index")
     related: Annotated[tuple[DocPath, ...], AsTuple] = Field(
         (),
         description="further document paths shown as related locations (when present in the spec)",
@@ -200,9 +182,7 @@ class Rule(_Model):
     remedies: Annotated[tuple[FigureName, ...], AsTuple] = Field(
         (), description="remedies to compute (names of the remedy registry)"
     )
-    aliases: Annotated[tuple[RuleId, ...], AsTuple] = Field(
-        (), description="former ids of this rule"
-    )
+    aliases: Annotated[tuple[RuleId, ...], AsTuple] = Field((), description="former ids of this rule")
     examples: Examples
 
     @property
@@ -262,9 +242,7 @@ def threshold_si(value: object, figure: FigureDef, comparator: str) -> float | b
         raise ValueError(f"'is' is for flag figures; '{figure.name}' is a {figure.dimension}")
     if figure.dimension == "ratio":
         if isinstance(value, bool) or not isinstance(value, (int, float)):
-            raise ValueError(
-                f"figure '{figure.name}' is a ratio: write a plain number (0.2 for 20 %)"
-            )
+            raise ValueError(f"figure '{figure.name}' is a ratio: write a plain number (0.2 for 20 %)")
         return float(value)
     if not isinstance(value, str):
         raise ValueError(
@@ -331,9 +309,7 @@ def semantic_problems(rule: Rule, file_stem: str | None = None) -> list[tuple[tu
     for i, band in enumerate(rule.bands):
         comps = band.comparators
         if len(comps) != 1:
-            out.append(
-                (("bands", i), "a band takes exactly one of above, below, at_least, at_most, is")
-            )
+            out.append((("bands", i), "a band takes exactly one of above, below, at_least, at_most, is"))
             continue
         if band.severity in seen_severities:
             out.append(
@@ -350,9 +326,7 @@ def semantic_problems(rule: Rule, file_stem: str | None = None) -> list[tuple[tu
             except ValueError as exc:
                 out.append((("bands", i, key), str(exc)))
     if figure is not None and figure.dimension == "flag" and rule.remedies:
-        out.append(
-            (("remedies",), "a rule on a flag figure has no threshold to compute remedies for")
-        )
+        out.append((("remedies",), "a rule on a flag figure has no threshold to compute remedies for"))
     try:
         names = template_names(rule.message)
     except ValueError as exc:
@@ -369,8 +343,7 @@ def semantic_problems(rule: Rule, file_stem: str | None = None) -> list[tuple[tu
             out.append(
                 (
                     ("message",),
-                    f"unknown placeholder {{{name}}}"
-                    + (f"; did you mean {{{hint}}}?" if hint else ""),
+                    f"unknown placeholder {{{name}}}" + (f"; did you mean {{{hint}}}?" if hint else ""),
                 )
             )
         elif fdef.scope == "point" and rule.scope == "axis":
@@ -452,14 +425,10 @@ class PackRule:
         return tuple(names)
 
 
-def compile_rule(
-    rule: Rule, source: str, examples_dirs: tuple[Any, ...], builtin: bool
-) -> PackRule:
+def compile_rule(rule: Rule, source: str, examples_dirs: tuple[Any, ...], builtin: bool) -> PackRule:
     figure = FIGURE_DEFS[rule.figure]
     bands = [
-        CompiledBand(
-            b.severity, b.comparator, threshold_si(b.threshold, figure, b.comparator), b.threshold
-        )
+        CompiledBand(b.severity, b.comparator, threshold_si(b.threshold, figure, b.comparator), b.threshold)
         for b in rule.bands
     ]
     bands.sort(key=lambda b: -SEVERITY_RANK[b.severity])

@@ -66,9 +66,7 @@ def apply_waivers(
         base = ("waivers", index)
         rule = (names or {}).get(waiver.rule, waiver.rule)
 
-        def problem(
-            message: str, severity: Severity = "error", field: str | None = None, base: tuple = base
-        ) -> None:
+        def problem(message: str, severity: Severity = "error", field: str | None = None, base: tuple = base) -> None:
             loc, related = locate(base + ((field,) if field else ()))
             problems.append(Finding("waiver-invalid", severity, message, loc, related))
 

@@ -280,9 +280,7 @@ def _electrical(spec: Spec, ax: _Axis, speed: float, torque: float) -> dict[str,
         current = P.operating.current_for_torque(torque, _torque_constant_model(spec), no_load)
         emf = P.operating.back_emf(emf_constant, speed)
         v_term = P.operating.terminal_voltage_dc(emf_constant, speed, current, ax.motor_resistance_hot)
-        m = P.operating.modulation_required(
-            v_term, V, current, ax.series_resistance, ax.dead_time, ax.f_leg, ax.scheme
-        )
+        m = P.operating.modulation_required(v_term, V, current, ax.series_resistance, ax.dead_time, ax.f_leg, ax.scheme)
         m_max = P.operating.modulation_max(ax.max_duty, ax.scheme)
         m_clip = _clip(m, 0.0, 1.0)
         ripple = P.hbridge.ripple_exact(V, ax.inductance, ax.resistance_hot, ax.f_leg, m_clip, ax.scheme, emf)
@@ -380,21 +378,23 @@ def compute(spec: Spec, settings: FigureSettings | None = None) -> FigureSet:
     for point in spec.operating_points:
         e = _electrical(spec, ax, point.speed, point.torque)
         elec.append(e)
-        rows.append({
-            "speed": point.speed,
-            "torque": point.torque,
-            "ambient": point.ambient,
-            "current": e["current"],
-            "terminal_voltage": e["terminal_voltage"],
-            "modulation": e["modulation"],
-            "duty": e["duty"],
-            "modulation_ratio": e["modulation_ratio"],
-            "ripple_pp": e["ripple_pp"],
-            "ripple_pp_catalogue": e["ripple_pp_catalogue"],
-            "ripple_ratio": e["ripple_pp"] / rated,
-            "ripple_rms": e["ripple_rms"],
-            "rms_current": e["rms_current"],
-        })
+        rows.append(
+            {
+                "speed": point.speed,
+                "torque": point.torque,
+                "ambient": point.ambient,
+                "current": e["current"],
+                "terminal_voltage": e["terminal_voltage"],
+                "modulation": e["modulation"],
+                "duty": e["duty"],
+                "modulation_ratio": e["modulation_ratio"],
+                "ripple_pp": e["ripple_pp"],
+                "ripple_pp_catalogue": e["ripple_pp_catalogue"],
+                "ripple_ratio": e["ripple_pp"] / rated,
+                "ripple_rms": e["ripple_rms"],
+                "rms_current": e["rms_current"],
+            }
+        )
     worst = _worst_ripple(spec, ax, ax.inductance)
     axis["ripple_pp_worst"] = worst
     axis["ripple_ratio_worst"] = worst / rated
@@ -506,9 +506,22 @@ def _supply_window(spec, ax, elec, settings, axis, missing):
         for e in elec:
             if e is worst:
                 continue
-            v_max = min(v_max, float(P.operating.supply_voltage_max_ripple(
-                e["terminal_voltage"], ax.inductance, ax.resistance_hot, ax.f_leg, limit, ax.scheme,
-                e["current"], ax.series_resistance, ax.dead_time)))
+            v_max = min(
+                v_max,
+                float(
+                    P.operating.supply_voltage_max_ripple(
+                        e["terminal_voltage"],
+                        ax.inductance,
+                        ax.resistance_hot,
+                        ax.f_leg,
+                        limit,
+                        ax.scheme,
+                        e["current"],
+                        ax.series_resistance,
+                        ax.dead_time,
+                    )
+                ),
+            )
     else:
         v_ph = worst["phase_voltage_peak"]
         v_min = float(P.operating.supply_voltage_min_sinusoidal(v_ph, ax.scheme, ax.max_duty, ax.dead_time, ax.f_leg))
@@ -522,8 +535,12 @@ def _supply_window(spec, ax, elec, settings, axis, missing):
         # fixed operating point (docs/physics.md §2.3); every point must stay within it
         limit = settings.ripple_limit_ratio * rated
         for e in elec:
-            v_max = min(v_max, P.threephase.supply_voltage_max_for_phase_ripple(
-                e["phase_voltage_peak"], ax.inductance, ax.f_leg, ax.scheme, limit))
+            v_max = min(
+                v_max,
+                P.threephase.supply_voltage_max_for_phase_ripple(
+                    e["phase_voltage_peak"], ax.inductance, ax.f_leg, ax.scheme, limit
+                ),
+            )
     axis["supply_min"] = v_min
     if math.isfinite(v_max):
         axis["supply_max"] = v_max
@@ -550,8 +567,16 @@ def _constant_mismatch(spec: Spec) -> float:
 
 def _thermal(spec, ax, elec, rows, axis, missing, notes):
     thermal = spec.motor.thermal
-    names = ("rms_current_ratio", "continuous_current_max", "winding_temperature", "winding_margin",
-             "runaway_number", "profile_peak_temperature", "profile_mean_temperature", "profile_margin")
+    names = (
+        "rms_current_ratio",
+        "continuous_current_max",
+        "winding_temperature",
+        "winding_margin",
+        "runaway_number",
+        "profile_peak_temperature",
+        "profile_mean_temperature",
+        "profile_margin",
+    )
     if thermal is None:
         for name in names:
             missing[name] = "the spec has no motor.thermal data"
@@ -705,15 +730,25 @@ def remedy(name: str, spec: Spec, figures: FigureSet, *, point: str | None, limi
         if three:
             M = modulation if modulation is not None else P.threephase.modulation_index_limit(ax.scheme)
             value = P.remedies.added_phase_inductance_min(
-                V, ax.inductance, ax.f_leg, min(M, P.threephase.modulation_index_limit(ax.scheme)), ax.scheme,
-                rated, limit)
+                V,
+                ax.inductance,
+                ax.f_leg,
+                min(M, P.threephase.modulation_index_limit(ax.scheme)),
+                ax.scheme,
+                rated,
+                limit,
+            )
             where = "per phase (one choke in each phase)"
         else:
             m = None if modulation is None else min(max(modulation, 0.0), 1.0)
             value = P.remedies.added_inductance_min(
-                V, ax.inductance, ax.resistance_hot, ax.f_leg, ax.scheme, rated, limit, modulation=m)
-            where = ("in total, split over both motor leads" if ax.topology == "dc"
-                     else "in the two conducting phases together")
+                V, ax.inductance, ax.resistance_hot, ax.f_leg, ax.scheme, rated, limit, modulation=m
+            )
+            where = (
+                "in total, split over both motor leads"
+                if ax.topology == "dc"
+                else "in the two conducting phases together"
+            )
             if value is not None and ax.topology == "dc" and value > 0:
                 return Remedy(name, f"add at least {_fmt(value / 2.0, 'inductance')} per lead", float(value) / 2.0, "H")
         if value is None:
@@ -725,11 +760,13 @@ def remedy(name: str, spec: Spec, figures: FigureSet, *, point: str | None, limi
         if three:
             M = modulation if modulation is not None else P.threephase.modulation_index_limit(ax.scheme)
             value = P.remedies.pwm_frequency_min_three_phase(
-                V, ax.inductance, min(M, P.threephase.modulation_index_limit(ax.scheme)), ax.scheme, rated, limit)
+                V, ax.inductance, min(M, P.threephase.modulation_index_limit(ax.scheme)), ax.scheme, rated, limit
+            )
         else:
             m = None if modulation is None else min(max(modulation, 0.0), 1.0)
             value = P.remedies.pwm_frequency_min(
-                V, ax.inductance, ax.resistance_hot, ax.scheme, rated, limit, modulation=m)
+                V, ax.inductance, ax.resistance_hot, ax.scheme, rated, limit, modulation=m
+            )
         if value is None:
             return Remedy(name, "no PWM frequency below 1 MHz reaches the limit", None, "Hz")
         if value <= 0 or value <= ax.f_leg:
@@ -742,7 +779,8 @@ def remedy(name: str, spec: Spec, figures: FigureSet, *, point: str | None, limi
             point_values = next(values for n, values in figures.points if n == point)
             phase_peak = float(point_values["terminal_voltage"]) / SQRT3  # peak line-to-line / sqrt3
             value = P.threephase.supply_voltage_max_for_phase_ripple(
-                phase_peak, ax.inductance, ax.f_leg, ax.scheme, limit * rated)
+                phase_peak, ax.inductance, ax.f_leg, ax.scheme, limit * rated
+            )
             if value == 0.0:
                 return Remedy(
                     name,
@@ -761,7 +799,12 @@ def remedy(name: str, spec: Spec, figures: FigureSet, *, point: str | None, limi
         elif point is not None:
             point_values = next(values for n, values in figures.points if n == point)
             value = P.remedies.supply_voltage_max_for_ripple(
-                ax.inductance, ax.resistance_hot, ax.f_leg, ax.scheme, rated, limit,
+                ax.inductance,
+                ax.resistance_hot,
+                ax.f_leg,
+                ax.scheme,
+                rated,
+                limit,
                 terminal_voltage=float(point_values["terminal_voltage"]),
                 current=float(point_values["current"]),
                 series_resistance=ax.series_resistance,
@@ -769,7 +812,8 @@ def remedy(name: str, spec: Spec, figures: FigureSet, *, point: str | None, limi
             )
         else:
             value = P.remedies.supply_voltage_max_for_ripple(
-                ax.inductance, ax.resistance_hot, ax.f_leg, ax.scheme, rated, limit)
+                ax.inductance, ax.resistance_hot, ax.f_leg, ax.scheme, rated, limit
+            )
         if value is None or not math.isfinite(value) or value >= V:
             return None
         needed = figures.value("supply_min")
@@ -789,8 +833,10 @@ def remedy(name: str, spec: Spec, figures: FigureSet, *, point: str | None, limi
         value = V * float(needed) / limit  # m scales as 1/V for fixed terminal voltage
         if value >= V:
             return None
-        text = (f"lower the supply to at most {_fmt(value, 'voltage')} "
-                f"(modulation then {limit:.0%} at the most demanding point)")
+        text = (
+            f"lower the supply to at most {_fmt(value, 'voltage')} "
+            f"(modulation then {limit:.0%} at the most demanding point)"
+        )
         return Remedy(name, text, value, "V")
     if name == "supply_voltage_min":
         value = figures.value("supply_min")
@@ -800,8 +846,10 @@ def remedy(name: str, spec: Spec, figures: FigureSet, *, point: str | None, limi
     if name == "pwm_frequency_inaudible":
         ratio = ax.f_ripple / ax.f_leg
         value = limit / ratio
-        text = (f"raise the PWM frequency to at least {_fmt(value, 'frequency')} per leg "
-                f"(ripple then at {_fmt(limit, 'frequency')})")
+        text = (
+            f"raise the PWM frequency to at least {_fmt(value, 'frequency')} per leg "
+            f"(ripple then at {_fmt(limit, 'frequency')})"
+        )
         return Remedy(name, text, value, "Hz")
     if name == "choke_saturation_current":
         i_pk = figures.value("choke_peak_current")
@@ -881,8 +929,10 @@ def _plausibility(spec, ax, elec, rows, axis, missing):
         axis["table_resistance_ratio_max"] = max(ratios)
         axis["table_resistance_falling"] = any(b < a for a, b in zip(ratios, ratios[1:], strict=False))
     else:
-        lack(("table_resistance_ratio_min", "table_resistance_ratio_max", "table_resistance_falling"),
-             "the inductance table gives no series_resistance")
+        lack(
+            ("table_resistance_ratio_min", "table_resistance_ratio_max", "table_resistance_falling"),
+            "the inductance table gives no series_resistance",
+        )
 
     # currents and torque
     kt = _torque_constant_model(spec)
@@ -902,8 +952,15 @@ def _plausibility(spec, ax, elec, rows, axis, missing):
     # thermal data against each other and against the rated current
     limit = ax.temperature_limit
     if thermal is None:
-        lack(("rated_current_thermal_ratio", "thermal_time_constant_ratio", "thermal_resistance_ratio",
-              "winding_limit_over_class"), "the spec has no motor.thermal data")
+        lack(
+            (
+                "rated_current_thermal_ratio",
+                "thermal_time_constant_ratio",
+                "thermal_resistance_ratio",
+                "winding_limit_over_class",
+            ),
+            "the spec has no motor.thermal data",
+        )
     else:
         axis["thermal_resistance_ratio"] = thermal.winding_to_housing / thermal.housing_to_ambient
         if thermal.winding_time_constant is not None and thermal.motor_time_constant is not None:
@@ -917,13 +974,16 @@ def _plausibility(spec, ax, elec, rows, axis, missing):
             axis["rated_current_thermal_ratio"] = rated / max(float(i_max), 1e-300)
         else:
             missing["rated_current_thermal_ratio"] = ax.missing.get(
-                "winding_temperature_limit", "the temperature limit is not above 25 degC")
+                "winding_temperature_limit", "the temperature limit is not above 25 degC"
+            )
         if thermal.max_winding_temperature is not None and thermal.insulation_class is not None:
             axis["winding_limit_over_class"] = thermal.max_winding_temperature - float(
-                P.thermal.insulation_class_temperature(thermal.insulation_class))
+                P.thermal.insulation_class_temperature(thermal.insulation_class)
+            )
         else:
             missing["winding_limit_over_class"] = (
-                "motor.thermal does not give both max_winding_temperature and insulation_class")
+                "motor.thermal does not give both max_winding_temperature and insulation_class"
+            )
 
     # mechanics: mechanical time constant, inertia ratio, speeds
     if motor.rotor_inertia is not None:
@@ -933,19 +993,18 @@ def _plausibility(spec, ax, elec, rows, axis, missing):
         )
         if motor.mechanical_time_constant is not None:
             tau = axis["mechanical_time_constant"]
-            axis["mechanical_time_constant_mismatch"] = (
-                abs(motor.mechanical_time_constant - tau) / max(tau, 1e-300)
-            )
+            axis["mechanical_time_constant_mismatch"] = abs(motor.mechanical_time_constant - tau) / max(tau, 1e-300)
         else:
-            missing["mechanical_time_constant_mismatch"] = (
-                "the spec does not give motor.mechanical_time_constant")
+            missing["mechanical_time_constant_mismatch"] = "the spec does not give motor.mechanical_time_constant"
         if spec.load is not None:
             axis["inertia_ratio"] = spec.load.inertia / motor.rotor_inertia
         else:
             missing["inertia_ratio"] = "the spec gives no load.inertia"
     else:
-        lack(("mechanical_time_constant", "mechanical_time_constant_mismatch", "inertia_ratio"),
-             "the spec does not give motor.rotor_inertia")
+        lack(
+            ("mechanical_time_constant", "mechanical_time_constant_mismatch", "inertia_ratio"),
+            "the spec does not give motor.rotor_inertia",
+        )
     v_high = _highest_supply(spec)
     if ax.topology in ("dc", "six-step"):
         no_load = v_high / _loop_emf_constant(spec)
@@ -966,8 +1025,7 @@ def _plausibility(spec, ax, elec, rows, axis, missing):
         else:
             missing["profile_speed_ratio"] = "the spec has no motion profile"
     else:
-        lack(("speed_ratio", "max_speed_over_no_load", "profile_speed_ratio"),
-             "the spec does not give motor.max_speed")
+        lack(("speed_ratio", "max_speed_over_no_load", "profile_speed_ratio"), "the spec does not give motor.max_speed")
     if motor.type == "three-phase" and motor.pole_pairs is not None:
         top = motor.max_speed if motor.max_speed is not None else max(speeds + profile_speeds)
         f_el = motor.pole_pairs * top / (2.0 * math.pi)
@@ -1012,8 +1070,10 @@ def _plausibility(spec, ax, elec, rows, axis, missing):
         else:
             missing["trip_over_rating"] = "the spec does not give stage.overvoltage_trip"
     else:
-        lack(("rating_margin", "stage_rating_over_supply", "trip_over_rating"),
-             "the spec does not give stage.max_supply_voltage")
+        lack(
+            ("rating_margin", "stage_rating_over_supply", "trip_over_rating"),
+            "the spec does not give stage.max_supply_voltage",
+        )
 
     # PWM timing
     period = 1.0 / ax.f_leg
@@ -1050,8 +1110,10 @@ def _plausibility(spec, ax, elec, rows, axis, missing):
     else:
         for row in rows:
             row.pop("stage_current_ratio", None)
-        lack(("stage_current_ratio", "stage_to_motor_current", "stage_peak_over_continuous"),
-             "the spec has no stage.current_limit")
+        lack(
+            ("stage_current_ratio", "stage_to_motor_current", "stage_peak_over_continuous"),
+            "the spec has no stage.current_limit",
+        )
     if stage.current_loop is not None:
         axis["current_loop_bandwidth"] = stage.current_loop.bandwidth
     else:
@@ -1074,8 +1136,10 @@ def _plausibility(spec, ax, elec, rows, axis, missing):
         else:
             missing["choke_saturation_over_rated"] = "the spec lacks chokes.saturation_current or chokes.rated_current"
     else:
-        lack(("choke_to_motor_inductance", "choke_time_constant", "choke_saturation_over_rated"),
-             "the spec has no chokes")
+        lack(
+            ("choke_to_motor_inductance", "choke_time_constant", "choke_saturation_over_rated"),
+            "the spec has no chokes",
+        )
     cable = spec.cable
     if cable is not None and cable.length is not None and cable.resistance > 0:
         # resistance of one conductor against a 1 mm^2 copper conductor of the same length

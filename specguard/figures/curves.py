@@ -158,8 +158,11 @@ def _worst_ripple(voltage, inductance, resistance, frequency, fam, scheme, max_d
     # worst case over the modulation indices the stage can reach.
     if np.ndim(frequency):
         raise ValueError("three-phase worst case: one frequency at a time")
-    top = float(operating.modulation_index(
-        operating.phase_voltage_peak_max(voltage, scheme, max_duty, dead_time, float(frequency)), voltage))
+    top = float(
+        operating.modulation_index(
+            operating.phase_voltage_peak_max(voltage, scheme, max_duty, dead_time, float(frequency)), voltage
+        )
+    )
     top = min(top, threephase.modulation_index_limit(scheme))
     grid = np.linspace(0.0, top, _MODULATION_GRID)
     shape = np.broadcast(inductance, frequency).shape
@@ -225,9 +228,7 @@ def current_waveform(spec, figures, point: str | None = None) -> Waveform | None
         time=time,
         current=amps,
         average=float(hbridge.current_average(voltage, modulation, back_emf, resistance)),
-        peak_to_peak=float(
-            hbridge.ripple_peak_to_peak(voltage, inductance, resistance, frequency, modulation, scheme)
-        ),
+        peak_to_peak=float(hbridge.ripple_peak_to_peak(voltage, inductance, resistance, frequency, modulation, scheme)),
         rated_current=rated,
         modulation=modulation,
         back_emf=back_emf,
@@ -253,8 +254,9 @@ def ripple_vs_frequency(spec, figures, fraction: float = DEFAULT_RIPPLE_FRACTION
     x = np.geomspace(frequency / 4.0, frequency * 4.0, SWEEP_POINTS)
     if fam == "sinusoidal":
         # the reachable modulation depends on the frequency through the dead-time loss
-        ripple = np.array([float(_worst_ripple(voltage, inductance, resistance, f, fam, scheme, max_duty, dead))
-                           for f in x])
+        ripple = np.array(
+            [float(_worst_ripple(voltage, inductance, resistance, f, fam, scheme, max_duty, dead)) for f in x]
+        )
     else:
         ripple = _worst_ripple(voltage, inductance, resistance, x, fam, scheme, max_duty)
     at_setting = float(_worst_ripple(voltage, inductance, resistance, frequency, fam, scheme, max_duty, dead))
@@ -287,7 +289,8 @@ def ripple_vs_added_inductance(spec, figures, fraction: float = DEFAULT_RIPPLE_F
         bridge = scheme if fam == "hbridge" else threephase.six_step_equivalent_scheme(scheme)
         value = _finite(
             remedies.added_inductance_min(
-                voltage, inductance, resistance, frequency, bridge, limit / fraction, fraction)
+                voltage, inductance, resistance, frequency, bridge, limit / fraction, fraction
+            )
         )
         needed = None if value is None else value / factor
     span = max(2.0 * needed if needed else 0.0, 4.0 * inductance / factor)
@@ -380,8 +383,9 @@ def profile_temperature(spec, figures=None) -> ProfileTrace | None:
     total = sum(s.duration for s in segments)
     starts = np.cumsum([0.0] + [s.duration for s in segments[:-1]])
     if whole.runaway:
-        return ProfileTrace(np.array([0.0, total]), np.array([math.inf, math.inf]), starts,
-                            math.inf, math.inf, limit, True)
+        return ProfileTrace(
+            np.array([0.0, total]), np.array([math.inf, math.inf]), starts, math.inf, math.inf, limit, True
+        )
     pieces: list[thermal.Segment] = []
     budget = max(PROFILE_SAMPLES, len(segments))
     for seg in segments:
@@ -398,8 +402,13 @@ def profile_temperature(spec, figures=None) -> ProfileTrace | None:
     times.append(total)
     temps.append(temps[0])
     return ProfileTrace(
-        np.array(times), np.array(temps), starts,
-        whole.peak_winding_temperature, whole.mean_winding_temperature, limit, False,
+        np.array(times),
+        np.array(temps),
+        starts,
+        whole.peak_winding_temperature,
+        whole.mean_winding_temperature,
+        limit,
+        False,
     )
 
 
@@ -409,8 +418,7 @@ def unavailable(spec, figures) -> dict[str, str]:
     loop = _loop(spec, figures)
     fam = family(spec)
     if loop is None:
-        need = [n for n in ("loop_inductance", "loop_resistance_hot", "pwm_frequency_leg")
-                if _num(figures, n) is None]
+        need = [n for n in ("loop_inductance", "loop_resistance_hot", "pwm_frequency_leg") if _num(figures, n) is None]
         reason = "the figures lack " + ", ".join(need) if need else "the PWM scheme is not known"
         if figures is not None:
             for n in need:
@@ -418,12 +426,17 @@ def unavailable(spec, figures) -> dict[str, str]:
                     reason += f" ({n}: {figures.missing[n]})"
         out["waveform"] = out["ripple_frequency"] = out["ripple_inductance"] = reason
     elif fam and fam[0] == "sinusoidal":
-        out["waveform"] = ("sinusoidal commutation: the ripple changes over the electrical revolution; "
-                           "the ripple plots show its worst case")
+        out["waveform"] = (
+            "sinusoidal commutation: the ripple changes over the electrical revolution; "
+            "the ripple plots show its worst case"
+        )
     if spec.profile is None:
         out["profile"] = "the spec has no motion profile"
-    elif spec.motor.thermal is None or spec.motor.thermal.winding_time_constant is None \
-            or spec.motor.thermal.motor_time_constant is None:
+    elif (
+        spec.motor.thermal is None
+        or spec.motor.thermal.winding_time_constant is None
+        or spec.motor.thermal.motor_time_constant is None
+    ):
         out["profile"] = "the motor lacks thermal resistances or time constants"
     elif spec.motor.torque_constant.current not in ("dc", "phase-rms"):
         out["profile"] = "torque constant convention is not dc or phase-rms"

@@ -173,10 +173,15 @@ def build(data: dict, locate: Locate) -> tuple[Spec | None, list[Finding]]:
         # errors say what is wrong, so drop that echo.
         item_paths = {_field_path(e.get("loc", ()))[:-1] for e in errors}
         errors = [
-            e for e in errors
-            if not (e.get("type") == "too_short" and any(
-                p[: len(_field_path(e["loc"]))] == _field_path(e["loc"]) and len(p) > len(_field_path(e["loc"]))
-                for p in item_paths))
+            e
+            for e in errors
+            if not (
+                e.get("type") == "too_short"
+                and any(
+                    p[: len(_field_path(e["loc"]))] == _field_path(e["loc"]) and len(p) > len(_field_path(e["loc"]))
+                    for p in item_paths
+                )
+            )
         ]
         findings = [_error_to_finding(err, data, locate) for err in errors]
         return None, findings
@@ -200,35 +205,47 @@ def consistency(spec: Spec, locate: Locate) -> list[Finding]:
     scheme = stage.pwm.scheme
     if motor.type == "brushed-dc":
         if scheme not in DC_SCHEMES:
-            bad(("stage", "pwm", "scheme"),
-                f"'{scheme}' drives a three-phase motor; a brushed DC motor takes one of "
-                + ", ".join(DC_SCHEMES))
+            bad(
+                ("stage", "pwm", "scheme"),
+                f"'{scheme}' drives a three-phase motor; a brushed DC motor takes one of " + ", ".join(DC_SCHEMES),
+            )
         if motor.torque_constant.current != "dc":
-            bad(("motor", "torque_constant", "current"),
-                "a brushed DC motor's torque constant refers to its dc current (write 'dc')")
+            bad(
+                ("motor", "torque_constant", "current"),
+                "a brushed DC motor's torque constant refers to its dc current (write 'dc')",
+            )
         if motor.back_emf_constant.voltage != "terminal":
-            bad(("motor", "back_emf_constant", "voltage"),
-                "a brushed DC motor's back-EMF constant is a terminal voltage (write 'terminal')")
+            bad(
+                ("motor", "back_emf_constant", "voltage"),
+                "a brushed DC motor's back-EMF constant is a terminal voltage (write 'terminal')",
+            )
     else:
         if scheme not in THREE_PHASE_SCHEMES:
-            bad(("stage", "pwm", "scheme"),
-                f"'{scheme}' drives an H-bridge; a three-phase motor takes one of "
-                + ", ".join(THREE_PHASE_SCHEMES))
+            bad(
+                ("stage", "pwm", "scheme"),
+                f"'{scheme}' drives an H-bridge; a three-phase motor takes one of " + ", ".join(THREE_PHASE_SCHEMES),
+            )
         if motor.pole_pairs is None:
             bad(("motor",), "a three-phase motor needs 'pole_pairs'")
         if motor.torque_constant.current == "dc":
-            bad(("motor", "torque_constant", "current"),
-                "a three-phase motor's torque constant refers to phase-rms, phase-peak or block current")
+            bad(
+                ("motor", "torque_constant", "current"),
+                "a three-phase motor's torque constant refers to phase-rms, phase-peak or block current",
+            )
         if motor.back_emf_constant.voltage == "terminal":
-            bad(("motor", "back_emf_constant", "voltage"),
-                "a three-phase motor's back-EMF constant is line-to-line or phase, peak or rms")
+            bad(
+                ("motor", "back_emf_constant", "voltage"),
+                "a three-phase motor's back-EMF constant is line-to-line or phase, peak or rms",
+            )
     if motor.terminal_inductance is None and motor.inductance_vs_frequency is None:
         bad(("motor",), "give 'terminal_inductance' or a measured 'inductance_vs_frequency' table")
     table = motor.inductance_vs_frequency or ()
     for i in range(1, len(table)):
         if not table[i].frequency > table[i - 1].frequency:
-            bad(("motor", "inductance_vs_frequency", i, "frequency"),
-                "table rows must be in strictly ascending frequency")
+            bad(
+                ("motor", "inductance_vs_frequency", i, "frequency"),
+                "table rows must be in strictly ascending frequency",
+            )
             break
     if (motor.d_axis_inductance is None) != (motor.q_axis_inductance is None):
         bad(("motor",), "give both 'd_axis_inductance' and 'q_axis_inductance', or neither")
@@ -251,8 +268,10 @@ def consistency(spec: Spec, locate: Locate) -> list[Finding]:
     seen: dict[str, int] = {}
     for i, point in enumerate(spec.operating_points):
         if point.name in seen:
-            bad(("operating_points", i, "name"),
-                f"operating point name '{point.name}' is used twice (first at index {seen[point.name]})")
+            bad(
+                ("operating_points", i, "name"),
+                f"operating point name '{point.name}' is used twice (first at index {seen[point.name]})",
+            )
         seen.setdefault(point.name, i)
     for i, waiver in enumerate(spec.waivers):
         if waiver.at is not None and waiver.at not in seen:

@@ -67,22 +67,17 @@ def _range_check(dimension: str, gt: float | None, ge: float | None, le: float |
 
         if value != 0.0 and not low <= abs(value) <= high:
             raise PydanticCustomError(
-                "value_range", "{message}",
+                "value_range",
+                "{message}",
                 {"message": f"must be between 1e-12 and 1e12 {si_unit} in size (far outside any drive)"},
             )
 
         if gt is not None and not value > gt:
-            raise PydanticCustomError(
-                "value_range", "{message}", {"message": f"must be greater than {shown(gt)}"}
-            )
+            raise PydanticCustomError("value_range", "{message}", {"message": f"must be greater than {shown(gt)}"})
         if ge is not None and not value >= ge:
-            raise PydanticCustomError(
-                "value_range", "{message}", {"message": f"must be at least {shown(ge)}"}
-            )
+            raise PydanticCustomError("value_range", "{message}", {"message": f"must be at least {shown(ge)}"})
         if le is not None and not value <= le:
-            raise PydanticCustomError(
-                "value_range", "{message}", {"message": f"must be at most {shown(le)}"}
-            )
+            raise PydanticCustomError("value_range", "{message}", {"message": f"must be at most {shown(le)}"})
         return value
 
     return check

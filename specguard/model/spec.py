@@ -114,18 +114,14 @@ class Axis(_Model):
 class TerminalResistance(_Model):
     """Terminal resistance with the winding temperature it was measured at."""
 
-    value: Resistance = Field(
-        description="terminal resistance (line-to-line for three-phase motors)"
-    )
+    value: Resistance = Field(description="terminal resistance (line-to-line for three-phase motors)")
     at: Temperature = Field(description="winding temperature at which the value holds")
 
 
 class TerminalInductance(_Model):
     """Catalogue terminal inductance and the frequency it was measured at."""
 
-    value: Inductance = Field(
-        description="terminal inductance (line-to-line for three-phase motors)"
-    )
+    value: Inductance = Field(description="terminal inductance (line-to-line for three-phase motors)")
     measured_at: Frequency = Field(description="measurement frequency of the value")
 
 
@@ -140,9 +136,7 @@ class InductancePoint(_Model):
 class TorqueConstant(_Model):
     """Torque constant with the current convention it refers to."""
 
-    value: TorqueConstantValue = Field(
-        description="torque per ampere"
-    )
+    value: TorqueConstantValue = Field(description="torque per ampere")
     current: Literal["dc", "phase-rms", "phase-peak", "block"] = Field(
         description=(
             "which current the constant refers to: dc (brushed DC motor), phase-rms or "
@@ -154,12 +148,8 @@ class TorqueConstant(_Model):
 class BackEmfConstant(_Model):
     """Back-EMF constant with the voltage convention it refers to."""
 
-    value: BackEmfConstantValue = Field(
-        description="back-EMF voltage per unit of mechanical speed"
-    )
-    voltage: Literal[
-        "terminal", "line-to-line-peak", "line-to-line-rms", "phase-peak", "phase-rms"
-    ] = Field(
+    value: BackEmfConstantValue = Field(description="back-EMF voltage per unit of mechanical speed")
+    voltage: Literal["terminal", "line-to-line-peak", "line-to-line-rms", "phase-peak", "phase-rms"] = Field(
         description=(
             "which voltage the constant gives: terminal (brushed DC motor), or the "
             "line-to-line or phase voltage of a three-phase motor, peak or rms"
@@ -170,25 +160,19 @@ class BackEmfConstant(_Model):
 class Thermal(_Model):
     """Two-node thermal data of the motor (winding and housing)."""
 
-    winding_to_housing: ThermalResistance = Field(
-        description="thermal resistance from winding to housing"
-    )
+    winding_to_housing: ThermalResistance = Field(description="thermal resistance from winding to housing")
     housing_to_ambient: ThermalResistance = Field(
         description="thermal resistance from housing to ambient, under the stated mounting"
     )
-    winding_time_constant: Duration | None = Field(
-        None, description="thermal time constant of the winding"
-    )
-    motor_time_constant: Duration | None = Field(
-        None, description="thermal time constant of the whole motor (housing)"
-    )
+    winding_time_constant: Duration | None = Field(None, description="thermal time constant of the winding")
+    motor_time_constant: Duration | None = Field(None, description="thermal time constant of the whole motor (housing)")
     max_winding_temperature: Temperature | None = Field(
         None, description="permitted winding temperature (preferred over the class)"
     )
-    insulation_class: Literal[
-        "Y", "A", "E", "B", "F", "H", "N", "R", "90", "105", "120", "130", "155", "180", "200",
-        "220", "250"
-    ] | None = Field(
+    insulation_class: (
+        Literal["Y", "A", "E", "B", "F", "H", "N", "R", "90", "105", "120", "130", "155", "180", "200", "220", "250"]
+        | None
+    ) = Field(
         None,
         description=(
             "insulation thermal class (IEC 60085) by letter or temperature in degC, as a "
@@ -201,9 +185,7 @@ class Motor(_Model):
     """The motor's electrical, mechanical and thermal data."""
 
     type: Literal["brushed-dc", "three-phase"] = Field(description="motor type")
-    winding: Literal["iron-core", "coreless", "slotless"] = Field(
-        description="winding construction"
-    )
+    winding: Literal["iron-core", "coreless", "slotless"] = Field(description="winding construction")
     datasheet: Url | None = Field(None, description="link to the datasheet (https only)")
     terminal_resistance: TerminalResistance
     terminal_inductance: TerminalInductance | None = Field(
@@ -239,19 +221,12 @@ class Motor(_Model):
     no_load_current: CurrentOrZero | None = Field(
         None,
         description=(
-            "no-load (friction) current, added to the torque current (RMS phase current "
-            "for a three-phase motor)"
+            "no-load (friction) current, added to the torque current (RMS phase current for a three-phase motor)"
         ),
     )
-    pole_pairs: Integer | None = Field(
-        None, ge=1, le=200, description="number of pole pairs (three-phase motors)"
-    )
-    max_speed: PositiveSpeed | None = Field(
-        None, description="permitted maximum speed"
-    )
-    rotor_inertia: PositiveInertia | None = Field(
-        None, description="rotor moment of inertia"
-    )
+    pole_pairs: Integer | None = Field(None, ge=1, le=200, description="number of pole pairs (three-phase motors)")
+    max_speed: PositiveSpeed | None = Field(None, description="permitted maximum speed")
+    rotor_inertia: PositiveInertia | None = Field(None, description="rotor moment of inertia")
     mechanical_time_constant: Duration | None = Field(
         None,
         description=(
@@ -290,9 +265,7 @@ class Pwm(_Model):
     freewheeling: Literal["synchronous", "diode"] | None = Field(
         None, description="how the off-time current flows: synchronous switches or diodes only"
     )
-    max_duty: float = Field(
-        gt=0.5, le=1.0, description="highest duty cycle the stage can produce (0.5 < d <= 1)"
-    )
+    max_duty: float = Field(gt=0.5, le=1.0, description="highest duty cycle the stage can produce (0.5 < d <= 1)")
     dead_time: DurationOrZero | None = Field(None, description="dead time per switching edge")
     min_pulse: Duration | None = Field(None, description="shortest pulse the stage can produce")
     timer_clock: Frequency | None = Field(None, description="clock of the PWM timer")
@@ -302,14 +275,11 @@ class Pwm(_Model):
 class CurrentLimits(_Model):
     """Current limits of the power stage."""
 
-    continuous: Current = Field(
-        description="continuous output current (the RMS phase current of a three-phase stage)"
-    )
+    continuous: Current = Field(description="continuous output current (the RMS phase current of a three-phase stage)")
     peak: Current | None = Field(
         None,
         description=(
-            "peak output current as an instantaneous value (the amplitude of the phase "
-            "current of a three-phase stage)"
+            "peak output current as an instantaneous value (the amplitude of the phase current of a three-phase stage)"
         ),
     )
 
@@ -328,17 +298,11 @@ class Stage(_Model):
 
     supply: Supply
     pwm: Pwm
-    switch_resistance: ResistanceOrZero | None = Field(
-        None, description="on-resistance of one conducting switch"
-    )
-    output_inductance: InductanceOrZero | None = Field(
-        None, description="built-in output inductance per lead or phase"
-    )
+    switch_resistance: ResistanceOrZero | None = Field(None, description="on-resistance of one conducting switch")
+    output_inductance: InductanceOrZero | None = Field(None, description="built-in output inductance per lead or phase")
     current_limit: CurrentLimits | None = None
     current_loop: CurrentLoop | None = None
-    bus_capacitance: Capacitance | None = Field(
-        None, description="DC bus capacitance"
-    )
+    bus_capacitance: Capacitance | None = Field(None, description="DC bus capacitance")
     overvoltage_trip: Voltage | None = Field(None, description="bus over-voltage trip level")
     max_supply_voltage: Voltage | None = Field(None, description="highest rated supply voltage")
 
@@ -360,18 +324,14 @@ class Chokes(_Model):
 class Cable(_Model):
     """Motor cable."""
 
-    length: Length | None = Field(
-        None, description="cable length"
-    )
+    length: Length | None = Field(None, description="cable length")
     resistance: ResistanceOrZero = Field(description="resistance of one conductor")
 
 
 class Load(_Model):
     """The mechanical load."""
 
-    inertia: Inertia = Field(
-        description="load inertia referred to the motor shaft"
-    )
+    inertia: Inertia = Field(description="load inertia referred to the motor shaft")
 
 
 # ---------------------------------------------------------- operating points

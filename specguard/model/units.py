@@ -73,9 +73,7 @@ class UnitError(ValueError):
     accepted unit spellings of the dimension; ``dimension`` is its name.
     """
 
-    def __init__(
-        self, code: str, message: str, accepted: tuple[str, ...] = (), dimension: str = ""
-    ) -> None:
+    def __init__(self, code: str, message: str, accepted: tuple[str, ...] = (), dimension: str = "") -> None:
         if code not in ERROR_CODES:
             raise ValueError(f"unknown unit error code {code!r}")
         super().__init__(message)
@@ -297,17 +295,14 @@ for _name, _units in _CONV.items():
 
 # unit text -> (exp10, scale, offset) as plain tuples for the fast path
 _FAST: dict[str, dict[str, tuple[int, float, float]]] = {
-    name: {u: (c.exp10, c.scale, c.offset) for u, c in units.items()}
-    for name, units in _CONV.items()
+    name: {u: (c.exp10, c.scale, c.offset) for u, c in units.items()} for name, units in _CONV.items()
 }
 
 del _name, _si, _example, _phrase, _units, _display, _u
 
 # --- the fast path: one regex and one dict lookup --------------------------------------
 # groups: mantissa, exponent digits, unit
-_QUANTITY = re.compile(
-    r"([+-]?(?:[0-9]+\.?[0-9]*|\.[0-9]+))(?:[eE]([+-]?[0-9]+))? ?([^\s0-9.,_/+\-].*)"
-)
+_QUANTITY = re.compile(r"([+-]?(?:[0-9]+\.?[0-9]*|\.[0-9]+))(?:[eE]([+-]?[0-9]+))? ?([^\s0-9.,_/+\-].*)")
 # --- diagnosis only --------------------------------------------------------------------
 _NUMBER_PREFIX = re.compile(r"[+-]?(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[eE][+-]?[0-9]+)?")
 _NON_FINITE = re.compile(r"[+-]?(?:nan|inf(?:inity)?)(?![a-z])", re.IGNORECASE)
@@ -459,8 +454,7 @@ def _diagnose(value: object, dimension: str, table: dict[str, tuple[int, float, 
         )
         raise fail(
             "syntax",
-            f"{phrase} must be written as text such as '{example}', not as {kind} "
-            f"(accepted: {listing})",
+            f"{phrase} must be written as text such as '{example}', not as {kind} (accepted: {listing})",
         )
 
     text = value.strip().translate(_MICRO)
@@ -468,14 +462,12 @@ def _diagnose(value: object, dimension: str, table: dict[str, tuple[int, float, 
     if not text:
         raise fail(
             "syntax",
-            f"an empty value is not allowed for {phrase}; write e.g. '{example}' "
-            f"(accepted: {listing})",
+            f"an empty value is not allowed for {phrase}; write e.g. '{example}' (accepted: {listing})",
         )
     if _NON_FINITE.match(text):
         raise fail(
             "non_finite",
-            f"{shown} is not a finite number; write a finite {_noun(phrase)}, "
-            f"e.g. '{example}' (accepted: {listing})",
+            f"{shown} is not a finite number; write a finite {_noun(phrase)}, e.g. '{example}' (accepted: {listing})",
         )
     if text[0] == "\u2212":
         raise fail(
@@ -498,9 +490,7 @@ def _diagnose(value: object, dimension: str, table: dict[str, tuple[int, float, 
     if m is None:
         raise fail(
             "syntax",
-            f"{shown} does not start with a plain number (ASCII digits); "
-            f"write e.g. '{example}' "
-            f"(accepted: {listing})",
+            f"{shown} does not start with a plain number (ASCII digits); write e.g. '{example}' (accepted: {listing})",
         )
     number = m.group(0)
     rest = text[m.end() :]
@@ -521,8 +511,7 @@ def _diagnose(value: object, dimension: str, table: dict[str, tuple[int, float, 
     if not rest or rest[0].isspace():
         raise fail(
             "syntax",
-            f"{shown}: separate the number and the unit by one plain space, "
-            f"e.g. '{example}' (accepted: {listing})",
+            f"{shown}: separate the number and the unit by one plain space, e.g. '{example}' (accepted: {listing})",
         )
     if rest[0] in "0123456789.,_/+-":
         raise fail(
@@ -556,21 +545,18 @@ def _diagnose(value: object, dimension: str, table: dict[str, tuple[int, float, 
         also = f"; did you mean {case_match}?" if case_match else ""
         raise fail(
             "wrong_dimension",
-            f"{shown}: {unit} is {_PHRASE[others[0]]} unit, not {phrase} unit{also}; "
-            f"accepted: {listing}",
+            f"{shown}: {unit} is {_PHRASE[others[0]]} unit, not {phrase} unit{also}; accepted: {listing}",
         )
     if case_match:
         raise fail(
             "case",
-            f"{shown} is not {phrase} unit; did you mean {case_match}? "
-            f"(units are case-sensitive); accepted: {listing}",
+            f"{shown} is not {phrase} unit; did you mean {case_match}? (units are case-sensitive); accepted: {listing}",
         )
     hint = _HINTS.get(dimension, {}).get(unit) or _squash_match(unit, accepted)
     if hint:
         raise fail(
             "unknown_unit",
-            f"{shown}: {_show(unit)} is not accepted for {phrase}; write {hint}; "
-            f"accepted: {listing}",
+            f"{shown}: {_show(unit)} is not accepted for {phrase}; write {hint}; accepted: {listing}",
         )
     foreign, plain = foreign_letters(unit)
     if foreign:
@@ -594,7 +580,7 @@ _LOOKALIKE = str.maketrans(
     "\u0430\u0435\u043e\u0440\u0441\u0443\u0445\u0455\u0456\u0458"
     "\u0391\u0392\u0395\u0396\u0397\u0399\u039a\u039c\u039d\u039f\u03a1\u03a4\u03a5\u03a7"
     "\u03bf\u03bd",
-    "ABEKMHOPCTXaeopcyxsij" "ABEZHIKMNOPTYX" "ov",
+    "ABEKMHOPCTXaeopcyxsijABEZHIKMNOPTYXov",
 )
 # Non-ASCII characters the unit table itself uses or names in a hint.
 _KNOWN_SIGNS = frozenset("\u00b5\u03bc\u03a9\u2126\u00b0\u2103\u00b2\u00b3\u00b7\u22c5\u00d7\u0394")

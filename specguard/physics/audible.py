@@ -29,9 +29,7 @@ DEFAULT_AUDIBLE_LIMIT = 16e3  # [Hz]
 DEFAULT_HEARING_LIMIT = 20e3  # [Hz]
 
 
-def audible_band(
-    ripple_frequency, audible_limit=DEFAULT_AUDIBLE_LIMIT, hearing_limit=DEFAULT_HEARING_LIMIT
-):
+def audible_band(ripple_frequency, audible_limit=DEFAULT_AUDIBLE_LIMIT, hearing_limit=DEFAULT_HEARING_LIMIT):
     """Classify the ripple fundamental against the hearing band.
 
     Parameters: ripple_frequency [Hz] the fundamental the motor actually sees
@@ -49,6 +47,4 @@ def audible_band(
             return AUDIBLE_TO_YOUNG
         return INAUDIBLE
     f = np.asarray(ripple_frequency, dtype=float)
-    return np.where(
-        f < audible_limit, AUDIBLE, np.where(f < hearing_limit, AUDIBLE_TO_YOUNG, INAUDIBLE)
-    )
+    return np.where(f < audible_limit, AUDIBLE, np.where(f < hearing_limit, AUDIBLE_TO_YOUNG, INAUDIBLE))

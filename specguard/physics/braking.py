@@ -47,9 +47,7 @@ def regenerative_energy(
     )
     energy = (
         0.5 * inertia * (speed_start * speed_start - speed_end * speed_end)
-        + 0.5
-        * mass
-        * (linear_speed_start * linear_speed_start - linear_speed_end * linear_speed_end)
+        + 0.5 * mass * (linear_speed_start * linear_speed_start - linear_speed_end * linear_speed_end)
         + potential_energy
         - loss_energy
     )

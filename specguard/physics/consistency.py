@@ -87,14 +87,10 @@ def torque_constant_mismatch(torque_constant, back_emf_constant, convention: str
     is common practice, no published source).  Source: derived here; common practice, no
     published source (docs/physics.md §4.4).
     """
-    return relative_mismatch(
-        torque_constant, torque_constant_expected(back_emf_constant, convention)
-    )
+    return relative_mismatch(torque_constant, torque_constant_expected(back_emf_constant, convention))
 
 
-def back_emf_constant_at_temperature(
-    back_emf_constant_20, magnet_temperature, reversible_coefficient
-):
+def back_emf_constant_at_temperature(back_emf_constant_20, magnet_temperature, reversible_coefficient):
     """Back-EMF constant at a magnet temperature [V s/rad].
 
     Parameters: back_emf_constant_20 [V s/rad] at 20 degC; magnet_temperature [K];

@@ -35,9 +35,7 @@ def sampling_delay(pwm_frequency, delay_periods=1.5, double_update=False):
     return 0.5 * delay if double_update else delay
 
 
-def current_loop_bandwidth_max(
-    pwm_frequency, phase_margin=math.pi / 4, delay_periods=1.5, double_update=False
-):
+def current_loop_bandwidth_max(pwm_frequency, phase_margin=math.pi / 4, delay_periods=1.5, double_update=False):
     """Delay-limited current-loop crossover frequency [Hz].
 
     Parameters: pwm_frequency [Hz]; phase_margin [rad] required (pi/4 = 45 deg);
@@ -96,11 +94,7 @@ def pwm_counts_used(counts, modulation):
     Source: derived here; the 100 is common practice, no published source (docs/physics.md
     §7.8).
     """
-    return (
-        abs(modulation) * counts
-        if isinstance(modulation, (int, float))
-        else counts * abs(modulation)
-    )
+    return abs(modulation) * counts if isinstance(modulation, (int, float)) else counts * abs(modulation)
 
 
 def pulse_on_time(duty, pwm_frequency):

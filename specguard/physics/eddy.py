@@ -51,10 +51,7 @@ def ripple_voltage_mean_square_three_phase(supply_voltage, modulation_index):
     return (
         supply_voltage
         * supply_voltage
-        * (
-            modulation_index / (math.sqrt(3.0) * math.pi)
-            - modulation_index * modulation_index / 8.0
-        )
+        * (modulation_index / (math.sqrt(3.0) * math.pi) - modulation_index * modulation_index / 8.0)
     )
 
 
@@ -87,11 +84,7 @@ def skin_depth(frequency, resistivity, relative_permeability=1.0):
     docs/physics.md §5.1.  Copper (17.2 nOhm m) at 20 kHz: 0.47 mm.
     """
     xp = namespace(frequency, resistivity, relative_permeability)
-    return xp.sqrt(
-        2.0
-        * resistivity
-        / (2.0 * math.pi * frequency * VACUUM_PERMEABILITY * relative_permeability)
-    )
+    return xp.sqrt(2.0 * resistivity / (2.0 * math.pi * frequency * VACUUM_PERMEABILITY * relative_permeability))
 
 
 def conduction_regime(thickness, skin_depth_m):
@@ -112,6 +105,4 @@ def conduction_regime(thickness, skin_depth_m):
         return "transition"
     d = np.asarray(thickness, dtype=float)
     s = np.asarray(skin_depth_m, dtype=float)
-    return np.where(
-        d < s, "resistance-limited", np.where(d > 2.0 * s, "skin-limited", "transition")
-    )
+    return np.where(d < s, "resistance-limited", np.where(d > 2.0 * s, "skin-limited", "transition"))

@@ -80,9 +80,7 @@ _SERIES_LIMIT = 0.05
 # Same idea for J_A(p) = integral of (1 - e^-u)^2 over [0, p] divided by p^3.
 _JA_SERIES_LIMIT = 0.1
 # Coefficients of J_A(p) = sum_n c_n p^(n-2), c_n = ((-2)^n - 2(-1)^n) / (n! (n+1)).
-_JA_COEFFS = tuple(
-    ((-2.0) ** n - 2.0 * (-1.0) ** n) / (math.factorial(n) * (n + 1)) for n in range(2, 11)
-)
+_JA_COEFFS = tuple(((-2.0) ** n - 2.0 * (-1.0) ** n) / (math.factorial(n) * (n + 1)) for n in range(2, 11))
 
 
 def _check_scheme(scheme: str) -> str:
@@ -114,9 +112,7 @@ def _chi(u, xp):
 def _ja(p, xp):
     """J_A(p) = (p - 2(1 - e^-p) + (1 - e^-2p)/2) / p^3, J_A(0) = 1/3."""
     p_closed = xp.maximum(p, _JA_SERIES_LIMIT)
-    closed = (p_closed + 2.0 * xp.expm1(-p_closed) - 0.5 * xp.expm1(-2.0 * p_closed)) / (
-        p_closed * p_closed * p_closed
-    )
+    closed = (p_closed + 2.0 * xp.expm1(-p_closed) - 0.5 * xp.expm1(-2.0 * p_closed)) / (p_closed * p_closed * p_closed)
     series = 0.0
     for coefficient in reversed(_JA_COEFFS):
         series = series * p + coefficient
@@ -130,9 +126,7 @@ def _g(duty, x, xp):
 
 def _h(duty, x, xp):
     """Normalised (I_max - I_avg) / ((V1-V2) T_r / L); -> D(1-D)/2 as x -> 0."""
-    return (
-        duty * (0.5 * (1.0 - duty) + _chi(x, xp) - duty * _chi(duty * x, xp)) / _phi(duty * x, xp)
-    )
+    return duty * (0.5 * (1.0 - duty) + _chi(x, xp) - duty * _chi(duty * x, xp)) / _phi(duty * x, xp)
 
 
 def _offsets(duty, x, xp):
@@ -297,9 +291,7 @@ def ripple_peak_to_peak_linear_worst(supply_voltage, inductance, pwm_frequency, 
     :func:`ripple_peak_to_peak_linear`.  Source: derived here (docs/physics.md §1.3).
     """
     xp = namespace(supply_voltage, inductance, pwm_frequency)
-    supply_voltage, inductance, pwm_frequency = map(
-        xp.asarray, (supply_voltage, inductance, pwm_frequency)
-    )
+    supply_voltage, inductance, pwm_frequency = map(xp.asarray, (supply_voltage, inductance, pwm_frequency))
     step, _, period = _wave(supply_voltage, 0.5, pwm_frequency, scheme, xp)
     return 0.25 * step * period / inductance
 
@@ -439,9 +431,7 @@ def current_average(supply_voltage, modulation, back_emf, resistance):
     return (modulation * supply_voltage - back_emf) / resistance
 
 
-def current_peak(
-    supply_voltage, inductance, resistance, pwm_frequency, modulation, scheme, back_emf
-):
+def current_peak(supply_voltage, inductance, resistance, pwm_frequency, modulation, scheme, back_emf):
     """Exact maximum of the periodic current ``I_avg + (I_max - I_avg)`` [A].
 
     Parameters as :func:`ripple_peak_to_peak` plus back_emf [V]; needs ``R > 0``.
@@ -452,9 +442,7 @@ def current_peak(
     )
 
 
-def current_minimum(
-    supply_voltage, inductance, resistance, pwm_frequency, modulation, scheme, back_emf
-):
+def current_minimum(supply_voltage, inductance, resistance, pwm_frequency, modulation, scheme, back_emf):
     """Exact minimum of the periodic current [A]; parameters as :func:`current_peak`.
 
     Source: derived here (docs/physics.md §1.4).
@@ -464,9 +452,7 @@ def current_minimum(
     )
 
 
-def current_rms(
-    supply_voltage, inductance, resistance, pwm_frequency, modulation, scheme, back_emf
-):
+def current_rms(supply_voltage, inductance, resistance, pwm_frequency, modulation, scheme, back_emf):
     """RMS of the exact periodic current ``sqrt(I_avg^2 + I_r,rms^2)`` [A].
 
     Parameters as :func:`current_peak`.  Source: derived here (docs/physics.md §1.4 and §3.1).
@@ -490,9 +476,7 @@ class RippleResult(NamedTuple):
     linear_peak_to_peak: float
 
 
-def ripple_exact(
-    supply_voltage, inductance, resistance, pwm_frequency, modulation, scheme, back_emf
-):
+def ripple_exact(supply_voltage, inductance, resistance, pwm_frequency, modulation, scheme, back_emf):
     """All exact figures of §1.4 at once [A] (one pass; cheaper than five calls).
 
     Parameters as :func:`current_peak`.  Returns :class:`RippleResult` with
@@ -545,17 +529,11 @@ def current_waveform(
     ``s = (V1 - V2)/L`` (§1.4 rewritten as deviations; finite as R -> 0 except I_avg).
     Source: derived here (docs/physics.md §1.4).
     """
-    step, duty, period = _wave(
-        float(supply_voltage), float(modulation), float(pwm_frequency), scheme, namespace(0.0)
-    )
+    step, duty, period = _wave(float(supply_voltage), float(modulation), float(pwm_frequency), scheme, namespace(0.0))
     rate = float(resistance) / float(inductance)
     slope = step / float(inductance)
-    peak_offset = ripple_peak_offset(
-        supply_voltage, inductance, resistance, pwm_frequency, modulation, scheme
-    )
-    trough_offset = ripple_trough_offset(
-        supply_voltage, inductance, resistance, pwm_frequency, modulation, scheme
-    )
+    peak_offset = ripple_peak_offset(supply_voltage, inductance, resistance, pwm_frequency, modulation, scheme)
+    trough_offset = ripple_trough_offset(supply_voltage, inductance, resistance, pwm_frequency, modulation, scheme)
     average = current_average(supply_voltage, modulation, back_emf, resistance)
     time = np.linspace(0.0, period, sample_count)
     t_high = duty * period
@@ -570,9 +548,7 @@ def current_waveform(
     return time, average + np.where(in_high, high, low)
 
 
-def conduction_discontinuous(
-    average_current, peak_offset, trough_offset, freewheeling: str = "diode"
-):
+def conduction_discontinuous(average_current, peak_offset, trough_offset, freewheeling: str = "diode"):
     """True where the current would cross zero within the period [bool].
 
     Parameters: average_current [A]; peak_offset [A] ``I_max - I_avg``;
@@ -590,9 +566,7 @@ def conduction_discontinuous(
     if freewheeling not in ("diode", "synchronous"):
         raise ValueError("freewheeling must be 'diode' or 'synchronous'")
     xp = namespace(average_current, peak_offset, trough_offset)
-    average_current, peak_offset, trough_offset = map(
-        xp.asarray, (average_current, peak_offset, trough_offset)
-    )
+    average_current, peak_offset, trough_offset = map(xp.asarray, (average_current, peak_offset, trough_offset))
     if freewheeling == "synchronous":
         return xp.logical_and(average_current != average_current, False)  # all False
     positive = xp.logical_and(average_current >= 0.0, average_current < trough_offset)

@@ -159,9 +159,7 @@ def inductance_estimate_range(catalogue_inductance, derating_factor=DEFAULT_DERA
     return inductance_derated(catalogue_inductance, derating_factor), 1.0 * catalogue_inductance
 
 
-def inductance_from_measured_ripple(
-    high_voltage, average_voltage, duty, period, ripple_peak_to_peak
-):
+def inductance_from_measured_ripple(high_voltage, average_voltage, duty, period, ripple_peak_to_peak):
     """Effective loop inductance from a measured ripple [H].
 
     Parameters: high_voltage [V] ``V1``; average_voltage [V] load average;

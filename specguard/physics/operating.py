@@ -86,15 +86,10 @@ def terminal_voltage_six_step(
     Source: derived here; Krishnan, Permanent Magnet Synchronous and Brushless DC Motor
     Drives, 2010 (docs/physics.md §4.2).
     """
-    return (
-        line_back_emf_constant * angular_speed
-        + (terminal_resistance + 2.0 * switch_resistance) * current
-    )
+    return line_back_emf_constant * angular_speed + (terminal_resistance + 2.0 * switch_resistance) * current
 
 
-def torque_dq(
-    pole_pairs, flux_linkage, q_current, d_current=0.0, d_inductance=0.0, q_inductance=0.0
-):
+def torque_dq(pole_pairs, flux_linkage, q_current, d_current=0.0, d_inductance=0.0, q_inductance=0.0):
     """Electromagnetic torque of a PMSM, peak-amplitude dq model [N m].
 
     Parameters: pole_pairs [-]; flux_linkage [Wb] peak phase ``psi_pm``; q_current,
@@ -102,11 +97,7 @@ def torque_dq(
     ``T = 1.5 p (psi i_q + (L_d - L_q) i_d i_q)``.  Source: Krishnan, Permanent Magnet
     Synchronous and Brushless DC Motor Drives, 2010 (docs/physics.md §4.3).
     """
-    return (
-        1.5
-        * pole_pairs
-        * (flux_linkage * q_current + (d_inductance - q_inductance) * d_current * q_current)
-    )
+    return 1.5 * pole_pairs * (flux_linkage * q_current + (d_inductance - q_inductance) * d_current * q_current)
 
 
 def q_current_for_torque(torque, pole_pairs, flux_linkage):
@@ -185,9 +176,7 @@ def dead_time_voltage(supply_voltage, dead_time, pwm_frequency, switching_legs=1
     return switching_legs * supply_voltage * dead_time * pwm_frequency
 
 
-def supply_voltage_min_sinusoidal(
-    phase_voltage_peak, strategy, max_duty=1.0, dead_time=0.0, pwm_frequency=0.0
-):
+def supply_voltage_min_sinusoidal(phase_voltage_peak, strategy, max_duty=1.0, dead_time=0.0, pwm_frequency=0.0):
     """Minimum bus voltage for a peak phase voltage in linear modulation [V].
 
     Parameters: phase_voltage_peak [V]; strategy ``"spwm"``/``"svpwm"``; max_duty [-]
@@ -207,9 +196,7 @@ def supply_voltage_min_sinusoidal(
     return xp.where(per_volt > 0.0, phase_voltage_peak / safe, xp.inf)
 
 
-def phase_voltage_peak_max(
-    supply_voltage, strategy, max_duty=1.0, dead_time=0.0, pwm_frequency=0.0
-):
+def phase_voltage_peak_max(supply_voltage, strategy, max_duty=1.0, dead_time=0.0, pwm_frequency=0.0):
     """Largest peak fundamental phase voltage in linear modulation [V].
 
     ``(2 D_max - 1) V / sqrt3`` (SVPWM) or ``(2 D_max - 1) V / 2`` (SPWM), minus the
@@ -219,9 +206,7 @@ def phase_voltage_peak_max(
     Murai et al., IEEE Trans. Ind. Appl. 23(5), 1987).
     """
     factor = _strategy_factor(strategy)
-    return supply_voltage * (
-        (2.0 * max_duty - 1.0) / factor - (4.0 / math.pi) * dead_time * pwm_frequency
-    )
+    return supply_voltage * ((2.0 * max_duty - 1.0) / factor - (4.0 / math.pi) * dead_time * pwm_frequency)
 
 
 def modulation_required(
@@ -247,9 +232,7 @@ def modulation_required(
     first order in the drops.  Source: derived here (docs/physics.md §4.1).
     """
     legs = hbridge.switching_leg_count(scheme)
-    return (
-        terminal_voltage + current * series_resistance
-    ) / supply_voltage + legs * dead_time * pwm_frequency
+    return (terminal_voltage + current * series_resistance) / supply_voltage + legs * dead_time * pwm_frequency
 
 
 def modulation_max(max_duty, scheme):
@@ -296,14 +279,10 @@ def supply_voltage_min(
     +inf where the denominator is not positive (no voltage works).
     Source: derived here; reserve: common practice, no published source (docs/physics.md §4.5).
     """
-    xp = namespace(
-        terminal_voltage, maximum_modulation, current, series_resistance, headroom_voltage
-    )
+    xp = namespace(terminal_voltage, maximum_modulation, current, series_resistance, headroom_voltage)
     usable = maximum_modulation - switching_legs * dead_time * pwm_frequency
     safe = xp.where(usable > 0.0, usable, 1.0)
-    value = (
-        terminal_voltage * (1.0 + reserve_fraction) + headroom_voltage + current * series_resistance
-    ) / safe
+    value = (terminal_voltage * (1.0 + reserve_fraction) + headroom_voltage + current * series_resistance) / safe
     return xp.where(usable > 0.0, value, xp.inf)
 
 
@@ -331,9 +310,7 @@ def supply_voltage_max_duty(
     return xp.where(usable > 0.0, (terminal_voltage + current * series_resistance) / safe, xp.inf)
 
 
-def supply_voltage_max_ripple_linear(
-    required_voltage, inductance, pwm_frequency, ripple_limit, scheme
-):
+def supply_voltage_max_ripple_linear(required_voltage, inductance, pwm_frequency, ripple_limit, scheme):
     """Largest supply voltage meeting a ripple limit, LINEAR formula (reference) [V].
 
     Parameters: required_voltage [V] ``V_req`` (load average voltage incl. drops);
@@ -415,9 +392,7 @@ def supply_voltage_max_ripple(
     # bound (when finite and valid) is already on the feasible side; 4x above it is
     # nearly always infeasible.  Otherwise fall back to the whole [floor, ceiling].
     linear = supply_voltage_max_ripple_linear(drop, inductance, pwm_frequency, ripple_limit, scheme)
-    linear_ok = xp.logical_and(
-        xp.logical_and(xp.isfinite(linear), linear > v_floor), dead_time == 0.0
-    )
+    linear_ok = xp.logical_and(xp.logical_and(xp.isfinite(linear), linear > v_floor), dead_time == 0.0)
     lo = xp.where(linear_ok, xp.where(linear_ok, linear, 1.0), v_floor)
     hi = xp.minimum(lo * 4.0, v_ceiling)
     hi_feasible = ripple(hi) <= ripple_limit

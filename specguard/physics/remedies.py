@@ -86,9 +86,7 @@ def added_inductance_min(
     else:
 
         def ripple(total):
-            return hbridge.ripple_peak_to_peak(
-                supply_voltage, total, resistance, pwm_frequency, modulation, scheme
-            )
+            return hbridge.ripple_peak_to_peak(supply_voltage, total, resistance, pwm_frequency, modulation, scheme)
 
         if ripple(inductance) <= limit:
             return 0.0
@@ -135,9 +133,7 @@ def pwm_frequency_min(
     else:
 
         def ripple(freq):
-            return hbridge.ripple_peak_to_peak(
-                supply_voltage, inductance, resistance, freq, modulation, scheme
-            )
+            return hbridge.ripple_peak_to_peak(supply_voltage, inductance, resistance, freq, modulation, scheme)
 
         if ripple(frequency_bound) > limit:
             return None
@@ -145,9 +141,7 @@ def pwm_frequency_min(
         if ripple(low) <= limit:
             return 0.0
         # The ripple rises with the period 1/f; illinois returns the feasible end.
-        period = illinois(
-            lambda t: ripple(1.0 / t), limit, 1.0 / frequency_bound, 1.0 / low, SCALAR
-        )
+        period = illinois(lambda t: ripple(1.0 / t), limit, 1.0 / frequency_bound, 1.0 / low, SCALAR)
         frequency = 1.0 / period
     if frequency > frequency_bound:
         return None
@@ -178,9 +172,7 @@ def supply_voltage_max_for_ripple(
     """
     limit = ripple_fraction * rated_current
     if terminal_voltage is None:
-        per_volt = hbridge.ripple_peak_to_peak_worst(
-            1.0, inductance, resistance, pwm_frequency, scheme
-        )
+        per_volt = hbridge.ripple_peak_to_peak_worst(1.0, inductance, resistance, pwm_frequency, scheme)
         return limit / per_volt
     legs = hbridge.switching_leg_count(scheme)
     if legs * dead_time * pwm_frequency >= 1.0:

@@ -39,9 +39,7 @@ def current_rms_with_ripple(average_current, ripple_peak_to_peak):
     Source: standard result for a triangular wave (docs/physics.md §3.1).
     """
     xp = namespace(average_current, ripple_peak_to_peak)
-    return xp.sqrt(
-        average_current * average_current + ripple_peak_to_peak * ripple_peak_to_peak / 12.0
-    )
+    return xp.sqrt(average_current * average_current + ripple_peak_to_peak * ripple_peak_to_peak / 12.0)
 
 
 def form_factor(average_current, ripple_peak_to_peak):

@@ -78,9 +78,7 @@ def copper_temperature_coefficient(reference_temperature, alpha_20=COPPER_ALPHA_
     return alpha_20 / (1.0 + alpha_20 * (reference_temperature - _T20))
 
 
-def resistance_at_temperature(
-    resistance, temperature_from, temperature_to, alpha_20=COPPER_ALPHA_20
-):
+def resistance_at_temperature(resistance, temperature_from, temperature_to, alpha_20=COPPER_ALPHA_20):
     """Convert a winding resistance between temperatures (linear copper law) [Ohm].
 
     Parameters: resistance [Ohm] at temperature_from [K]; temperature_to [K];
@@ -89,11 +87,7 @@ def resistance_at_temperature(
     60034-1's resistance method uses 235).  Datasheet R25 -> R20:
     factor 0.98073.  Source: IEC 60028:1925 (docs/physics.md §6.1).
     """
-    return (
-        resistance
-        * (1.0 + alpha_20 * (temperature_to - _T20))
-        / (1.0 + alpha_20 * (temperature_from - _T20))
-    )
+    return resistance * (1.0 + alpha_20 * (temperature_to - _T20)) / (1.0 + alpha_20 * (temperature_from - _T20))
 
 
 def runaway_number(
@@ -124,9 +118,7 @@ def runaway_current(
 
     Source: derived here (docs/physics.md §6.3).
     """
-    xp = namespace(
-        resistance_20, thermal_resistance_winding_housing, thermal_resistance_housing_ambient
-    )
+    xp = namespace(resistance_20, thermal_resistance_winding_housing, thermal_resistance_housing_ambient)
     r_th = thermal_resistance_winding_housing + thermal_resistance_housing_ambient
     return 1.0 / xp.sqrt(alpha_20 * r_th * resistance_20)
 
@@ -163,9 +155,7 @@ def winding_temperature_steady(
         housing_loss,
     )
     r_th = thermal_resistance_winding_housing + thermal_resistance_housing_ambient
-    loss_at_ambient = (
-        current_rms * current_rms * resistance_20 * (1.0 + alpha_20 * (ambient_temperature - _T20))
-    )
+    loss_at_ambient = current_rms * current_rms * resistance_20 * (1.0 + alpha_20 * (ambient_temperature - _T20))
     k = alpha_20 * r_th * current_rms * current_rms * resistance_20
     denominator = 1.0 - k
     safe = xp.where(denominator > 0.0, denominator, 1.0)  # keep the unused branch finite
@@ -200,9 +190,7 @@ def current_continuous_max(
         housing_loss,
     )
     r_th = thermal_resistance_winding_housing + thermal_resistance_housing_ambient
-    numerator = (
-        temperature_max - ambient_temperature - thermal_resistance_housing_ambient * housing_loss
-    )
+    numerator = temperature_max - ambient_temperature - thermal_resistance_housing_ambient * housing_loss
     denominator = r_th * resistance_20 * (1.0 + alpha_20 * (temperature_max - _T20))
     return xp.sqrt(xp.maximum(numerator, 0.0) / denominator)
 
@@ -218,9 +206,7 @@ def average_current_continuous_max(current_max_rms, ripple_rms):
     return xp.sqrt(xp.maximum(current_max_rms * current_max_rms - ripple_rms * ripple_rms, 0.0))
 
 
-def current_continuous_max_at_ambient(
-    current_max_reference, temperature_max, ambient_reference, ambient_new
-):
+def current_continuous_max_at_ambient(current_max_reference, temperature_max, ambient_reference, ambient_new):
     """Ambient derating of the continuous current (no housing loss) [A].
 
     Parameters: current_max_reference [A] at ambient_reference [K]; temperature_max
@@ -379,12 +365,8 @@ def two_node_temperature_rise(
     psi = _spectral(p1, p2, a, lam1, lam2)
     b1 = winding_loss / winding_capacitance
     b2 = housing_loss / housing_capacitance
-    theta_w = (
-        phi[0] * initial_winding_rise + phi[1] * initial_housing_rise + psi[0] * b1 + psi[1] * b2
-    )
-    theta_h = (
-        phi[2] * initial_winding_rise + phi[3] * initial_housing_rise + psi[2] * b1 + psi[3] * b2
-    )
+    theta_w = phi[0] * initial_winding_rise + phi[1] * initial_housing_rise + psi[0] * b1 + psi[1] * b2
+    theta_h = phi[2] * initial_winding_rise + phi[3] * initial_housing_rise + psi[2] * b1 + psi[3] * b2
     return theta_w, theta_h
 
 
@@ -409,9 +391,7 @@ def two_node_temperature_rise_decoupled(
     )
 
 
-def winding_temperature_rise_peak_on_off(
-    power, thermal_resistance, time_constant, on_time, cycle_time
-):
+def winding_temperature_rise_peak_on_off(power, thermal_resistance, time_constant, on_time, cycle_time):
     """Single-node periodic peak rise for an on/off loss cycle [K].
 
     Parameters: power [W] during on_time [s]; thermal_resistance [K/W];
@@ -420,12 +400,7 @@ def winding_temperature_rise_peak_on_off(
     ``P R t_on / T_cyc``.  Source: derived here (docs/physics.md §6.5).
     """
     xp = namespace(power, thermal_resistance, time_constant, on_time, cycle_time)
-    return (
-        power
-        * thermal_resistance
-        * xp.expm1(-on_time / time_constant)
-        / xp.expm1(-cycle_time / time_constant)
-    )
+    return power * thermal_resistance * xp.expm1(-on_time / time_constant) / xp.expm1(-cycle_time / time_constant)
 
 
 def _segment_maps(segments, resistance_20, c_w, c_h, r_wh, r_ha, alpha_20, loss_factor, xp):
@@ -508,9 +483,7 @@ def winding_temperature_cyclic(
     c_h = float(housing_capacitance)
     loss_factor = 1.0 + alpha_20 * (float(ambient_temperature) - _T20)
     try:
-        maps = _segment_maps(
-            segments, resistance_20, c_w, c_h, r_wh, r_ha, alpha_20, loss_factor, xp
-        )
+        maps = _segment_maps(segments, resistance_20, c_w, c_h, r_wh, r_ha, alpha_20, loss_factor, xp)
     except OverflowError:  # exp of a positive eigenvalue over a long segment: runaway
         return CycleResult(math.inf, math.inf, math.inf, math.inf, math.inf, True)
 

@@ -257,9 +257,7 @@ def phase_ripple_rms(supply_voltage, phase_inductance, pwm_frequency, modulation
     )
 
 
-def phase_ripple_peak_to_peak_max(
-    supply_voltage, phase_inductance, pwm_frequency, modulation_index, strategy
-):
+def phase_ripple_peak_to_peak_max(supply_voltage, phase_inductance, pwm_frequency, modulation_index, strategy):
     """Maximum peak-to-peak phase ripple over the fundamental period (closed form) [A].
 
     Parameters as :func:`phase_ripple_rms`.  Use it for peak current and choke

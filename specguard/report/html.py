@@ -145,10 +145,7 @@ def verdict(result, fail_level: str) -> tuple[str, str]:
     if result.input_error is not None:
         return "v-unread", "could not be read"
     threshold = SEVERITY_ORDER[fail_level]
-    failing = [
-        f for f in result.findings
-        if not _suppressed(f) and SEVERITY_ORDER.get(f.severity, 2) >= threshold
-    ]
+    failing = [f for f in result.findings if not _suppressed(f) and SEVERITY_ORDER.get(f.severity, 2) >= threshold]
     if any(f.rule in _UNREADABLE for f in failing) and result.spec is None:
         plural = "s" if len(failing) != 1 else ""
         return "v-unread", f"could not be read ({len(failing)} finding{plural} at or above {fail_level})"
@@ -157,10 +154,22 @@ def verdict(result, fail_level: str) -> tuple[str, str]:
     return "v-pass", "passes"
 
 
-_UNREADABLE = frozenset({
-    "input-unreadable", "text-encoding", "yaml-syntax", "yaml-structure", "yaml-limit", "yaml-tag",
-    "yaml-key", "schema-violation", "unit-invalid", "reference-invalid", "number-invalid", "internal-error",
-})
+_UNREADABLE = frozenset(
+    {
+        "input-unreadable",
+        "text-encoding",
+        "yaml-syntax",
+        "yaml-structure",
+        "yaml-limit",
+        "yaml-tag",
+        "yaml-key",
+        "schema-violation",
+        "unit-invalid",
+        "reference-invalid",
+        "number-invalid",
+        "internal-error",
+    }
+)
 
 
 def _suppressed(f) -> bool:
@@ -245,7 +254,7 @@ _FORBIDDEN_SVG = re.compile(
 
 def _inline_svg(svg: str) -> str:
     """Strip the XML prolog and matplotlib's numbered group ids; refuse active content."""
-    svg = svg[svg.index("<svg"):]
+    svg = svg[svg.index("<svg") :]
     svg = _GID.sub("", svg)
     svg = svg.replace("\r\n", "\n")
     # Text content is XML-escaped by matplotlib (no "<" or ">" in it), so the
@@ -317,8 +326,7 @@ def _plot_sweeps(p: _Plotter, freq, ind, salt: str) -> str:
                 need_text = "smallest addition within the limit"
             ax.plot(x, sweep.ripple, color=CURVE, label="peak-to-peak ripple")
             ax.axhline(sweep.limit, color=LIMIT, linestyle="-.", linewidth=1.2, label="limit")
-            ax.plot([setting], [sweep.ripple_at_setting], marker="o", color=INK, linestyle="none",
-                    label="as specified")
+            ax.plot([setting], [sweep.ripple_at_setting], marker="o", color=INK, linestyle="none", label="as specified")
             if needed is not None and x[0] <= needed <= x[-1]:
                 ax.axvline(needed, color=SOFT, linestyle=":", linewidth=1.2, label=need_text)
             ax.set_ylabel("ripple peak-to-peak [A]")
@@ -346,8 +354,9 @@ def _bars(ax, bars, scale: float, colour_bad=None):
     pos = list(range(len(bars.points)))
     ax.bar(pos, shown, color=colours, edgecolor="#555555", linewidth=0.6)
     rotate = len(pos) > 4 or any(len(n) > 10 for n in bars.points)
-    ax.set_xticks(pos, [_short(n) for n in bars.points], rotation=30 if rotate else 0,
-                  ha="right" if rotate else "center")
+    ax.set_xticks(
+        pos, [_short(n) for n in bars.points], rotation=30 if rotate else 0, ha="right" if rotate else "center"
+    )
     for k, v in enumerate(values):
         if not math.isfinite(v):
             ax.text(k, 0.0, "n/a", ha="center", va="bottom", color=SOFT)
@@ -393,15 +402,27 @@ def _plot_thermal(p: _Plotter, margin, trace, salt: str) -> str:
         if trace is not None:
             ax = axes[k]
             if trace.runaway:
-                ax.text(0.5, 0.5, "thermal runaway: no periodic steady state", ha="center", va="center",
-                        transform=ax.transAxes, color=LIMIT)
+                ax.text(
+                    0.5,
+                    0.5,
+                    "thermal runaway: no periodic steady state",
+                    ha="center",
+                    va="center",
+                    transform=ax.transAxes,
+                    color=LIMIT,
+                )
             else:
                 ax.plot(trace.time, trace.temperature - 273.15, color=CURVE, label="winding")
                 for s in trace.segment_starts[1:]:
                     ax.axvline(float(s), color="#cccccc", linewidth=0.8)
             if trace.limit is not None:
-                ax.axhline(trace.limit - 273.15, color=LIMIT, linestyle="-.", linewidth=1.2,
-                           label="permitted winding temperature")
+                ax.axhline(
+                    trace.limit - 273.15,
+                    color=LIMIT,
+                    linestyle="-.",
+                    linewidth=1.2,
+                    label="permitted winding temperature",
+                )
             ax.set_xlabel("time within one profile cycle [s]")
             ax.set_ylabel("winding temperature [\u00b0C]")
             ax.set_title("Winding temperature over the profile")
@@ -417,13 +438,11 @@ def _findings_table(result) -> str:
     for f in result.findings:
         loc = f.location
         where = f"{clean(loc.file)}:{loc.line}:{loc.column}"
-        pointer = f'<br><code>{text(loc.pointer)}</code>' if loc.pointer else ""
+        pointer = f"<br><code>{text(loc.pointer)}</code>" if loc.pointer else ""
         related = "".join(
             f'<br><span class="muted">related: {text(r.file)}:{r.line}:{r.column}</span>' for r in f.related
         )
-        numbers = "<br>".join(
-            f"<code>{text(n)}</code> = {text(_figure_display(n, v, u))}" for n, v, u in f.figures
-        )
+        numbers = "<br>".join(f"<code>{text(n)}</code> = {text(_figure_display(n, v, u))}" for n, v, u in f.figures)
         remedies = "".join(f"<li>{text(r)}</li>" for r in f.remedies)
         remedies = f"<ul>{remedies}</ul>" if remedies else ""
         status = ""
@@ -467,7 +486,7 @@ def _figures_tables(fs) -> str:
             axis_rows.append(
                 f'<tr><th scope="row" title="{text(d.meaning)}">{text(name)}'
                 f'<span class="meaning">{text(d.meaning)}</span></th>'
-                f'<td>{text(d.unit or DASH)}</td>'
+                f"<td>{text(d.unit or DASH)}</td>"
                 f'<td class="num">{text(show_value(fs.axis[name], d.dimension, d.unit))}</td>'
                 f"{_note(fs, name)}</tr>"
             )
@@ -528,8 +547,15 @@ def _spec_summary(spec) -> str:
     stage = getattr(spec, "stage", None)
     if stage is not None:
         pwm = stage.pwm
-        rows.append(("PWM", text(f"{pwm.scheme}, {show_value(pwm.frequency, 'frequency')}"
-                                 f" ({pwm.frequency_is or 'frequency kind not stated'})")))
+        rows.append(
+            (
+                "PWM",
+                text(
+                    f"{pwm.scheme}, {show_value(pwm.frequency, 'frequency')}"
+                    f" ({pwm.frequency_is or 'frequency kind not stated'})"
+                ),
+            )
+        )
         rows.append(("supply", text(show_value(stage.supply.voltage, "voltage"))))
     points = getattr(spec, "operating_points", ()) or ()
     if points:
@@ -539,8 +565,13 @@ def _spec_summary(spec) -> str:
     waivers = getattr(spec, "waivers", ()) or ()
     for w in waivers:
         target = w.at or w.path or "whole axis"
-        rows.append(("waiver", f"<code>{text(w.rule)}</code> at {text(target)}: {text(w.reason)} "
-                               f"(approved by {text(w.approved_by)}, expires {text(w.expires)})"))
+        rows.append(
+            (
+                "waiver",
+                f"<code>{text(w.rule)}</code> at {text(target)}: {text(w.reason)} "
+                f"(approved by {text(w.approved_by)}, expires {text(w.expires)})",
+            )
+        )
     if not rows:
         return ""
     body = "".join(f'<tr><th scope="row">{k}</th><td>{v}</td></tr>' for k, v in rows)
@@ -559,30 +590,38 @@ def _plots(plotter, spec, fs, index: int, ripple_fraction: float) -> str:
 
     wave = curves.current_waveform(spec, fs) if fs is not None else None
     if wave is not None:
-        fig(_plot_waveform(plotter, wave, f"{salt}-wave"),
+        fig(
+            _plot_waveform(plotter, wave, f"{salt}-wave"),
             f"Exact periodic current at the operating point with the largest ripple ({text(wave.point)}): "
             f"ripple {text(show_value(wave.peak_to_peak, 'current'))} peak-to-peak, average "
-            f"{text(show_value(wave.average, 'current'))}, rated {text(show_value(wave.rated_current, 'current'))}.")
+            f"{text(show_value(wave.average, 'current'))}, rated {text(show_value(wave.rated_current, 'current'))}.",
+        )
     freq = curves.ripple_vs_frequency(spec, fs, ripple_fraction) if fs is not None else None
     ind = curves.ripple_vs_added_inductance(spec, fs, ripple_fraction) if fs is not None else None
     drawn = freq if freq is not None else ind
     if drawn is not None:
         limit = drawn.limit
-        fig(_plot_sweeps(plotter, freq, ind, f"{salt}-sweep"),
+        fig(
+            _plot_sweeps(plotter, freq, ind, f"{salt}-sweep"),
             f"Worst case over the reachable duty range; limit {text(show_value(limit, 'current'))} "
-            f"peak-to-peak ({_g4(ripple_fraction * 100)} % of rated current). The dot is the spec as written.")
+            f"peak-to-peak ({_g4(ripple_fraction * 100)} % of rated current). The dot is the spec as written.",
+        )
     duty = curves.duty_per_point(spec, fs) if fs is not None else None
     headroom = curves.voltage_headroom_per_point(spec, fs) if fs is not None else None
     if duty is not None or headroom is not None:
-        fig(_plot_duty(plotter, duty, headroom, f"{salt}-duty"),
-            "Leg duty against the stage's maximum duty; headroom below zero means the point cannot be reached.")
+        fig(
+            _plot_duty(plotter, duty, headroom, f"{salt}-duty"),
+            "Leg duty against the stage's maximum duty; headroom below zero means the point cannot be reached.",
+        )
     margin = curves.thermal_margin_per_point(spec, fs) if fs is not None else None
     trace = curves.profile_temperature(spec, fs) if getattr(spec, "profile", None) is not None else None
     if margin is not None or trace is not None:
         cap = "Permitted minus steady-state winding temperature per point (below zero: too hot)."
         if trace is not None and not trace.runaway:
-            cap += (f" Profile: periodic steady state, peak {text(show_value(trace.peak, 'temperature'))}, "
-                    f"mean {text(show_value(trace.mean, 'temperature'))}.")
+            cap += (
+                f" Profile: periodic steady state, peak {text(show_value(trace.peak, 'temperature'))}, "
+                f"mean {text(show_value(trace.mean, 'temperature'))}."
+            )
         fig(_plot_thermal(plotter, margin, trace, f"{salt}-thermal"), cap)
     if fs is None:
         reasons = {"all plots": "no figures were computed for this file"}
@@ -604,7 +643,7 @@ def _axis_section(plotter, result, index: int, fail_level: str, ripple_fraction:
         f'<section id="{anchor_id(index)}"><h2>{title}</h2>',
         f'<p><span class="verdict {cls}">{text(words)}</span> '
         f'<span class="muted">{counts["error"]} error(s), {counts["warning"]} warning(s), '
-        f'{counts["info"]} info, {counts["suppressed"]} waived or baselined</span></p>',
+        f"{counts['info']} info, {counts['suppressed']} waived or baselined</span></p>",
     ]
     if result.input_error is not None:
         parts.append(f"<p>Cannot read this input: {text(result.input_error)}</p>")
@@ -637,9 +676,15 @@ def plots_unavailable() -> str | None:
     return None
 
 
-def render(report: Report, *, generated: str | None = None, ripple_fraction: float = 0.2,
-           title: str = "specguard review report", plots: bool = True,
-           plots_note: str | None = None) -> str:
+def render(
+    report: Report,
+    *,
+    generated: str | None = None,
+    ripple_fraction: float = 0.2,
+    title: str = "specguard review report",
+    plots: bool = True,
+    plots_note: str | None = None,
+) -> str:
     """The whole report as one HTML document (a pure function of the report).
 
     ``generated``: a date text to print (the CLI passes SOURCE_DATE_EPOCH when
@@ -652,15 +697,19 @@ def render(report: Report, *, generated: str | None = None, ripple_fraction: flo
     title_note = f'<p class="muted">Plots are not drawn in this report: {text(plots_note)}.</p>' if plots_note else ""
     counts = report.counts()
     status = report.exit_status()
-    overall = {0: "passes", 1: f"fails (findings at or above {report.fail_level})",
-               2: "incomplete: some inputs could not be read", 3: "specguard failed internally"}.get(status, "")
+    overall = {
+        0: "passes",
+        1: f"fails (findings at or above {report.fail_level})",
+        2: "incomplete: some inputs could not be read",
+        3: "specguard failed internally",
+    }.get(status, "")
     toc = "".join(
         f'<li><a href="#{anchor_id(i)}">{text(getattr(getattr(r.spec, "axis", None), "name", None) or r.file)}</a>'
         f" \u2013 {text(verdict(r, report.fail_level_of(r))[1])}</li>"
         for i, r in enumerate(report.files)
     )
     head = (
-        "<!DOCTYPE html>\n<html lang=\"en\"><head><meta charset=\"utf-8\">"
+        '<!DOCTYPE html>\n<html lang="en"><head><meta charset="utf-8">'
         f'<meta http-equiv="Content-Security-Policy" content="{_html.escape(CSP, quote=True)}">'
         '<meta name="referrer" content="no-referrer">'
         '<meta name="viewport" content="width=device-width, initial-scale=1">'
@@ -679,8 +728,10 @@ def render(report: Report, *, generated: str | None = None, ripple_fraction: flo
         intro.append(title_note)
     if toc:
         intro.append(f'<ul class="toc">{toc}</ul>')
-    sections = [_axis_section(plotter, r, i, report.fail_level_of(r), ripple_fraction)
-                for i, r in enumerate(report.files)]
-    foot = ('<p class="muted">Written by specguard. Values in SI internally; shown in readable units.</p>'
-            '</body></html>\n')
+    sections = [
+        _axis_section(plotter, r, i, report.fail_level_of(r), ripple_fraction) for i, r in enumerate(report.files)
+    ]
+    foot = (
+        '<p class="muted">Written by specguard. Values in SI internally; shown in readable units.</p></body></html>\n'
+    )
     return head + "".join(intro) + "".join(sections) + foot

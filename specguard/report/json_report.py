@@ -27,8 +27,7 @@ REPORT_FORMAT = 1
 # and out of UTF-8 encoders (docs/reliability.md G16). They can only occur inside
 # strings, so a substitution over the whole text is safe.
 _RAW_UNSAFE = re.compile(
-    "[\x7f-\x9f\u00ad\u061c\u180e\u200b-\u200f\u202a-\u202e\u2060-\u2064\u2066-\u2069"
-    "\u2028\u2029\ufeff\ud800-\udfff]"
+    "[\x7f-\x9f\u00ad\u061c\u180e\u200b-\u200f\u202a-\u202e\u2060-\u2064\u2066-\u2069\u2028\u2029\ufeff\ud800-\udfff]"
 )
 
 
@@ -119,9 +118,7 @@ def document(report: Report) -> dict:
                 "file": result.file,
                 "input_error": result.input_error,
                 "closure": [{"file": p, "sha256": h} for p, h in result.closure],
-                "findings": [
-                    finding(f) for f in sorted(result.findings, key=lambda f: f.sort_key())
-                ],
+                "findings": [finding(f) for f in sorted(result.findings, key=lambda f: f.sort_key())],
                 "figures": figures(getattr(result, "figures", None)),
             }
         )

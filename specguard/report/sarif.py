@@ -30,9 +30,7 @@ from urllib.parse import quote
 
 from .json_report import _number, dumps
 
-SARIF_SCHEMA = (
-    "https://docs.oasis-open.org/sarif/sarif/v2.1.0/errata01/os/schemas/sarif-schema-2.1.0.json"
-)
+SARIF_SCHEMA = "https://docs.oasis-open.org/sarif/sarif/v2.1.0/errata01/os/schemas/sarif-schema-2.1.0.json"
 MAX_RESULTS = 25_000  # docs/reliability.md G15
 FINGERPRINT_KEY = "specguardFinding/v1"
 _LEVEL = {"error": "error", "warning": "warning", "info": "note"}
@@ -125,9 +123,7 @@ def document(report: Report) -> dict:
             "partialFingerprints": {FINGERPRINT_KEY: f"{digest}:{seen[digest]}"},
         }
         if loc.pointer:
-            result["locations"][0]["logicalLocations"] = [
-                {"fullyQualifiedName": loc.pointer, "kind": "element"}
-            ]
+            result["locations"][0]["logicalLocations"] = [{"fullyQualifiedName": loc.pointer, "kind": "element"}]
         if f.related:
             result["relatedLocations"] = [
                 {
@@ -141,9 +137,7 @@ def document(report: Report) -> dict:
         if f.operating_point is not None:
             properties["operatingPoint"] = f.operating_point
         if f.figures:
-            properties["figures"] = [
-                {"name": n, "value": _number(v), "unit": u} for n, v, u in f.figures
-            ]
+            properties["figures"] = [{"name": n, "value": _number(v), "unit": u} for n, v, u in f.figures]
         if f.remedies:
             properties["remedies"] = list(f.remedies)
         if f.help:
@@ -152,16 +146,10 @@ def document(report: Report) -> dict:
             result["properties"] = properties
         suppressions = []
         if f.waived is not None:
-            suppressions.append(
-                {"kind": "inSource", "status": "accepted", "justification": f.waived}
-            )
+            suppressions.append({"kind": "inSource", "status": "accepted", "justification": f.waived})
         if getattr(f, "baselined", False):
-            justification = (
-                f"held by the baseline {outcome.file}" if outcome else "held by the baseline"
-            )
-            suppressions.append(
-                {"kind": "external", "status": "accepted", "justification": justification}
-            )
+            justification = f"held by the baseline {outcome.file}" if outcome else "held by the baseline"
+            suppressions.append({"kind": "external", "status": "accepted", "justification": justification})
         if suppressions:
             result["suppressions"] = suppressions
         if outcome is not None:
@@ -196,10 +184,7 @@ def document(report: Report) -> dict:
             {
                 "level": "note",
                 "descriptor": {"id": "baseline-suppressed"},
-                "message": {
-                    "text": f"{n} finding{'s' if n != 1 else ''} suppressed by the baseline "
-                    f"{outcome.file}"
-                },
+                "message": {"text": f"{n} finding{'s' if n != 1 else ''} suppressed by the baseline {outcome.file}"},
             }
         )
     if outcome is not None and outcome.stale_count:
@@ -207,10 +192,7 @@ def document(report: Report) -> dict:
             {
                 "level": "error" if outcome.strict else "note",
                 "descriptor": {"id": "baseline-stale"},
-                "message": {
-                    "text": f"{outcome.stale_count} baseline entries in {outcome.file} "
-                    "matched no finding"
-                },
+                "message": {"text": f"{outcome.stale_count} baseline entries in {outcome.file} matched no finding"},
             }
         )
     status = report.exit_status()
@@ -227,11 +209,7 @@ def document(report: Report) -> dict:
             }
         },
         "originalUriBaseIds": {
-            "SRCROOT": {
-                "description": {
-                    "text": "The repository root: the directory holding .specguard.yaml or .git."
-                }
-            }
+            "SRCROOT": {"description": {"text": "The repository root: the directory holding .specguard.yaml or .git."}}
         },
         "columnKind": "unicodeCodePoints",
         "invocations": [invocation],

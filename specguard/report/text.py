@@ -82,11 +82,13 @@ def summary(report: Report) -> str:
     outcome = getattr(report, "baseline", None)
     if outcome is not None:
         n = outcome.suppressed
-        line += (f"\nspecguard: {n} finding{'s' if n != 1 else ''} suppressed by the baseline "
-                 f"{escape_controls(outcome.file)}")
+        line += (
+            f"\nspecguard: {n} finding{'s' if n != 1 else ''} suppressed by the baseline "
+            f"{escape_controls(outcome.file)}"
+        )
         if outcome.stale_count:
             k = outcome.stale_count
-            line += (f"; {k} stale entr{'ies' if k != 1 else 'y'} matched no finding"
-                     + (" (--strict-baseline: fails the run)" if outcome.strict else
-                        " (write the baseline again to drop them)"))
+            line += f"; {k} stale entr{'ies' if k != 1 else 'y'} matched no finding" + (
+                " (--strict-baseline: fails the run)" if outcome.strict else " (write the baseline again to drop them)"
+            )
     return line

@@ -77,7 +77,7 @@ def _kind(schema: dict, node: dict) -> tuple[str, dict | None]:
         target = _resolve(schema, node)
         return f"mapping ({node['$ref'].split('/')[-1]})", target
     if "x-dimension" in node:
-        return f"{node['x-dimension'].replace('_', ' ')} [{node['x-si-unit']}], e.g. \"{node['examples'][0]}\"", None
+        return f'{node["x-dimension"].replace("_", " ")} [{node["x-si-unit"]}], e.g. "{node["examples"][0]}"', None
     if "enum" in node:
         return "one of " + ", ".join(f"`{v}`" for v in node["enum"]), None
     if "const" in node:

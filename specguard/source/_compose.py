@@ -89,8 +89,20 @@ def _short(s: str, n: int = 40) -> str:
 
 class _Map:
     __slots__ = (
-        "path", "span", "anchor", "count0", "height", "own", "keyspans", "key", "key_span",
-        "merge_at", "sources", "flow", "last", "merge_value",
+        "path",
+        "span",
+        "anchor",
+        "count0",
+        "height",
+        "own",
+        "keyspans",
+        "key",
+        "key_span",
+        "merge_at",
+        "sources",
+        "flow",
+        "last",
+        "merge_value",
     )
 
     def __init__(self, path, span, anchor, count0, flow, merge_value):
@@ -660,5 +672,3 @@ def compose(
     assert root_span is not None  # set together with root by emit()
     locs[()] = NodeLoc(None, root_span)
     return root, locs, findings
-
-

@@ -75,12 +75,8 @@ def _directive_problem(line: str, lineno: int) -> PrescanProblem | None:
             1,
         )
     if name == "TAG":
-        return PrescanProblem(
-            "yaml-structure", "'%TAG' directives are not allowed: specs carry no tags", lineno, 1
-        )
-    return PrescanProblem(
-        "yaml-structure", f"directive '%{_short(name, 20)}' is not allowed in a spec", lineno, 1
-    )
+        return PrescanProblem("yaml-structure", "'%TAG' directives are not allowed: specs carry no tags", lineno, 1)
+    return PrescanProblem("yaml-structure", f"directive '%{_short(name, 20)}' is not allowed in a spec", lineno, 1)
 
 
 def prescan(text: str, max_depth: int) -> list[PrescanProblem]:
@@ -95,9 +91,7 @@ def prescan(text: str, max_depth: int) -> list[PrescanProblem]:
     directives_allowed = True
 
     def over(lineno: int, column: int) -> list[PrescanProblem]:
-        problems.append(
-            PrescanProblem("yaml-limit", f"nesting is deeper than {max_depth} levels", lineno, column)
-        )
+        problems.append(PrescanProblem("yaml-limit", f"nesting is deeper than {max_depth} levels", lineno, column))
         return problems
 
     def scan_flow(line: str, pos: int, lineno: int) -> bool:

@@ -136,10 +136,12 @@ def _check_text(ref: str) -> None:
     if _HIDDEN.search(ref):
         raise ReferenceProblem(
             f"reference {q} contains a bidirectional control or an invisible character; "
-            "it would open a file other than the one a reviewer reads")
+            "it would open a file other than the one a reviewer reads"
+        )
     if ref.startswith("\\\\") or ref.startswith("//"):
         raise ReferenceProblem(
-            f"reference {q} is a network (UNC) path; it must be a relative path inside the repository")
+            f"reference {q} is a network (UNC) path; it must be a relative path inside the repository"
+        )
     if ref.startswith("/") or ref.startswith("\\"):
         raise ReferenceProblem(f"reference {q} is an absolute path; it must be a relative path inside the repository")
     if _DRIVE.match(ref):
@@ -243,12 +245,14 @@ def open_reference(
         d_real = os.path.realpath(os.fspath(d))
         if real == d_real or _inside(real, d_real):
             raise ReferenceProblem(
-                f"reference {q} points to '{_rel(d_real, real_root)}', which specs may not reference")
+                f"reference {q} points to '{_rel(d_real, real_root)}', which specs may not reference"
+            )
     spelled = _case_problem(base_dir, ref)
     if spelled is not None:
         raise ReferenceProblem(
             f"reference {q} does not match the letter case on disk: the file on disk is spelled "
-            f"{_quote(spelled)} (write it exactly so, for case-sensitive disks)")
+            f"{_quote(spelled)} (write it exactly so, for case-sensitive disks)"
+        )
     try:
         st = os.lstat(real)
     except FileNotFoundError:

@@ -121,9 +121,7 @@ def _index(doc: Document, result: LoadResult, file: str, prefix: Path_, strip: i
             continue
         target = prefix + tuple(path[strip:])
         span = nodeloc.value
-        doc.values[target] = Location(
-            file, span.line, span.column, span.end_line, span.end_column, target
-        )
+        doc.values[target] = Location(file, span.line, span.column, span.end_line, span.end_column, target)
         if nodeloc.key is not None:
             k = nodeloc.key
             doc.keys[target] = Location(file, k.line, k.column, k.end_line, k.end_column, target)
@@ -185,9 +183,7 @@ class _Closure:
     total: int = 0
 
     def _fail(self, message: str, at: Location, related: tuple[Location, ...] = ()) -> None:
-        self.doc.findings.append(
-            Finding("reference-invalid", "error", message, at, related=related)
-        )
+        self.doc.findings.append(Finding("reference-invalid", "error", message, at, related=related))
 
     def resolve(
         self,
@@ -206,14 +202,10 @@ class _Closure:
             self._fail(f"{_dotted(ref_path)}: a reference must be a relative path string", at)
             return None
         if depth > MAX_CLOSURE_DEPTH:
-            self._fail(
-                f"references nest deeper than {MAX_CLOSURE_DEPTH} levels at '{ref}'", at
-            )
+            self._fail(f"references nest deeper than {MAX_CLOSURE_DEPTH} levels at '{ref}'", at)
             return None
         try:
-            target, raw, size = open_reference(
-                self.root, referencing, ref, self.limits, denied=self.denied
-            )
+            target, raw, size = open_reference(self.root, referencing, ref, self.limits, denied=self.denied)
         except ReferenceProblem as exc:
             self._fail(f"{_dotted(ref_path)}: {exc}", at)
             return None
@@ -283,9 +275,7 @@ class _Closure:
         _index(self.doc, result, target_rel, prefix, 1)
         self.doc.via[prefix] = via
         if REFERENCE_KEY in body:
-            resolved_body = self.resolve(
-                body, prefix, section, target, target_rel, chain + [real], depth + 1
-            )
+            resolved_body = self.resolve(body, prefix, section, target, target_rel, chain + [real], depth + 1)
             if resolved_body is None:
                 return None
             body = resolved_body

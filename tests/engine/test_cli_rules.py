@@ -51,9 +51,7 @@ def test_explain_accepts_an_alias(tmp_path, capsys):
 
     write_rule(
         tmp_path,
-        rule_text(id="test-new-name").replace(
-            "remedies: []", "remedies: []\naliases: [test-old-name]"
-        ),
+        rule_text(id="test-new-name").replace("remedies: []", "remedies: []\naliases: [test-old-name]"),
     )
     assert main(["explain", "test-old-name", "--rules-dir", str(tmp_path)]) == 0
     out = capsys.readouterr().out

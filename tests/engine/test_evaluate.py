@@ -301,9 +301,7 @@ def test_missing_figure_is_one_not_applicable_finding(tmp_path, spec_locate):
         ),
     )
     assert len(out) == 1 and out[0].rule == "rule-not-applicable"
-    assert (
-        "ripple_pp" in out[0].message and "no inductance at the ripple frequency" in out[0].message
-    )
+    assert "ripple_pp" in out[0].message and "no inductance at the ripple frequency" in out[0].message
     assert out[0].location.path == ("operating_points",)
 
 
@@ -382,9 +380,7 @@ def test_internal_error_maps_to_exit_3():
     from specguard.findings import Finding, Location
     from specguard.pipeline import FileResult, Report
 
-    report = Report(
-        (FileResult("a.axis.yaml", (Finding("internal-error", "error", "x", Location("a")),)),)
-    )
+    report = Report((FileResult("a.axis.yaml", (Finding("internal-error", "error", "x", Location("a")),)),))
     assert report.exit_status() == 3
 
 
@@ -396,8 +392,7 @@ def test_whole_pack_builds_every_finding_on_ten_points(spec_locate):
     pack = load_pack()
     spec, locate = spec_locate
     points = [
-        {"name": f"p{i}", "speed": f"{300 * i} rpm", "torque": "20 mN*m", "ambient": "30 degC"}
-        for i in range(10)
+        {"name": f"p{i}", "speed": f"{300 * i} rpm", "torque": "20 mN*m", "ambient": "30 degC"} for i in range(10)
     ]
     spec, locate = base_spec(
         "dc-axis",

@@ -36,9 +36,7 @@ def _run(rule_id: str, which: str):
 
     prule = PACK.get(rule_id)
     spec, findings = build(example_data(prule, which), _locate)
-    assert spec is not None, (
-        f"{which} example of {rule_id} is not a valid spec: {[f.message for f in findings]}"
-    )
+    assert spec is not None, f"{which} example of {rule_id} is not a valid spec: {[f.message for f in findings]}"
     figures = compute(spec)
     status, reason, _ = applicability(prule, spec, figures)
     assert status == "applies", f"{which} example of {rule_id} does not exercise the rule: {reason}"
@@ -50,9 +48,7 @@ def _run(rule_id: str, which: str):
 @pytest.mark.parametrize("rule_id", [r.id for r in PACK.rules])
 def test_failing_example_yields_the_finding(rule_id):
     found = _run(rule_id, "fail")
-    assert [f for f in found if f.rule == rule_id], (
-        f"no {rule_id} finding: {[f.message for f in found]}"
-    )
+    assert [f for f in found if f.rule == rule_id], f"no {rule_id} finding: {[f.message for f in found]}"
 
 
 @needs_compute
@@ -76,14 +72,10 @@ def test_examples_are_valid_specs(rule_id):
 def test_medical_axis_violates_the_team_rule():
     from specguard.pipeline import RunOptions, check_paths
 
-    report = check_paths(
-        [str(ROOT / "examples" / "medical")], root=ROOT, options=RunOptions(pack=PACK)
-    )
+    report = check_paths([str(ROOT / "examples" / "medical")], root=ROOT, options=RunOptions(pack=PACK))
     hits = [f for f in report.findings if f.rule == "pwm-medical-minimum"]
     assert len(hits) == 1
-    assert (
-        hits[0].message == "the leg PWM frequency 25 kHz is below the medical line's minimum 40 kHz"
-    )
+    assert hits[0].message == "the leg PWM frequency 25 kHz is below the medical line's minimum 40 kHz"
     assert hits[0].location.file == "examples/medical/axes/infusion-drive.axis.yaml"
     assert hits[0].location.path == ("stage", "pwm", "frequency")
 
@@ -92,9 +84,7 @@ def test_team_rule_loads_through_extra_dirs():
     prule = PACK.get("pwm-medical-minimum")
     assert prule is not None and not prule.builtin
     assert prule.rule.applies.tags == ("medical",)
-    assert [(b.severity, b.comparator, b.threshold) for b in prule.bands] == [
-        ("error", "below", 40_000.0)
-    ]
+    assert [(b.severity, b.comparator, b.threshold) for b in prule.bands] == [("error", "below", 40_000.0)]
 
 
 def test_overlay_merge_rules():

@@ -138,9 +138,7 @@ def test_bad_rule_file_is_reported_with_file_line_column(tmp_path):
     with pytest.raises(PackError) as info:
         load_pack([tmp_path])
     (line,) = info.value.problems
-    assert line.startswith(
-        f"{tmp_path.as_posix()}/test-bad-figure.yaml:3:9: figure: unknown figure 'ripple_ration'"
-    )
+    assert line.startswith(f"{tmp_path.as_posix()}/test-bad-figure.yaml:3:9: figure: unknown figure 'ripple_ration'")
     assert "did you mean 'ripple_ratio'" in line
 
 
@@ -222,25 +220,19 @@ def test_file_must_be_named_after_the_id(tmp_path):
 
 def test_duplicate_id_and_alias_are_errors(tmp_path):
     write_rule(tmp_path, rule_text(id="pwm-audible"))
-    with pytest.raises(
-        PackError, match="'pwm-audible' is already used by specguard.pack/pwm-audible.yaml"
-    ):
+    with pytest.raises(PackError, match="'pwm-audible' is already used by specguard.pack/pwm-audible.yaml"):
         load_pack([tmp_path])
     other = tmp_path / "b"
     write_rule(
         other,
-        rule_text(id="test-alias-clash").replace(
-            "remedies: []", "remedies: []\naliases: [choke-saturation]"
-        ),
+        rule_text(id="test-alias-clash").replace("remedies: []", "remedies: []\naliases: [choke-saturation]"),
     )
     with pytest.raises(PackError, match="'choke-saturation' is already used"):
         load_pack([other])
 
 
 def test_yaml_problems_in_a_rule_file_are_located(tmp_path):
-    (tmp_path / "test-dup-key.yaml").write_text(
-        rule_text(id="test-dup-key") + "title: again\n", encoding="utf-8"
-    )
+    (tmp_path / "test-dup-key.yaml").write_text(rule_text(id="test-dup-key") + "title: again\n", encoding="utf-8")
     with pytest.raises(PackError) as info:
         load_pack([tmp_path])
     assert "test-dup-key.yaml:" in str(info.value) and "title" in str(info.value)
@@ -258,9 +250,7 @@ def test_builtin_pack_is_cached():
 def test_aliases_resolve(tmp_path):
     write_rule(
         tmp_path,
-        rule_text(id="test-renamed-rule").replace(
-            "remedies: []", "remedies: []\naliases: [test-old-name]"
-        ),
+        rule_text(id="test-renamed-rule").replace("remedies: []", "remedies: []\naliases: [test-old-name]"),
     )
     pack = load_pack([tmp_path])
     assert pack.get("test-old-name") is pack.get("test-renamed-rule")

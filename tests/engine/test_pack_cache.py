@@ -31,8 +31,11 @@ def test_damaged_or_foreign_entry_is_ignored(tmp_path):
     fresh(tmp_path)
     entry = next((tmp_path / f"pack-v{ev.PACK_CACHE_FORMAT}").glob("*.json"))
     parsed = fresh()
-    for damage in ("{", json.dumps({"pack_cache_format": 99, "rules": []}),
-                   json.dumps({"pack_cache_format": ev.PACK_CACHE_FORMAT, "rules": [{"x": 1}]})):
+    for damage in (
+        "{",
+        json.dumps({"pack_cache_format": 99, "rules": []}),
+        json.dumps({"pack_cache_format": ev.PACK_CACHE_FORMAT, "rules": [{"x": 1}]}),
+    ):
         entry.write_text(damage, encoding="utf-8")
         assert fresh(tmp_path).rules == parsed.rules
 

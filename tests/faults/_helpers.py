@@ -117,9 +117,7 @@ def tmpfs(directory: Path, size: str = "64k"):
 
 
 def remount(directory: Path, mode: str) -> None:
-    subprocess.run(
-        ["mount", "-o", f"remount,{mode}", str(directory)], check=True, capture_output=True
-    )
+    subprocess.run(["mount", "-o", f"remount,{mode}", str(directory)], check=True, capture_output=True)
 
 
 def fill(directory: Path) -> None:

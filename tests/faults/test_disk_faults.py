@@ -73,9 +73,7 @@ def test_fi01_no_space_is_not_a_false_pass(tmp_path):
     """A clean spec (exit 0 otherwise) with a report that cannot be written: still 2."""
     repo = make_repo(tmp_path / "repo")
     clean = repo / "axes" / "carousel.axis.yaml"
-    assert run_cli(
-        "check", str(clean.relative_to(repo)), "--fail-level", "error", cwd=repo
-    ).returncode in (0, 1)
+    assert run_cli("check", str(clean.relative_to(repo)), "--fail-level", "error", cwd=repo).returncode in (0, 1)
     full = tmp_path / "full"
     with tmpfs(full):
         fill(full)
@@ -98,9 +96,7 @@ def test_fi03_no_space_for_the_baseline(repo, tmp_path):
     full = tmp_path / "full"
     with tmpfs(full):
         baseline = full / "baseline.json"
-        first = run_cli(
-            "check", "axes/sample-lift.axis.yaml", "--write-baseline", str(baseline), cwd=repo
-        )
+        first = run_cli("check", "axes/sample-lift.axis.yaml", "--write-baseline", str(baseline), cwd=repo)
         assert first.returncode in (0, 1), out(first)
         before = baseline.read_bytes()
         assert json.loads(before)["entries"], "the demo axis should give baseline entries"
@@ -251,15 +247,8 @@ def test_fi22_temp_files_beside_the_target(repo, tmp_path, monkeypatch, capsys):
     def run(directory: Path) -> None:
         made.clear()
         targets = [directory / "r.json", directory / "r.html", directory / "baseline.json"]
-        assert (
-            cli.main(
-                ["check", "axes", "--format", "json", "--output", str(targets[0]), *no_cache()]
-            )
-            == 1
-        )
-        assert cli.main(
-            ["report", "axes/carousel.axis.yaml", "--html", str(targets[1]), *no_cache("report")]
-        ) in (0, 1)
+        assert cli.main(["check", "axes", "--format", "json", "--output", str(targets[0]), *no_cache()]) == 1
+        assert cli.main(["report", "axes/carousel.axis.yaml", "--html", str(targets[1]), *no_cache("report")]) in (0, 1)
         assert cli.main(["check", "axes", "--write-baseline", str(targets[2]), *no_cache()]) in (
             0,
             1,
@@ -286,9 +275,7 @@ def test_fi23_mode_kept_on_replace(repo, tmp_path, monkeypatch, capsys):
     target.write_bytes(OLD_REPORT)
     os.chmod(target, 0o640)
     monkeypatch.chdir(repo)
-    assert (
-        cli.main(["check", "axes", "--format", "json", "--output", str(target), *no_cache()]) == 1
-    )
+    assert cli.main(["check", "axes", "--format", "json", "--output", str(target), *no_cache()]) == 1
     capsys.readouterr()
     assert stat.S_IMODE(os.stat(target).st_mode) == 0o640
     assert json.loads(target.read_bytes())["report_format"] == 1

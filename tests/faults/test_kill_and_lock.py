@@ -255,9 +255,7 @@ def test_fi11_lock_of_a_killed_holder_is_free(tmp_path):
     repo = make_repo(tmp_path / "repo")
     baseline = repo / "baseline.json"
     lock = bl.lock_path(baseline)
-    holder = subprocess.Popen(
-        [sys.executable, "-c", _HOLDER, str(lock)], stdout=subprocess.PIPE, env=env()
-    )
+    holder = subprocess.Popen([sys.executable, "-c", _HOLDER, str(lock)], stdout=subprocess.PIPE, env=env())
     try:
         assert holder.stdout.readline().strip() == b"held"
         assert lock.read_text().strip() == str(holder.pid)

@@ -119,9 +119,7 @@ def test_signal_during_the_write(tmp_path, signum):
     target = outdir / "report.sarif"
     target.write_bytes(OLD)
     marker = tmp_path / "writing"
-    extra = sitecustomize(
-        tmp_path / "inject", _SLOW_WRITE.format(marker=str(marker), watched=str(outdir))
-    )
+    extra = sitecustomize(tmp_path / "inject", _SLOW_WRITE.format(marker=str(marker), watched=str(outdir)))
     proc = _start(
         repo,
         ["check", "axes", "--format", "sarif", "--output", str(target)],

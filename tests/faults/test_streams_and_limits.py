@@ -116,8 +116,7 @@ def many(tmp_path_factory) -> Path:
 def test_fi17_head_closes_the_pipe(many, tmp_path):
     """`specguard check ... | head -1` in a shell: no traceback, status kept."""
     script = (
-        f"{sys.executable} -m specguard check axes 2>{tmp_path / 'err'} | head -1; "
-        'echo "status=${PIPESTATUS[0]}"'
+        f'{sys.executable} -m specguard check axes 2>{tmp_path / "err"} | head -1; echo "status=${{PIPESTATUS[0]}}"'
     )
     done = subprocess.run(
         ["bash", "-c", script],
@@ -287,10 +286,7 @@ def _entry(report: dict, rel: str) -> dict:
 
 
 def _findings(entry: dict) -> list:
-    return [
-        (f["rule"], f["location"]["line"], f["location"]["column"], f["message"])
-        for f in entry["findings"]
-    ]
+    return [(f["rule"], f["location"]["line"], f["location"]["column"], f["message"]) for f in entry["findings"]]
 
 
 @pytest.mark.parametrize("n_jobs", [1, 2])
@@ -311,9 +307,7 @@ def test_fi24_spec_rewritten_during_the_run(tmp_path, when, n_jobs):
     assert expected["first"] != expected["second"]
     assert any(f[0] == "unit-invalid" for f in expected["second"])
     spec.write_bytes(first)
-    extra = sitecustomize(
-        tmp_path / "inject", _REWRITE.format(target=str(spec.resolve()), new=second, when=when)
-    )
+    extra = sitecustomize(tmp_path / "inject", _REWRITE.format(target=str(spec.resolve()), new=second, when=when))
     done = cli(
         "check",
         "axes",

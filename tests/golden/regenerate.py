@@ -46,8 +46,7 @@ def run_demo(fmt: str) -> tuple[int, bytes]:
     )
     if done.returncode not in (0, 1):
         raise SystemExit(
-            f"specguard demo --format {fmt} failed ({done.returncode}):\n"
-            + done.stderr.decode(errors="replace")
+            f"specguard demo --format {fmt} failed ({done.returncode}):\n" + done.stderr.decode(errors="replace")
         )
     return done.returncode, done.stdout
 

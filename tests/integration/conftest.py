@@ -16,8 +16,13 @@ DEMO = REPO / "examples" / "robot"
 
 
 def git(cwd: Path, *args: str) -> str:
-    env = dict(os.environ, GIT_AUTHOR_NAME="t", GIT_AUTHOR_EMAIL="t@example.invalid",
-               GIT_COMMITTER_NAME="t", GIT_COMMITTER_EMAIL="t@example.invalid")
+    env = dict(
+        os.environ,
+        GIT_AUTHOR_NAME="t",
+        GIT_AUTHOR_EMAIL="t@example.invalid",
+        GIT_COMMITTER_NAME="t",
+        GIT_COMMITTER_EMAIL="t@example.invalid",
+    )
     done = subprocess.run(["git", *args], cwd=cwd, env=env, capture_output=True, text=True)
     assert done.returncode == 0, done.stderr
     return done.stdout
@@ -27,8 +32,14 @@ def specguard(cwd: Path, *args: str, env: dict | None = None, stdin=None) -> sub
     full = dict(os.environ) if env is None else dict(env)
     if env is None:
         full.pop("CI", None)
-    return subprocess.run([sys.executable, "-m", "specguard", *args], cwd=cwd, env=full,
-                          capture_output=True, text=True, stdin=subprocess.DEVNULL)
+    return subprocess.run(
+        [sys.executable, "-m", "specguard", *args],
+        cwd=cwd,
+        env=full,
+        capture_output=True,
+        text=True,
+        stdin=subprocess.DEVNULL,
+    )
 
 
 def copy_demo(dest: Path, broken: bool = False) -> Path:
@@ -63,8 +74,9 @@ def many_specs(dest: Path, n: int = 30) -> Path:
     import re
 
     copy_demo(dest)
-    texts = [(DEMO / "axes" / f"{t}.axis.yaml").read_text(encoding="utf-8")
-             for t in ("sample-lift", "pipette-x", "carousel")]
+    texts = [
+        (DEMO / "axes" / f"{t}.axis.yaml").read_text(encoding="utf-8") for t in ("sample-lift", "pipette-x", "carousel")
+    ]
     for i in range(n):
         text = re.sub(r"ambient: \d+ degC", f"ambient: {20 + i % 23} degC", texts[i % 3])
         (dest / "axes" / f"gen-{i:03d}.axis.yaml").write_text(text, encoding="utf-8")

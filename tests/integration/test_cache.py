@@ -50,8 +50,12 @@ def test_cached_result_round_trips_exactly(demo_repo, cache_env):
     config, pack = load_policy(None, demo_repo)
     options = RunOptions(config=config, pack=pack)
     salt = rc.run_salt({"t": 1}, [])
-    fresh = check_paths([str(demo_repo)], root=demo_repo, options=options,
-                        result_cache=rc.ResultCache(str(cache_env), salt, str(demo_repo)))
+    fresh = check_paths(
+        [str(demo_repo)],
+        root=demo_repo,
+        options=options,
+        result_cache=rc.ResultCache(str(cache_env), salt, str(demo_repo)),
+    )
     again_cache = rc.ResultCache(str(cache_env), salt, str(demo_repo))
     again = check_paths([str(demo_repo)], root=demo_repo, options=options, result_cache=again_cache)
     assert again_cache.hits == 3 and again_cache.misses == 0
@@ -146,7 +150,8 @@ def test_policy_rule_pack_and_version_changes_invalidate(demo_repo, cache_env, t
     # A policy that changes a rule's severity must not be answered from the cache.
     specguard(demo_repo, "check", ".")
     (demo_repo / ".specguard.yaml").write_text(
-        "format: 1\nrules:\n  ripple-over-rated-current: {enabled: false}\n", encoding="utf-8")
+        "format: 1\nrules:\n  ripple-over-rated-current: {enabled: false}\n", encoding="utf-8"
+    )
     warm = specguard(demo_repo, "check", ".")
     cold = specguard(demo_repo, "check", ".", "--no-cache")
     assert warm.stdout == cold.stdout and "[ripple-over-rated-current]" not in warm.stdout
@@ -182,9 +187,16 @@ def test_four_concurrent_runs_share_one_cache(tmp_path, cache_env):
 
     repo = many_specs(tmp_path / "many", 30)
     expected = specguard(repo, "check", ".", "--format", "json", "--no-cache").stdout
-    procs = [subprocess.Popen([sys.executable, "-m", "specguard", "check", ".", "--format", "json",
-                               "-j", "1"], cwd=repo, stdout=subprocess.PIPE, stderr=subprocess.PIPE,
-                              text=True) for _ in range(4)]
+    procs = [
+        subprocess.Popen(
+            [sys.executable, "-m", "specguard", "check", ".", "--format", "json", "-j", "1"],
+            cwd=repo,
+            stdout=subprocess.PIPE,
+            stderr=subprocess.PIPE,
+            text=True,
+        )
+        for _ in range(4)
+    ]
     results = [p.communicate() for p in procs]
     for out, err in results:
         assert out == expected
@@ -222,10 +234,15 @@ def test_cache_dir_inside_the_work_tree_stays_out_of_git_status(demo_repo):
 def test_waivers_are_applied_after_the_cache(demo_repo, cache_env, monkeypatch):
     """A waiver that expires between two runs takes effect on a warm cache."""
     spec = _sample_lift(demo_repo)
-    spec.write_text(spec.read_text(encoding="utf-8") + (
-        "waivers:\n  - rule: ripple-over-rated-current\n    at: hold\n"
-        "    reason: bench test shows it is fine\n    approved_by: lead\n"
-        "    expires: 2030-01-01\n"), encoding="utf-8")
+    spec.write_text(
+        spec.read_text(encoding="utf-8")
+        + (
+            "waivers:\n  - rule: ripple-over-rated-current\n    at: hold\n"
+            "    reason: bench test shows it is fine\n    approved_by: lead\n"
+            "    expires: 2030-01-01\n"
+        ),
+        encoding="utf-8",
+    )
     monkeypatch.setenv("SOURCE_DATE_EPOCH", "1893456000")  # 2030-01-01: still valid
     first = specguard(demo_repo, "check", ".")
     assert "(waived)" in first.stdout
@@ -233,5 +250,7 @@ def test_waivers_are_applied_after_the_cache(demo_repo, cache_env, monkeypatch):
     warm = specguard(demo_repo, "check", ".")
     cold = specguard(demo_repo, "check", ".", "--no-cache")
     assert warm.stdout == cold.stdout and "expired on 2030-01-01" in warm.stdout
-    assert specguard(demo_repo, "check", ".", "--no-waivers").stdout == \
-        specguard(demo_repo, "check", ".", "--no-waivers", "--no-cache").stdout
+    assert (
+        specguard(demo_repo, "check", ".", "--no-waivers").stdout
+        == specguard(demo_repo, "check", ".", "--no-waivers", "--no-cache").stdout
+    )

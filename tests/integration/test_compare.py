@@ -19,8 +19,9 @@ def changed(demo_repo):
     """HEAD: the demo. Work tree: sample-lift with a larger rated current (2.2 A
     instead of 1.9 A), carousel removed, a new spec with a missing-unit error."""
     spec = demo_repo / "axes" / "sample-lift.axis.yaml"
-    spec.write_text(spec.read_text(encoding="utf-8").replace(
-        "rated_current: 1.9 A", "rated_current: 2.2 A"), encoding="utf-8")
+    spec.write_text(
+        spec.read_text(encoding="utf-8").replace("rated_current: 1.9 A", "rated_current: 2.2 A"), encoding="utf-8"
+    )
     (demo_repo / "axes" / "carousel.axis.yaml").unlink()
     new = (demo_repo / "axes" / "pipette-x.axis.yaml").read_text(encoding="utf-8")
     (demo_repo / "axes" / "pipette-y.axis.yaml").write_text(new, encoding="utf-8")
@@ -66,19 +67,20 @@ def test_findings_new_resolved_unchanged_and_files(changed):
 
 def test_no_new_findings_exit_zero(demo_repo):
     spec = demo_repo / "axes" / "sample-lift.axis.yaml"
-    spec.write_text(spec.read_text(encoding="utf-8").replace(
-        "rated_current: 1.9 A", "rated_current: 2.2 A"), encoding="utf-8")
+    spec.write_text(
+        spec.read_text(encoding="utf-8").replace("rated_current: 1.9 A", "rated_current: 2.2 A"), encoding="utf-8"
+    )
     done = specguard(demo_repo, "compare", "HEAD")
     assert done.returncode == 0
     assert "figure rated_current (axis): 1.9 A -> 2.2 A (+15.8 %)" in done.stdout
-    assert re.search(r"resolved: axes/sample-lift\.axis\.yaml:21:5: warning: .*\[ripple-over-rated-current\]",
-                     done.stdout)
+    assert re.search(
+        r"resolved: axes/sample-lift\.axis\.yaml:21:5: warning: .*\[ripple-over-rated-current\]", done.stdout
+    )
 
 
 def test_line_moves_alone_are_not_changes(demo_repo):
     spec = demo_repo / "axes" / "sample-lift.axis.yaml"
-    spec.write_text("# a comment moves every line down\n\n" + spec.read_text(encoding="utf-8"),
-                    encoding="utf-8")
+    spec.write_text("# a comment moves every line down\n\n" + spec.read_text(encoding="utf-8"), encoding="utf-8")
     code, doc = _json(demo_repo)
     lift = [f for f in doc["files"] if f["file"] == "axes/sample-lift.axis.yaml"][0]
     assert lift["status"] == "unchanged" and lift["findings"]["unchanged"]

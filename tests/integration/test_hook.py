@@ -12,9 +12,11 @@ HEAVY = ("pydantic", "ruamel", "numpy", "jsonschema", "specguard.engine", "specg
 
 
 def test_no_files_exits_zero_without_loading_the_checker(demo_repo):
-    code = ("import sys; from specguard.cli import main; status = main(['hook']); "
-            "print(status, sorted({m.split('.')[0] if not m.startswith('specguard') else m for m in sys.modules}"
-            f" & set({HEAVY!r})))")
+    code = (
+        "import sys; from specguard.cli import main; status = main(['hook']); "
+        "print(status, sorted({m.split('.')[0] if not m.startswith('specguard') else m for m in sys.modules}"
+        f" & set({HEAVY!r})))"
+    )
     done = subprocess.run([sys.executable, "-c", code], cwd=demo_repo, capture_output=True, text=True)
     assert done.stdout.strip() == "0 []", done.stdout + done.stderr
     assert specguard(demo_repo, "hook").returncode == 0
@@ -39,12 +41,14 @@ def test_library_reached_through_a_chain(demo_repo):
     lib = demo_repo / "library" / "motors"
     base = lib / "coreless-22mm-24v.yaml"
     variant = lib / "variant.yaml"
-    variant.write_text("format: 1\nmotor:\n  from: coreless-22mm-24v.yaml\n  rated_current: 1.8 A\n",
-                       encoding="utf-8")
+    variant.write_text("format: 1\nmotor:\n  from: coreless-22mm-24v.yaml\n  rated_current: 1.8 A\n", encoding="utf-8")
     spec = demo_repo / "axes" / "sample-lift.axis.yaml"
-    spec.write_text(spec.read_text(encoding="utf-8").replace(
-        "from: ../library/motors/coreless-22mm-24v.yaml", "from: ../library/motors/variant.yaml"),
-        encoding="utf-8")
+    spec.write_text(
+        spec.read_text(encoding="utf-8").replace(
+            "from: ../library/motors/coreless-22mm-24v.yaml", "from: ../library/motors/variant.yaml"
+        ),
+        encoding="utf-8",
+    )
     done = specguard(demo_repo, "hook", str(base.relative_to(demo_repo)))
     assert "axes/sample-lift.axis.yaml" in done.stdout and "in 1 file" in done.stdout
 
@@ -53,9 +57,13 @@ def test_flow_mapping_reference_is_found(demo_repo):
     spec = demo_repo / "axes" / "pipette-x.axis.yaml"
     text = spec.read_text(encoding="utf-8")
     assert "motor:\n  from: ../library/motors/coreless-13mm-12v.yaml\n" in text
-    spec.write_text(text.replace("motor:\n  from: ../library/motors/coreless-13mm-12v.yaml\n",
-                                 "motor: {from: '../library/motors/coreless-13mm-12v.yaml'}\n"),
-                    encoding="utf-8")
+    spec.write_text(
+        text.replace(
+            "motor:\n  from: ../library/motors/coreless-13mm-12v.yaml\n",
+            "motor: {from: '../library/motors/coreless-13mm-12v.yaml'}\n",
+        ),
+        encoding="utf-8",
+    )
     done = specguard(demo_repo, "hook", "library/motors/coreless-13mm-12v.yaml")
     assert "axes/pipette-x.axis.yaml" in done.stdout
 
@@ -67,8 +75,13 @@ def test_unreferenced_yaml_is_ignored_silently(demo_repo):
 
 
 def test_spec_and_its_library_reported_once(demo_repo):
-    done = specguard(demo_repo, "hook", "axes/sample-lift.axis.yaml",
-                     "library/motors/coreless-22mm-24v.yaml", "library/chokes/choke-47uh-6a.yaml")
+    done = specguard(
+        demo_repo,
+        "hook",
+        "axes/sample-lift.axis.yaml",
+        "library/motors/coreless-22mm-24v.yaml",
+        "library/chokes/choke-47uh-6a.yaml",
+    )
     assert "in 1 file" in done.stdout
     assert done.stdout.count("[choke-saturation]") == 1
 

@@ -17,8 +17,18 @@ from .conftest import REPO, copy_demo, git
 
 pytestmark = pytest.mark.slow
 
-_SKIP = {".git", ".venv", ".pytest_cache", ".hypothesis", ".ruff_cache", ".benchmarks",
-         "specguard.egg-info", "__pycache__", "build", "dist"}
+_SKIP = {
+    ".git",
+    ".venv",
+    ".pytest_cache",
+    ".hypothesis",
+    ".ruff_cache",
+    ".benchmarks",
+    "specguard.egg-info",
+    "__pycache__",
+    "build",
+    "dist",
+}
 
 
 def _ignore(directory, names):
@@ -36,8 +46,7 @@ def hook_env(tmp_path_factory):
     git(hook_repo, "add", "-A")
     git(hook_repo, "commit", "-qm", "hook repo snapshot")
     rev = git(hook_repo, "rev-parse", "HEAD").strip()
-    env = dict(os.environ, PRE_COMMIT_HOME=str(base / "pre-commit-home"),
-               SPECGUARD_CACHE_DIR=str(base / "cache"))
+    env = dict(os.environ, PRE_COMMIT_HOME=str(base / "pre-commit-home"), SPECGUARD_CACHE_DIR=str(base / "cache"))
     env.pop("CI", None)
     env.pop("VIRTUAL_ENV", None)
     work = base / "work"
@@ -45,11 +54,13 @@ def hook_env(tmp_path_factory):
     git(work, "init", "-q")
     (work / ".pre-commit-config.yaml").write_text(
         f"repos:\n  - repo: {hook_repo.as_posix()}\n    rev: {rev}\n    hooks:\n      - id: specguard\n",
-        encoding="utf-8")
+        encoding="utf-8",
+    )
     git(work, "add", ".pre-commit-config.yaml")
     git(work, "commit", "-qm", "config", "--no-verify")
-    done = subprocess.run(["pre-commit", "install", "--install-hooks"], cwd=work, env=env,
-                          capture_output=True, text=True, timeout=600)
+    done = subprocess.run(
+        ["pre-commit", "install", "--install-hooks"], cwd=work, env=env, capture_output=True, text=True, timeout=600
+    )
     if done.returncode != 0 and "Could not find a version" in done.stdout + done.stderr:
         pytest.skip("the package index is not reachable for pre-commit's environment")
     assert done.returncode == 0, done.stdout + done.stderr
@@ -57,10 +68,16 @@ def hook_env(tmp_path_factory):
 
 
 def _commit(work: Path, env: dict, message: str) -> subprocess.CompletedProcess:
-    genv = dict(env, GIT_AUTHOR_NAME="t", GIT_AUTHOR_EMAIL="t@example.invalid",
-                GIT_COMMITTER_NAME="t", GIT_COMMITTER_EMAIL="t@example.invalid")
-    return subprocess.run(["git", "commit", "-qm", message], cwd=work, env=genv,
-                          capture_output=True, text=True, timeout=300)
+    genv = dict(
+        env,
+        GIT_AUTHOR_NAME="t",
+        GIT_AUTHOR_EMAIL="t@example.invalid",
+        GIT_COMMITTER_NAME="t",
+        GIT_COMMITTER_EMAIL="t@example.invalid",
+    )
+    return subprocess.run(
+        ["git", "commit", "-qm", message], cwd=work, env=genv, capture_output=True, text=True, timeout=300
+    )
 
 
 def test_commits_through_the_real_hook(hook_env):
@@ -98,14 +115,17 @@ def test_commits_through_the_real_hook(hook_env):
     assert done.returncode != 0
     assert "[peak-current-over-stage-limit]" in out
     assert "axes/carousel.axis.yaml" in out  # the axis that uses the stage is named
-    assert subprocess.run(["git", "status", "--porcelain"], cwd=work, capture_output=True,
-                          text=True).stdout.strip() == "M  library/stages/inverter-48v-10a.yaml"
+    assert (
+        subprocess.run(["git", "status", "--porcelain"], cwd=work, capture_output=True, text=True).stdout.strip()
+        == "M  library/stages/inverter-48v-10a.yaml"
+    )
     subprocess.run(["git", "reset", "-q", "--hard"], cwd=work, check=True)
 
     # 4. a policy file alone (the hook's file pattern takes it) re-checks every spec:
     # a tighter ripple threshold makes the committed clean axis fail
     (work / ".specguard.yaml").write_text(
-        "format: 1\nrules:\n  ripple-over-rated-current:\n    thresholds: {error: 0.05}\n", encoding="utf-8")
+        "format: 1\nrules:\n  ripple-over-rated-current:\n    thresholds: {error: 0.05}\n", encoding="utf-8"
+    )
     subprocess.run(["git", "add", ".specguard.yaml"], cwd=work, check=True)
     done = _commit(work, env, "tighter ripple policy")
     out = done.stdout + done.stderr

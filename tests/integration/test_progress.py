@@ -24,9 +24,14 @@ def _on_pty(repo, *args, extra_env=None):
     env = dict(os.environ)
     env.pop("CI", None)
     env.update(extra_env or {})
-    proc = subprocess.Popen([sys.executable, "-m", "specguard", "check", ".", "--no-cache",
-                             "-j", "1", *args], cwd=repo, stdout=subprocess.PIPE, stderr=slave,
-                            stdin=subprocess.DEVNULL, env=env)
+    proc = subprocess.Popen(
+        [sys.executable, "-m", "specguard", "check", ".", "--no-cache", "-j", "1", *args],
+        cwd=repo,
+        stdout=subprocess.PIPE,
+        stderr=slave,
+        stdin=subprocess.DEVNULL,
+        env=env,
+    )
     os.close(slave)
     chunks = []
     out = proc.stdout.read()
@@ -64,7 +69,12 @@ def test_no_progress_in_ci_or_quiet(slow_repo):
 def test_no_progress_when_stderr_is_not_a_terminal(slow_repo):
     env = dict(os.environ)
     env.pop("CI", None)
-    done = subprocess.run([sys.executable, "-m", "specguard", "check", ".", "--no-cache", "-j", "1"],
-                          cwd=slow_repo, capture_output=True, text=True, env=env)
+    done = subprocess.run(
+        [sys.executable, "-m", "specguard", "check", ".", "--no-cache", "-j", "1"],
+        cwd=slow_repo,
+        capture_output=True,
+        text=True,
+        env=env,
+    )
     assert done.returncode == 1
     assert done.stderr == ""

@@ -22,9 +22,13 @@ HAVE_GIT = shutil.which("git") is not None
 
 
 def _git(repo: Path, *args: str) -> None:
-    subprocess.run(["git", *args], cwd=repo, check=True, capture_output=True,
-                   env={"GIT_CONFIG_GLOBAL": "/dev/null", "GIT_CONFIG_NOSYSTEM": "1",
-                        "HOME": str(repo), "PATH": "/usr/bin:/bin"})
+    subprocess.run(
+        ["git", *args],
+        cwd=repo,
+        check=True,
+        capture_output=True,
+        env={"GIT_CONFIG_GLOBAL": "/dev/null", "GIT_CONFIG_NOSYSTEM": "1", "HOME": str(repo), "PATH": "/usr/bin:/bin"},
+    )
 
 
 def _monorepo(tmp: Path) -> Path:
@@ -60,8 +64,9 @@ def _verdicts(done) -> tuple[set, int]:
     out = set()
     for f in report["files"]:
         for finding in f["findings"]:
-            out.add((f["file"], finding["rule"], finding["severity"], finding["message"],
-                     finding.get("operating_point")))
+            out.add(
+                (f["file"], finding["rule"], finding["severity"], finding["message"], finding.get("operating_point"))
+            )
     return out, done.returncode
 
 
@@ -115,8 +120,9 @@ def test_config_names_the_policy_file_in_force_and_config_overrides(tmp_path):
     assert pump.stdout.decode().splitlines()[0] == "policy file in force: .specguard.yaml"
     changed = run_cli("config", "--changed", "lab/robot/axes/carousel.axis.yaml", cwd=repo).stdout.decode()
     assert "threshold warning = 0.1" in changed and "threshold error" not in changed, changed
-    forced = run_cli("check", "--no-cache", "--config", ".specguard.yaml",
-                     "lab/robot/axes/carousel.axis.yaml", cwd=repo)
+    forced = run_cli(
+        "check", "--no-cache", "--config", ".specguard.yaml", "lab/robot/axes/carousel.axis.yaml", cwd=repo
+    )
     assert forced.returncode == 0, forced.stdout.decode()  # the top policy: fail level error
 
 
@@ -144,10 +150,8 @@ def test_a_directory_walk_skips_what_git_ignores(tmp_path):
     assert "scratch/robot/axes/pipette-x.axis.yaml" in files
     assert "robot/axes/carousel.axis.yaml" in files
     # a file named on the command line is always checked, ignored or not
-    named = run_cli("check", "--format", "json", "--no-cache",
-                    "build/lib/demo/robot/axes/carousel.axis.yaml", cwd=repo)
-    assert [f["file"] for f in json.loads(named.stdout)["files"]] == [
-        "build/lib/demo/robot/axes/carousel.axis.yaml"]
+    named = run_cli("check", "--format", "json", "--no-cache", "build/lib/demo/robot/axes/carousel.axis.yaml", cwd=repo)
+    assert [f["file"] for f in json.loads(named.stdout)["files"]] == ["build/lib/demo/robot/axes/carousel.axis.yaml"]
 
 
 def test_outside_git_virtual_environments_and_build_output_are_skipped(tmp_path):
@@ -170,8 +174,7 @@ def test_a_spec_outside_the_repository_is_checked_within_its_own_root(tmp_path):
     (other / ".specguard.yaml").write_text("format: 1\n", encoding="utf-8")
     target = other / "robot" / "axes" / "sample-lift.axis.yaml"
     absolute = run_cli("check", "--no-cache", "--no-color", str(target), cwd=here)
-    relative = run_cli("check", "--no-cache", "--no-color", "../elsewhere/robot/axes/sample-lift.axis.yaml",
-                       cwd=here)
+    relative = run_cli("check", "--no-cache", "--no-color", "../elsewhere/robot/axes/sample-lift.axis.yaml", cwd=here)
     a, r = absolute.stdout.decode(), relative.stdout.decode()
     assert absolute.returncode == relative.returncode == 1, a + absolute.stderr.decode()
     assert "input-unreadable" not in a + r and "reference-invalid" not in a + r
@@ -182,8 +185,8 @@ def test_a_spec_outside_the_repository_is_checked_within_its_own_root(tmp_path):
     assert all(line.startswith("../elsewhere/robot/") for line in r.splitlines() if ": error: " in line)
     # library references stay inside that root
     (other / "robot" / "axes" / "escape.axis.yaml").write_text(
-        target.read_text(encoding="utf-8").replace("../library/motors/", "../../../here/"),
-        encoding="utf-8")
+        target.read_text(encoding="utf-8").replace("../library/motors/", "../../../here/"), encoding="utf-8"
+    )
     escape = run_cli("check", "--no-cache", "--no-color", str(other / "robot/axes/escape.axis.yaml"), cwd=here)
     assert "leads outside the repository root [reference-invalid]" in escape.stdout.decode()
 
@@ -200,7 +203,8 @@ def test_report_without_the_plotting_library_writes_the_report_and_says_why(tmp_
         "def find_spec(name, package=None):\n"
         "    return None if name.split('.')[0] == 'matplotlib' else _find(name, package)\n"
         "importlib.util.find_spec = find_spec\n",
-        encoding="utf-8")
+        encoding="utf-8",
+    )
     repo = tmp_path / "repo"
     shutil.copytree(EXAMPLES / "robot", repo / "robot")
     (repo / ".git").mkdir()

@@ -57,14 +57,10 @@ def leg_sources(scheme, volts, m, period):
 def run(netlist: str, workdir: Path) -> dict:
     path = workdir / "case.cir"
     path.write_text(netlist)
-    done = subprocess.run(
-        [NGSPICE, "-b", str(path)], capture_output=True, text=True, timeout=120, cwd=workdir
-    )
+    done = subprocess.run([NGSPICE, "-b", str(path)], capture_output=True, text=True, timeout=120, cwd=workdir)
     match = RESULT.search(done.stdout)
     if done.returncode != 0 or not match:
-        raise RuntimeError(
-            f"ngspice failed rc={done.returncode}:\n{done.stdout[-2000:]}\n{done.stderr[-2000:]}"
-        )
+        raise RuntimeError(f"ngspice failed rc={done.returncode}:\n{done.stdout[-2000:]}\n{done.stderr[-2000:]}")
     return {k: float(v) for k, v in (item.split("=") for item in match.group(1).split())}
 
 

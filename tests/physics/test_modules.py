@@ -46,15 +46,9 @@ def test_three_phase_helpers():
     assert p.terminal_inductance_salient(80e-6, 120e-6, 0.0) == pytest.approx(160e-6)
     assert p.terminal_inductance_salient(80e-6, 120e-6, math.pi / 2) == pytest.approx(240e-6)
     # docs/physics.md §2.2: six-step chop_one worst V/(4 L_tt f), chop_both V/(2 L_tt f)
-    assert p.six_step_ripple_peak_to_peak_worst(
-        48.0, 200e-6, 0.0, 20e3, "six_step_chop_one"
-    ) == pytest.approx(3.0)
-    assert p.six_step_ripple_peak_to_peak_worst(
-        48.0, 200e-6, 0.0, 20e3, "six_step_chop_both"
-    ) == pytest.approx(6.0)
-    assert p.six_step_ripple_peak_to_peak(
-        48.0, 200e-6, 0.0, 20e3, 0.5, "six_step_chop_one"
-    ) == pytest.approx(3.0)
+    assert p.six_step_ripple_peak_to_peak_worst(48.0, 200e-6, 0.0, 20e3, "six_step_chop_one") == pytest.approx(3.0)
+    assert p.six_step_ripple_peak_to_peak_worst(48.0, 200e-6, 0.0, 20e3, "six_step_chop_both") == pytest.approx(6.0)
+    assert p.six_step_ripple_peak_to_peak(48.0, 200e-6, 0.0, 20e3, 0.5, "six_step_chop_one") == pytest.approx(3.0)
     assert p.modulation_index_limit("svpwm") == pytest.approx(1.1547, rel=1e-4)
     assert math.isnan(p.ripple_rms_polynomial(1.2, "svpwm"))
 
@@ -88,32 +82,18 @@ def test_operating_sinusoidal_and_window():
 
 def test_remedies_not_reachable():
     assert (
-        p.added_inductance_min(
-            48.0, 1e-6, 0.1, 20e3, "bipolar", 1.0, 0.1, modulation=0.0, added_inductance_bound=1e-5
-        )
+        p.added_inductance_min(48.0, 1e-6, 0.1, 20e3, "bipolar", 1.0, 0.1, modulation=0.0, added_inductance_bound=1e-5)
         is None
     )
-    assert (
-        p.pwm_frequency_min(
-            48.0, 1e-6, 0.1, "bipolar", 1.0, 0.1, modulation=0.0, frequency_bound=1e5
-        )
-        is None
-    )
-    assert (
-        p.supply_voltage_min_for_operating_point(30.0, 0.95, "bipolar", voltage_bound=24.0) is None
-    )
+    assert p.pwm_frequency_min(48.0, 1e-6, 0.1, "bipolar", 1.0, 0.1, modulation=0.0, frequency_bound=1e5) is None
+    assert p.supply_voltage_min_for_operating_point(30.0, 0.95, "bipolar", voltage_bound=24.0) is None
     # already met -> 0.0; the ripple can never reach the limit (y >= 1) -> 0.0
-    assert (
-        p.added_inductance_min(24.0, 10e-3, 1.0, 20e3, "bipolar", 10.0, 0.2, modulation=0.2) == 0.0
-    )
+    assert p.added_inductance_min(24.0, 10e-3, 1.0, 20e3, "bipolar", 10.0, 0.2, modulation=0.2) == 0.0
     assert p.inductance_min_worst(10.0, 10.0, 20e3, "bipolar", 3.0) == 0.0
     assert p.pwm_frequency_min_three_phase(48.0, 1e-4, 1.0, "svpwm", 5.0, 0.2) == pytest.approx(
         48.0 * (math.sqrt(3) / 12) / (1e-4 * 1.0)
     )
-    assert (
-        p.pwm_frequency_min_three_phase(48.0, 1e-4, 1.0, "svpwm", 5.0, 0.2, frequency_bound=1e3)
-        is None
-    )
+    assert p.pwm_frequency_min_three_phase(48.0, 1e-4, 1.0, "svpwm", 5.0, 0.2, frequency_bound=1e3) is None
 
 
 def test_rms_and_harmonic_loss():
@@ -135,12 +115,8 @@ def test_rms_and_harmonic_loss():
 def test_eddy_index():
     # docs/physics.md §2.4: bipolar V^2 (1 - m^2), unipolar V^2 |m|(1 - |m|)
     assert p.ripple_voltage_mean_square_hbridge(10.0, 0.5, "bipolar") == pytest.approx(75.0)
-    assert p.ripple_voltage_mean_square_hbridge(10.0, -0.3, "unipolar_single") == pytest.approx(
-        21.0
-    )
-    assert p.ripple_voltage_mean_square_hbridge(
-        10.0, 0.3, "unipolar_phase_shifted"
-    ) == pytest.approx(21.0)
+    assert p.ripple_voltage_mean_square_hbridge(10.0, -0.3, "unipolar_single") == pytest.approx(21.0)
+    assert p.ripple_voltage_mean_square_hbridge(10.0, 0.3, "unipolar_phase_shifted") == pytest.approx(21.0)
     assert p.ripple_slope_mean_square(4.0, 2e-3) == pytest.approx(1e6)
     assert p.eddy_loss_index(3.0, 1.5) == 2.0
     # docs/physics.md §5.1 skin depths: copper 0.47 mm at 20 kHz, NdFeB 4.3 mm at 20 kHz
@@ -163,17 +139,13 @@ def test_thermal_extras():
     assert p.winding_temperature_rise_peak_on_off(10.0, 2.0, 20.0, 10.0, 40.0) == pytest.approx(
         20 * (1 - math.exp(-0.5)) / (1 - math.exp(-2.0))
     )
-    runaway = p.winding_temperature_cyclic(
-        [p.Segment(1e4, 30.0)], 1.0, 10.0, 200.0, 2.0, 6.0, 298.15
-    )
+    runaway = p.winding_temperature_cyclic([p.Segment(1e4, 30.0)], 1.0, 10.0, 200.0, 2.0, 6.0, 298.15)
     assert runaway.runaway and runaway.peak_winding_temperature == math.inf
     assert p.winding_temperature_steady(30.0, 1.0, 2.0, 6.0, 298.15) == math.inf
 
 
 def test_control_choke_braking_consistency_audible():
-    assert p.current_loop_bandwidth_max(20e3, math.pi / 4, double_update=True) == pytest.approx(
-        3333.3, rel=1e-4
-    )
+    assert p.current_loop_bandwidth_max(20e3, math.pi / 4, double_update=True) == pytest.approx(3333.3, rel=1e-4)
     assert p.pwm_resolution_counts(100e6, 20e3) == 2500.0
     assert p.pwm_counts_used(2500.0, 0.04) == pytest.approx(100.0)
     assert p.pulse_on_time(0.02, 20e3) == pytest.approx(1e-6)
@@ -189,15 +161,11 @@ def test_control_choke_braking_consistency_audible():
     cap = p.capacitor_absorbable_energy(1e-3, 48.0, 60.0)
     assert cap == pytest.approx(0.648)
     assert p.bus_voltage_after_braking(1e-3, 48.0, cap) == pytest.approx(60.0)
-    assert p.shunt_resistance_max(56.0, p.braking_peak_power(2.0, 300.0)) == pytest.approx(
-        56.0**2 / 600.0
-    )
+    assert p.shunt_resistance_max(56.0, p.braking_peak_power(2.0, 300.0)) == pytest.approx(56.0**2 / 600.0)
     assert p.braking_average_power(45.0, 3.0) == 15.0
     # docs/physics.md §4.4 conventions
     k_e_ll_pk = 0.1
-    assert p.torque_constant_expected(k_e_ll_pk, "line_peak_per_phase_rms") == pytest.approx(
-        math.sqrt(1.5) * 0.1
-    )
+    assert p.torque_constant_expected(k_e_ll_pk, "line_peak_per_phase_rms") == pytest.approx(math.sqrt(1.5) * 0.1)
     assert p.torque_constant_expected(k_e_ll_pk, "line_peak_per_phase_peak") == pytest.approx(
         1.5 * 4 * p.flux_linkage_from_line_back_emf_peak(k_e_ll_pk, 4)
     )
@@ -221,9 +189,7 @@ def test_inductance_helpers():
     est = p.inductance_derated(300e-6)
     assert est == pytest.approx(100e-6)  # common practice 1/3, no published source
     assert p.inductance_derated(300e-6, 0.5) == pytest.approx(150e-6)
-    vals = p.inductance_at_frequency(
-        np.array([500.0, 20e3]), [1e3, 10e3, 50e3], [200e-6, 120e-6, 70e-6]
-    )
+    vals = p.inductance_at_frequency(np.array([500.0, 20e3]), [1e3, 10e3, 50e3], [200e-6, 120e-6, 70e-6])
     assert vals.extrapolated.tolist() == [True, False]
     assert p.inductance_from_measured_ripple(24.0, 12.0, 0.5, 50e-6, 1.5) == pytest.approx(2e-4)
     with pytest.raises(ValueError):

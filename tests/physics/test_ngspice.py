@@ -20,9 +20,7 @@ from .spice_cases import (
     svpwm_netlist,
 )
 
-pytestmark = pytest.mark.skipif(
-    NGSPICE is None, reason="ngspice not installed (apt-get install ngspice)"
-)
+pytestmark = pytest.mark.skipif(NGSPICE is None, reason="ngspice not installed (apt-get install ngspice)")
 
 WORST = {}
 
@@ -31,9 +29,7 @@ def _record(name, value):
     WORST[name] = max(WORST.get(name, 0.0), value)
 
 
-@pytest.mark.parametrize(
-    "case", HBRIDGE_CASES, ids=[f"ngspice-{c[0]}-Tr/tau={c[6]}" for c in HBRIDGE_CASES]
-)
+@pytest.mark.parametrize("case", HBRIDGE_CASES, ids=[f"ngspice-{c[0]}-Tr/tau={c[6]}" for c in HBRIDGE_CASES])
 def test_hbridge_against_ngspice(case, tmp_path):
     scheme, volts, m, resistance, inductance, i_avg, ratio = case
     netlist, pwm_frequency, emf = hbridge_netlist(*case)

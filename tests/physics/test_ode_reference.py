@@ -75,9 +75,7 @@ RL_CASES = [
 ]
 
 
-@pytest.mark.parametrize(
-    "scheme,m,ratio", RL_CASES, ids=[f"solve_ivp-{c[0]}-{c[1]}-{c[2]}" for c in RL_CASES]
-)
+@pytest.mark.parametrize("scheme,m,ratio", RL_CASES, ids=[f"solve_ivp-{c[0]}-{c[1]}-{c[2]}" for c in RL_CASES])
 def test_rl_loop_against_solve_ivp(scheme, m, ratio):
     volts, resistance, inductance = 36.0, 0.8, 150e-6
     tau = inductance / resistance
@@ -89,9 +87,7 @@ def test_rl_loop_against_solve_ivp(scheme, m, ratio):
     b = _simulate_period(intervals, resistance, inductance, emf, 0.0)[0][0]
     a = _simulate_period(intervals, resistance, inductance, emf, 1.0)[0][0] - b
     i0 = b / (1.0 - a)
-    (i_end, integral, integral_sq), peak, trough = _simulate_period(
-        intervals, resistance, inductance, emf, i0
-    )
+    (i_end, integral, integral_sq), peak, trough = _simulate_period(intervals, resistance, inductance, emf, i0)
     period = 1.0 / f_pwm
     exact = p.ripple_exact(volts, inductance, resistance, f_pwm, m, scheme, emf)
     # check values: scipy solve_ivp RK45 of the loop equation (docs/physics.md §1.1)
@@ -124,9 +120,7 @@ def _inverter_simulation(m, strategy, carrier_ratio=360, samples=2000):
     current = np.cumsum((v_phase - emf).ravel()) * dt  # time stepping, whole fundamental
     per_period = current.reshape(carrier_ratio, samples)
     ripple = per_period - per_period.mean(axis=1, keepdims=True)
-    return math.sqrt(np.mean(ripple * ripple)), float(
-        (ripple.max(axis=1) - ripple.min(axis=1)).max()
-    )
+    return math.sqrt(np.mean(ripple * ripple)), float((ripple.max(axis=1) - ripple.min(axis=1)).max())
 
 
 @pytest.mark.parametrize(
@@ -136,9 +130,7 @@ def _inverter_simulation(m, strategy, carrier_ratio=360, samples=2000):
 def test_three_phase_against_own_inverter_simulation(strategy, m):
     rms_sim, pp_sim = _inverter_simulation(m, strategy)  # check values: simulation above
     assert p.phase_ripple_rms(1.0, 1.0, 1.0, m, strategy) == pytest.approx(rms_sim, rel=1e-2)
-    assert p.phase_ripple_peak_to_peak_max(1.0, 1.0, 1.0, m, strategy) == pytest.approx(
-        pp_sim, rel=1e-2
-    )
+    assert p.phase_ripple_peak_to_peak_max(1.0, 1.0, 1.0, m, strategy) == pytest.approx(pp_sim, rel=1e-2)
     numeric = p.phase_ripple_numeric(1.0, 1.0, 1.0, m, strategy, angle_count=360)
     assert numeric.rms == pytest.approx(rms_sim, rel=1e-2)
     assert numeric.peak_to_peak_max == pytest.approx(pp_sim, rel=1e-2)
@@ -209,9 +201,7 @@ def _thermal_rhs(segment, r20, c_w, c_h, r_wh, r_ha, t_a):
 def test_cyclic_thermal_against_solve_ivp():
     segments = [p.Segment(15.0, 4.0, 0.5), p.Segment(40.0, 1.0, 0.2), p.Segment(5.0, 6.0, 0.0)]
     r20, c_w, c_h, r_wh, r_ha, t_a = 0.8, 10.0, 200.0, 2.0, 6.0, 313.15
-    result = p.winding_temperature_cyclic(
-        segments, r20, c_w, c_h, r_wh, r_ha, t_a, samples_per_segment=64
-    )
+    result = p.winding_temperature_cyclic(segments, r20, c_w, c_h, r_wh, r_ha, t_a, samples_per_segment=64)
     # check values: scipy solve_ivp over many cycles with R(T) refreshed continuously
     cycle = sum(s.duration for s in segments)
 
@@ -247,9 +237,7 @@ def test_cyclic_thermal_against_solve_ivp():
 def test_steady_state_against_cyclic_and_fixed_point():
     # one constant segment: cyclic periodic state = closed-form steady state (§6.3)
     steady = p.winding_temperature_steady(5.0, 0.8, 2.0, 6.0, 313.15, housing_loss=1.5)
-    cyc = p.winding_temperature_cyclic(
-        [p.Segment(30.0, 5.0, 1.5)], 0.8, 10.0, 200.0, 2.0, 6.0, 313.15
-    )
+    cyc = p.winding_temperature_cyclic([p.Segment(30.0, 5.0, 1.5)], 0.8, 10.0, 200.0, 2.0, 6.0, 313.15)
     assert cyc.peak_winding_temperature == pytest.approx(steady, rel=1e-9)
     # and the fixed point of theta = R_th P(theta) + R_ha P_h, iterated (independent)
     theta = 0.0

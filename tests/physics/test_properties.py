@@ -42,9 +42,7 @@ def test_unipolar_symmetric_and_largest_at_half(v, ind, r, f, m):
 
 
 @SETTINGS
-@given(
-    volts, inductance, resistance, frequency, st.floats(-1.0, 1.0), schemes, st.floats(1.01, 10.0)
-)
+@given(volts, inductance, resistance, frequency, st.floats(-1.0, 1.0), schemes, st.floats(1.01, 10.0))
 def test_ripple_falls_with_inductance_and_frequency(v, ind, r, f, m, scheme, k):
     base = p.ripple_peak_to_peak(v, ind, r, f, m, scheme)
     assert p.ripple_peak_to_peak(v, k * ind, r, f, m, scheme) <= base * (1 + 1e-12)
@@ -65,8 +63,7 @@ def test_nothing_negative_and_exact_below_linear(v, ind, r, f, m, scheme):
     rr = max(r, 1e-3)
     scale = p.ripple_peak_to_peak_worst(v, ind, rr, f, scheme)
     assert exact.peak_to_peak == pytest.approx(
-        p.ripple_peak_offset(v, ind, rr, f, m, scheme)
-        + p.ripple_trough_offset(v, ind, rr, f, m, scheme),
+        p.ripple_peak_offset(v, ind, rr, f, m, scheme) + p.ripple_trough_offset(v, ind, rr, f, m, scheme),
         rel=1e-9,
         abs=1e-12 * scale,
     )
@@ -81,9 +78,7 @@ def test_nothing_negative_and_exact_below_linear(v, ind, r, f, m, scheme):
 def test_exact_tends_to_linear_as_resistance_vanishes(m, r):
     # R -> 0: the exact forms must tend to the linear ones without 0/0
     lin = p.ripple_peak_to_peak_linear(24.0, 1e-3, 20e3, m, "unipolar_single")
-    assert p.ripple_peak_to_peak(24.0, 1e-3, r, 20e3, m, "unipolar_single") == pytest.approx(
-        lin, rel=1e-6, abs=1e-15
-    )
+    assert p.ripple_peak_to_peak(24.0, 1e-3, r, 20e3, m, "unipolar_single") == pytest.approx(lin, rel=1e-6, abs=1e-15)
     assert p.ripple_rms(24.0, 1e-3, r, 20e3, m, "unipolar_single") == pytest.approx(
         lin / (2 * math.sqrt(3.0)), rel=1e-6, abs=1e-15
     )
@@ -105,16 +100,12 @@ def test_vector_equals_scalar_loop():
         for field in vec._fields:
             loop = [
                 getattr(
-                    p.ripple_exact(
-                        *(float(x[i]) for x in (v, ind, r + 0.1, f, m)), scheme, float(emf[i])
-                    ),
+                    p.ripple_exact(*(float(x[i]) for x in (v, ind, r + 0.1, f, m)), scheme, float(emf[i])),
                     field,
                 )
                 for i in range(n)
             ]
-            assert np.allclose(
-                np.broadcast_to(getattr(vec, field), (n,)), loop, rtol=1e-12, atol=0
-            ), field
+            assert np.allclose(np.broadcast_to(getattr(vec, field), (n,)), loop, rtol=1e-12, atol=0), field
         vec_pp = p.ripple_peak_to_peak(v, ind, r, f, m, scheme)
         assert np.allclose(
             vec_pp,
@@ -124,9 +115,7 @@ def test_vector_equals_scalar_loop():
         )
         vmax = p.supply_voltage_max_ripple(v * 0.3, ind, r, f, 1.0, scheme)
         loop = [
-            p.supply_voltage_max_ripple(
-                float(v[i] * 0.3), float(ind[i]), float(r[i]), float(f[i]), 1.0, scheme
-            )
+            p.supply_voltage_max_ripple(float(v[i] * 0.3), float(ind[i]), float(r[i]), float(f[i]), 1.0, scheme)
             for i in range(n)
         ]
         assert np.allclose(vmax, loop, rtol=1e-8, atol=0)
@@ -160,21 +149,15 @@ def test_vector_equals_scalar_loop():
 def test_remedies_applied_meet_target(v, ind, r, f, m, scheme, rated, fraction):
     target = fraction * rated
     tol = 1 + 1e-9
-    added = p.added_inductance_min(
-        v, ind, r, f, scheme, rated, fraction, modulation=m, added_inductance_bound=10.0
-    )
+    added = p.added_inductance_min(v, ind, r, f, scheme, rated, fraction, modulation=m, added_inductance_bound=10.0)
     if added is not None:
         assert p.ripple_peak_to_peak(v, ind + added, r, f, m, scheme) <= target * tol
         if added > 0.0:  # and it is the minimum: a little less does not do
             assert p.ripple_peak_to_peak(v, ind + added * 0.999, r, f, m, scheme) > target
-    worst = p.added_inductance_min(
-        v, ind, r, f, scheme, rated, fraction, added_inductance_bound=10.0
-    )
+    worst = p.added_inductance_min(v, ind, r, f, scheme, rated, fraction, added_inductance_bound=10.0)
     if worst is not None:
         assert p.ripple_peak_to_peak_worst(v, ind + worst, r, f, scheme) <= target * tol
-    f_min = p.pwm_frequency_min(
-        v, ind, r, scheme, rated, fraction, modulation=m, frequency_bound=1e7
-    )
+    f_min = p.pwm_frequency_min(v, ind, r, scheme, rated, fraction, modulation=m, frequency_bound=1e7)
     if f_min:
         assert p.ripple_peak_to_peak(v, ind, r, f_min, m, scheme) <= target * tol
         assert p.ripple_peak_to_peak(v, ind, r, f_min * 0.999, m, scheme) > target
@@ -182,20 +165,14 @@ def test_remedies_applied_meet_target(v, ind, r, f, m, scheme, rated, fraction):
     if f_worst:
         assert p.ripple_peak_to_peak_worst(v, ind, r, f_worst, scheme) <= target * tol
     v_term = m * v
-    v_max = p.supply_voltage_max_for_ripple(
-        ind, r, f, scheme, rated, fraction, terminal_voltage=v_term
-    )
+    v_max = p.supply_voltage_max_for_ripple(ind, r, f, scheme, rated, fraction, terminal_voltage=v_term)
     if v_max is not None and math.isfinite(v_max):
         assert p.ripple_peak_to_peak(v_max, ind, r, f, v_term / v_max, scheme) <= target * tol
         above = v_max * 1.001
         assert p.ripple_peak_to_peak(above, ind, r, f, v_term / above, scheme) > target
     v_worst = p.supply_voltage_max_for_ripple(ind, r, f, scheme, rated, fraction)
-    assert p.ripple_peak_to_peak_worst(v_worst, ind, r, f, scheme) == pytest.approx(
-        target, rel=1e-9
-    )
-    v_min = p.supply_voltage_min_for_operating_point(
-        v_term, 0.97, scheme, current=rated, series_resistance=0.05
-    )
+    assert p.ripple_peak_to_peak_worst(v_worst, ind, r, f, scheme) == pytest.approx(target, rel=1e-9)
+    v_min = p.supply_voltage_min_for_operating_point(v_term, 0.97, scheme, current=rated, series_resistance=0.05)
     m_needed = p.modulation_required(v_term, v_min, rated, 0.05, scheme=scheme)
     assert m_needed == pytest.approx(p.modulation_max(0.97, scheme), rel=1e-9)
 

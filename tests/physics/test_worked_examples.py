@@ -39,14 +39,10 @@ def test_e2_inductance_for_ripple_limit():
     assert close(linear, 27.500e-3)
     assert exact == pytest.approx(27.499e-3, abs=0.6e-6)
     # the exact inverse really meets the target (docs/physics.md §1.4 tanh form)
-    assert close(
-        p.ripple_peak_to_peak_worst(550.0, exact, 0.25, 250.0, "unipolar_single"), 20.0, 1e-12
-    )
+    assert close(p.ripple_peak_to_peak_worst(550.0, exact, 0.25, 250.0, "unipolar_single"), 20.0, 1e-12)
     # docs/physics.md, worked example E2 variant, recomputed: 8.333 / 8.332 mH
     assert close(p.inductance_min_worst(500.0, 0.0, 500.0, "unipolar_single", 30.0), 8.333e-3)
-    assert p.inductance_min_worst(500.0, 0.30, 500.0, "unipolar_single", 30.0) == pytest.approx(
-        8.332e-3, abs=0.6e-6
-    )
+    assert p.inductance_min_worst(500.0, 0.30, 500.0, "unipolar_single", 30.0) == pytest.approx(8.332e-3, abs=0.6e-6)
 
 
 # ---------------------------------------------------------------- E4
@@ -139,9 +135,7 @@ def test_section_2_3_reference_table(m, spwm_rms, spwm_pp, svpwm_rms, svpwm_pp):
         ("svpwm", svpwm_rms, svpwm_pp),
     ):
         assert p.phase_ripple_rms(1.0, 1.0, 1.0, m, strategy) == pytest.approx(rms_value, abs=6e-6)
-        assert p.phase_ripple_peak_to_peak_max(1.0, 1.0, 1.0, m, strategy) == pytest.approx(
-            pp_value, abs=6e-6
-        )
+        assert p.phase_ripple_peak_to_peak_max(1.0, 1.0, 1.0, m, strategy) == pytest.approx(pp_value, abs=6e-6)
         numeric = p.phase_ripple_numeric(1.0, 1.0, 1.0, m, strategy, angle_count=720)
         assert numeric.rms == pytest.approx(rms_value, abs=6e-6)
         assert numeric.peak_to_peak_max == pytest.approx(pp_value, abs=6e-6)
@@ -222,9 +216,7 @@ def test_e10_two_node_transient():
     for t, (exact, decoupled) in expected.items():
         theta_w, _ = p.two_node_temperature_rise(t, 10.0, 0.0, c_w, c_h, 2.0, 6.0)
         assert close(theta_w, exact)
-        assert close(
-            p.two_node_temperature_rise_decoupled(t, 10.0, 2.0, 6.0, 20.0, 1200.0), decoupled
-        )
+        assert close(p.two_node_temperature_rise_decoupled(t, 10.0, 2.0, 6.0, 20.0, 1200.0), decoupled)
     theta_w, theta_h = p.two_node_temperature_rise(1e6, 10.0, 0.0, c_w, c_h, 2.0, 6.0)
     assert close(theta_w, 80.0) and close(theta_h, 60.0)  # docs/physics.md, worked example E10 final values
 
@@ -256,18 +248,12 @@ def test_e14_control_and_rules_of_thumb():
         ("unipolar_phase_shifted", 0.30e-3),
     ):  # E14 minimum inductance
         assert close(p.inductance_min_worst(48.0, 0.0, 20e3, scheme, 0.2 * 5.0), expected)
-    assert close(
-        p.supply_voltage_max_ripple_linear(15.0, 0.2e-3, 20e3, 1.0, "bipolar"), 19.524
-    )  # E14
+    assert close(p.supply_voltage_max_ripple_linear(15.0, 0.2e-3, 20e3, 1.0, "bipolar"), 19.524)  # E14
     assert close(p.supply_voltage_max_ripple_linear(0.0, 0.2e-3, 20e3, 1.0, "bipolar"), 8.0)  # E14
-    assert close(
-        p.supply_voltage_max_ripple_linear(15.0, 0.2e-3, 20e3, 1.0, "unipolar_single"), 20.455
-    )
+    assert close(p.supply_voltage_max_ripple_linear(15.0, 0.2e-3, 20e3, 1.0, "unipolar_single"), 20.455)
     # the exact bound with R = 0 is the linear one (E14 values)
     assert close(p.supply_voltage_max_ripple(15.0, 0.2e-3, 0.0, 20e3, 1.0, "bipolar"), 19.524)
-    assert close(
-        p.supply_voltage_max_ripple(15.0, 0.2e-3, 0.0, 20e3, 1.0, "unipolar_single"), 20.455
-    )
+    assert close(p.supply_voltage_max_ripple(15.0, 0.2e-3, 0.0, 20e3, 1.0, "unipolar_single"), 20.455)
     peak = p.choke_peak_current(15.0, 1.0)
     assert close(peak, 15.5) and close(p.saturation_current_required(peak, 0.25), 19.375)  # E14
     assert close(p.dead_time_fraction(500e-9, 20e3), 0.010)  # E14

@@ -112,9 +112,7 @@ def test_built_in_and_waived_findings_are_never_baselined():
 def test_entries_of_files_not_checked_are_neither_used_nor_stale(tmp_path):
     (tmp_path / "axes").mkdir()
     (tmp_path / "axes" / "other.axis.yaml").write_text("x")
-    base = roundtrip(
-        {SPEC: (finding(),), "axes/other.axis.yaml": (finding(file="axes/other.axis.yaml"),)}
-    )
+    base = roundtrip({SPEC: (finding(),), "axes/other.axis.yaml": (finding(file="axes/other.axis.yaml"),)})
     _, outcome = bl.apply(results(finding()), base, root=tmp_path)
     assert outcome.suppressed == 1 and outcome.stale == ()
 

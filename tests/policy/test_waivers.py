@@ -24,9 +24,7 @@ NAMES = {
 
 
 def run(findings, *waivers, overrides=None, today=TODAY, strict=False):
-    return apply_waivers(
-        findings, spec_with(*waivers), fake_locate(), overrides or {}, today, strict, names=NAMES
-    )
+    return apply_waivers(findings, spec_with(*waivers), fake_locate(), overrides or {}, today, strict, names=NAMES)
 
 
 def by_rule(out, rule):
@@ -37,10 +35,7 @@ def test_used_waiver_marks_the_finding_and_it_stops_counting():
     f = finding(point="hold")
     out = run([f], {"rule": "ripple-over-rated-current", "at": "hold"})
     assert len(out) == 1
-    assert (
-        out[0].waived
-        == "accepted in the lift review (approved by design review 12, until 2027-06-30)"
-    )
+    assert out[0].waived == "accepted in the lift review (approved by design review 12, until 2027-06-30)"
     report = Report((FileResult("axes/a.axis.yaml", tuple(out)),))
     assert report.exit_status() == 0  # waived: not counted
     assert report.counts()["error"] == 0
@@ -79,12 +74,11 @@ def test_path_prefix_stops_at_a_segment_boundary():
 def test_at_and_path_together_must_both_match():
     a = finding(point="hold", path=("stage", "pwm", "frequency"))
     b = finding(point="lift", path=("stage", "pwm", "frequency"))
-    out = run(
-        [a, b], {"rule": "ripple-over-rated-current", "at": "lift", "path": "/stage/pwm/frequency"}
-    )
-    assert [
-        (f.operating_point, f.waived is not None) for f in out if f.rule != "waiver-invalid"
-    ] == [("hold", False), ("lift", True)]
+    out = run([a, b], {"rule": "ripple-over-rated-current", "at": "lift", "path": "/stage/pwm/frequency"})
+    assert [(f.operating_point, f.waived is not None) for f in out if f.rule != "waiver-invalid"] == [
+        ("hold", False),
+        ("lift", True),
+    ]
 
 
 def test_no_target_waives_the_rule_in_the_whole_file_but_no_other_rule():

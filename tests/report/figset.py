@@ -33,15 +33,18 @@ def make_figures(spec) -> FigureSet:
     f_leg = float(stage.pwm.frequency)
     r_on = float(stage.switch_resistance or 0.0)
     t_lim = _limit(spec)
-    r_hot_motor = float(thermal.resistance_at_temperature(motor.terminal_resistance.value,
-                                                          motor.terminal_resistance.at, t_lim))
-    r20 = float(thermal.resistance_at_temperature(motor.terminal_resistance.value,
-                                                  motor.terminal_resistance.at, 293.15))
+    r_hot_motor = float(
+        thermal.resistance_at_temperature(motor.terminal_resistance.value, motor.terminal_resistance.at, t_lim)
+    )
+    r20 = float(
+        thermal.resistance_at_temperature(motor.terminal_resistance.value, motor.terminal_resistance.at, 293.15)
+    )
     f_r = float(hbridge.ripple_frequency(f_leg, scheme)) if fam == "hbridge" else f_leg
     if motor.inductance_vs_frequency:
         tab = motor.inductance_vs_frequency
-        l_motor = float(inductance.inductance_at_frequency(
-            f_r, [p.frequency for p in tab], [p.inductance for p in tab]).value)
+        l_motor = float(
+            inductance.inductance_at_frequency(f_r, [p.frequency for p in tab], [p.inductance for p in tab]).value
+        )
     else:
         l_motor = float(inductance.inductance_derated(motor.terminal_inductance.value))
     chokes = spec.chokes
@@ -69,8 +72,11 @@ def make_figures(spec) -> FigureSet:
         worst = float(hbridge.ripple_peak_to_peak_worst(volts, loop_l, loop_r, f_leg, scheme))
     else:
         # reachable modulation indices with the stage's duty limit (docs/physics.md §4.3)
-        top = float(operating.modulation_index(
-            operating.phase_voltage_peak_max(volts, scheme, float(stage.pwm.max_duty)), volts))
+        top = float(
+            operating.modulation_index(
+                operating.phase_voltage_peak_max(volts, scheme, float(stage.pwm.max_duty)), volts
+            )
+        )
         grid = np.linspace(0.0, top, 257)
         worst = float(np.nanmax(threephase.phase_ripple_peak_to_peak_max(volts, loop_l, f_leg, grid, scheme)))
     axis["ripple_pp_worst"] = worst
@@ -78,20 +84,32 @@ def make_figures(spec) -> FigureSet:
     th = motor.thermal
     points = []
     for op in spec.operating_points:
-        current = float(operating.current_for_torque(op.torque, motor.torque_constant.value,
-                                                     float(motor.no_load_current or 0.0)))
+        current = float(
+            operating.current_for_torque(op.torque, motor.torque_constant.value, float(motor.no_load_current or 0.0))
+        )
         emf = float(operating.back_emf(motor.back_emf_constant.value, op.speed))
-        vals: dict = {"speed": float(op.speed), "torque": float(op.torque), "ambient": float(op.ambient),
-                      "current": current}
+        vals: dict = {
+            "speed": float(op.speed),
+            "torque": float(op.torque),
+            "ambient": float(op.ambient),
+            "current": current,
+        }
         if fam == "hbridge":
             v_term = float(operating.terminal_voltage_dc(motor.back_emf_constant.value, op.speed, current, r_hot_motor))
-            m = float(operating.modulation_required(v_term, volts, current, 2.0 * r_on + r_choke,
-                                                    float(stage.pwm.dead_time or 0.0), f_leg, scheme))
+            m = float(
+                operating.modulation_required(
+                    v_term, volts, current, 2.0 * r_on + r_choke, float(stage.pwm.dead_time or 0.0), f_leg, scheme
+                )
+            )
             m_max = float(operating.modulation_max(stage.pwm.max_duty, scheme))
             pp = float(hbridge.ripple_peak_to_peak(volts, loop_l, loop_r, f_leg, m, scheme))
             r_rms = float(hbridge.ripple_rms(volts, loop_l, loop_r, f_leg, m, scheme))
-            vals.update(terminal_voltage=v_term, modulation=m, duty=float(hbridge.leg_duty(m, scheme)),
-                        modulation_ratio=m / m_max)
+            vals.update(
+                terminal_voltage=v_term,
+                modulation=m,
+                duty=float(hbridge.leg_duty(m, scheme)),
+                modulation_ratio=m / m_max,
+            )
         else:
             e_pk = emf * math.sqrt(2.0) / math.sqrt(3.0)  # line-to-line rms -> phase peak
             v_pk = e_pk + loop_r * current * math.sqrt(2.0)
@@ -99,21 +117,31 @@ def make_figures(spec) -> FigureSet:
             m_max = threephase.modulation_index_limit(scheme) * float(stage.pwm.max_duty)
             pp = float(threephase.phase_ripple_peak_to_peak_max(volts, loop_l, f_leg, m, scheme))
             r_rms = float(threephase.phase_ripple_rms(volts, loop_l, f_leg, m, scheme))
-            vals.update(terminal_voltage=v_pk, modulation=m,
-                        duty=0.5 + 0.5 * m / threephase.modulation_index_limit(scheme),
-                        modulation_ratio=m / m_max)
+            vals.update(
+                terminal_voltage=v_pk,
+                modulation=m,
+                duty=0.5 + 0.5 * m / threephase.modulation_index_limit(scheme),
+                modulation_ratio=m / m_max,
+            )
         vals.update(ripple_pp=pp, ripple_ratio=pp / rated, ripple_rms=r_rms)
         i_rms = float(rms.three_phase_current_rms(current, r_rms))
         vals["rms_current"] = i_rms
         if th is not None:
-            t_w = float(thermal.winding_temperature_steady(i_rms, loss_r20, th.winding_to_housing,
-                                                           th.housing_to_ambient, op.ambient))
+            t_w = float(
+                thermal.winding_temperature_steady(
+                    i_rms, loss_r20, th.winding_to_housing, th.housing_to_ambient, op.ambient
+                )
+            )
             vals["winding_temperature"] = t_w
             vals["winding_margin"] = t_lim - t_w
         points.append((op.name, vals))
     axis["modulation_max"] = max(v["modulation"] for _, v in points)
-    return FigureSet(axis=axis, points=tuple(points), missing={}, notes={
-        "loop_inductance": "test fixture: catalogue value x 1/3 or table value at the ripple frequency"})
+    return FigureSet(
+        axis=axis,
+        points=tuple(points),
+        missing={},
+        notes={"loop_inductance": "test fixture: catalogue value x 1/3 or table value at the ripple frequency"},
+    )
 
 
 REPO = __import__("pathlib").Path(__file__).resolve().parents[2]

@@ -18,15 +18,27 @@ from .test_html_safety import DANGEROUS_TAGS, injected_report, walk
 CHROMIUM = shutil.which("chromium")
 pytestmark = pytest.mark.skipif(CHROMIUM is None, reason="Debian chromium is not installed (apt-get install chromium)")
 
-FLAGS = ["--headless", "--no-sandbox", "--disable-gpu", "--disable-background-networking",
-         "--disable-component-update", "--disable-sync", "--no-first-run", "--disable-quic"]
+FLAGS = [
+    "--headless",
+    "--no-sandbox",
+    "--disable-gpu",
+    "--disable-background-networking",
+    "--disable-component-update",
+    "--disable-sync",
+    "--no-first-run",
+    "--disable-quic",
+]
 
 
 def _chromium(tmp_path: Path, page: Path, *extra: str) -> subprocess.CompletedProcess:
     profile = tmp_path / "profile"
     profile.mkdir(exist_ok=True)
-    return subprocess.run([CHROMIUM, *FLAGS, f"--user-data-dir={profile}", *extra, page.as_uri()],
-                          capture_output=True, timeout=90, cwd=tmp_path)
+    return subprocess.run(
+        [CHROMIUM, *FLAGS, f"--user-data-dir={profile}", *extra, page.as_uri()],
+        capture_output=True,
+        timeout=90,
+        cwd=tmp_path,
+    )
 
 
 def decode_png(data: bytes) -> tuple[int, int, int, list[bytes]]:
@@ -34,8 +46,8 @@ def decode_png(data: bytes) -> tuple[int, int, int, list[bytes]]:
     assert data[:8] == b"\x89PNG\r\n\x1a\n"
     pos, idat, width = 8, b"", 0
     while pos < len(data):
-        length, kind = struct.unpack(">I4s", data[pos:pos + 8])
-        body = data[pos + 8:pos + 8 + length]
+        length, kind = struct.unpack(">I4s", data[pos : pos + 8])
+        body = data[pos + 8 : pos + 8 + length]
         if kind == b"IHDR":
             width, height, depth, colour, _, _, interlace = struct.unpack(">IIBBBBB", body)
             assert depth == 8 and interlace == 0, (depth, interlace)
@@ -50,7 +62,7 @@ def decode_png(data: bytes) -> tuple[int, int, int, list[bytes]]:
     rows, prev = [], bytearray(stride)
     for y in range(height):
         f = raw[y * (stride + 1)]
-        line = bytearray(raw[y * (stride + 1) + 1:(y + 1) * (stride + 1)])
+        line = bytearray(raw[y * (stride + 1) + 1 : (y + 1) * (stride + 1)])
         for i in range(stride):
             a = line[i - channels] if i >= channels else 0
             b = prev[i]
@@ -82,7 +94,7 @@ def test_report_renders_in_headless_chromium(tmp_path: Path):
     colours, dark = set(), 0
     for row in rows[::4]:
         for x in range(0, width * channels, channels * 4):
-            px = row[x:x + 3] if channels >= 3 else row[x:x + 1] * 3
+            px = row[x : x + 3] if channels >= 3 else row[x : x + 1] * 3
             colours.add(px)
             dark += sum(px) < 600
     samples = len(rows[::4]) * len(range(0, width * channels, channels * 4))

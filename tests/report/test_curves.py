@@ -26,8 +26,13 @@ def _spec(scheme: str, volts: float, rated: float, max_duty: float = 0.95, profi
 
 
 def _figs(volts, inductance, resistance, f_leg, rated, points=()):
-    axis = {"supply_voltage": volts, "loop_inductance": inductance, "loop_resistance_hot": resistance,
-            "pwm_frequency_leg": f_leg, "rated_current": rated}
+    axis = {
+        "supply_voltage": volts,
+        "loop_inductance": inductance,
+        "loop_resistance_hot": resistance,
+        "pwm_frequency_leg": f_leg,
+        "rated_current": rated,
+    }
     return FigureSet(axis=axis, points=tuple(points))
 
 
@@ -41,8 +46,7 @@ def test_waveform_matches_textbook_chopper_e1():
     # -> I_min = 18.367 A, I_max = 25.633 A, dI = 7.266 A, I_avg = 22.000 A.
     # A single-leg unipolar bridge at m = 0.5 is that chopper (docs/physics.md §1.2 table).
     spec = _spec("unipolar-single", 220.0, 20.0)
-    figs = _figs(220.0, 7.5e-3, 5.0, 1000.0, 20.0,
-                 [("p", {"modulation": 0.5, "current": 22.0, "ripple_pp": 7.0})])
+    figs = _figs(220.0, 7.5e-3, 5.0, 1000.0, 20.0, [("p", {"modulation": 0.5, "current": 22.0, "ripple_pp": 7.0})])
     wave = curves.current_waveform(spec, figs)
     assert wave is not None and wave.point == "p"
     assert wave.back_emf == pytest.approx(0.0, abs=1e-12)
@@ -80,11 +84,16 @@ def test_waveform_of_demo_axis_matches_physics_and_figures():
     assert wave.rated_current == pytest.approx(1.9)  # the spec's local override
 
 
-@pytest.mark.parametrize("scheme,expected", [
-    # docs/physics.md, worked example E4: V = 24 V, f_pwm = 20 kHz, L = 0.20 mH, worst cases
-    # bipolar 3.000 A, unipolar single 1.500 A, phase-shifted 0.750 A (linear, R -> 0).
-    ("bipolar", 3.000), ("unipolar-single", 1.500), ("unipolar-phase-shifted", 0.750),
-])
+@pytest.mark.parametrize(
+    "scheme,expected",
+    [
+        # docs/physics.md, worked example E4: V = 24 V, f_pwm = 20 kHz, L = 0.20 mH, worst cases
+        # bipolar 3.000 A, unipolar single 1.500 A, phase-shifted 0.750 A (linear, R -> 0).
+        ("bipolar", 3.000),
+        ("unipolar-single", 1.500),
+        ("unipolar-phase-shifted", 0.750),
+    ],
+)
 def test_frequency_sweep_at_setting_matches_e4_worst_case(scheme, expected):
     spec = _spec(scheme, 24.0, 2.0)
     sweep = curves.ripple_vs_frequency(spec, _figs(24.0, 0.2e-3, 0.0, 20e3, 2.0))
@@ -120,8 +129,9 @@ def test_inductance_remedy_matches_textbook_e2():
     sweep = curves.ripple_vs_added_inductance(spec, _figs(550.0, present, 0.25, 250.0, 100.0))
     total = present + 2.0 * sweep.x_at_limit  # "per lead": two leads in the DC loop
     assert total == pytest.approx(27.499e-3, abs=1e-6)
-    assert float(hbridge.ripple_peak_to_peak_worst(550.0, total, 0.25, 250.0, hbridge.UNIPOLAR_SINGLE)) \
-        == pytest.approx(20.0, rel=1e-9)
+    assert float(
+        hbridge.ripple_peak_to_peak_worst(550.0, total, 0.25, 250.0, hbridge.UNIPOLAR_SINGLE)
+    ) == pytest.approx(20.0, rel=1e-9)
     assert sweep.ripple[0] == pytest.approx(sweep.ripple_at_setting)
     assert np.all(np.diff(sweep.ripple) < 0)  # more inductance, less ripple
     assert sweep.x[-1] >= sweep.x_at_limit

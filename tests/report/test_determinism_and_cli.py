@@ -30,8 +30,13 @@ def test_html_and_markdown_byte_identical_across_hash_seeds(tmp_path: Path):
     outputs = []
     for seed in ("0", "4242"):
         h, m = tmp_path / f"r{seed}.html", tmp_path / f"r{seed}.md"
-        subprocess.run([sys.executable, "-c", RENDER.format(repo=str(REPO)), str(h), str(m)],
-                       check=True, env=_env(seed), cwd=REPO, timeout=120)
+        subprocess.run(
+            [sys.executable, "-c", RENDER.format(repo=str(REPO)), str(h), str(m)],
+            check=True,
+            env=_env(seed),
+            cwd=REPO,
+            timeout=120,
+        )
         outputs.append((h.read_bytes(), m.read_bytes()))
     assert outputs[0][0] == outputs[1][0]
     assert outputs[0][1] == outputs[1][1]
@@ -42,13 +47,22 @@ def test_cli_report_identical_across_seeds_and_equal_to_check_status(tmp_path: P
     codes, files = [], []
     for seed in ("1", "77"):
         h, m = tmp_path / f"c{seed}.html", tmp_path / f"c{seed}.md"
-        done = subprocess.run([sys.executable, "-m", "specguard", "report", "examples/robot",
-                               "--html", str(h), "--markdown", str(m)],
-                              capture_output=True, env=_env(seed), cwd=REPO, timeout=120)
+        done = subprocess.run(
+            [sys.executable, "-m", "specguard", "report", "examples/robot", "--html", str(h), "--markdown", str(m)],
+            capture_output=True,
+            env=_env(seed),
+            cwd=REPO,
+            timeout=120,
+        )
         codes.append(done.returncode)
         files.append((h.read_bytes(), m.read_bytes()))
-    check = subprocess.run([sys.executable, "-m", "specguard", "check", "examples/robot"],
-                           capture_output=True, env=_env("0"), cwd=REPO, timeout=120)
+    check = subprocess.run(
+        [sys.executable, "-m", "specguard", "check", "examples/robot"],
+        capture_output=True,
+        env=_env("0"),
+        cwd=REPO,
+        timeout=120,
+    )
     assert codes[0] == codes[1] == check.returncode
     assert files[0] == files[1]
     html_text = files[0][0].decode("utf-8")
@@ -62,8 +76,13 @@ def test_source_date_epoch_is_the_only_date(tmp_path: Path):
     env = _env("0")
     env["SOURCE_DATE_EPOCH"] = "1700000000"
     out = tmp_path / "r.html"
-    subprocess.run([sys.executable, "-m", "specguard", "report", "examples/robot/axes/pipette-x.axis.yaml",
-                    "--html", str(out)], capture_output=True, env=env, cwd=REPO, timeout=120)
+    subprocess.run(
+        [sys.executable, "-m", "specguard", "report", "examples/robot/axes/pipette-x.axis.yaml", "--html", str(out)],
+        capture_output=True,
+        env=env,
+        cwd=REPO,
+        timeout=120,
+    )
     assert "Generated 2023-11-14 22:13 UTC." in out.read_text(encoding="utf-8")
 
 
@@ -78,12 +97,14 @@ def test_report_needs_an_output_and_a_writable_target(tmp_path: Path):
 
 
 def test_check_does_not_import_matplotlib():
-    code = ("import sys, specguard.cli\n"
-            "rc = specguard.cli.main(['check', 'examples/robot'])\n"
-            "assert 'matplotlib' not in sys.modules, 'matplotlib imported on the check path'\n"
-            "import specguard.report.html, specguard.report.markdown, specguard.figures.curves\n"
-            "assert 'matplotlib' not in sys.modules, 'importing the reporters imported matplotlib'\n"
-            "print('ok', rc)\n")
+    code = (
+        "import sys, specguard.cli\n"
+        "rc = specguard.cli.main(['check', 'examples/robot'])\n"
+        "assert 'matplotlib' not in sys.modules, 'matplotlib imported on the check path'\n"
+        "import specguard.report.html, specguard.report.markdown, specguard.figures.curves\n"
+        "assert 'matplotlib' not in sys.modules, 'importing the reporters imported matplotlib'\n"
+        "print('ok', rc)\n"
+    )
     done = subprocess.run([sys.executable, "-c", code], capture_output=True, cwd=REPO, timeout=60, env=_env("0"))
     assert done.returncode == 0, done.stderr.decode()
     assert done.stdout.decode().rstrip().split("\n")[-1].startswith("ok ")
@@ -91,6 +112,11 @@ def test_check_does_not_import_matplotlib():
 
 def test_demo_html_report_is_written(tmp_path: Path):
     # The 3 s budget of this command is measured by benchmarks/bench_scale.py.
-    subprocess.run([sys.executable, "-m", "specguard", "report", "examples", "--html", str(tmp_path / "d.html")],
-                   capture_output=True, cwd=REPO, timeout=120, env=_env("0"))
+    subprocess.run(
+        [sys.executable, "-m", "specguard", "report", "examples", "--html", str(tmp_path / "d.html")],
+        capture_output=True,
+        cwd=REPO,
+        timeout=120,
+        env=_env("0"),
+    )
     assert (tmp_path / "d.html").stat().st_size > 50_000

@@ -30,9 +30,30 @@ from .payloads import PAYLOADS
 
 assert len(PAYLOADS) >= 20
 
-DANGEROUS_TAGS = {"script", "iframe", "object", "embed", "link", "base", "form", "img", "image",
-                  "foreignobject", "frame", "frameset", "applet", "audio", "video", "source", "input",
-                  "button", "textarea", "math", "template", "portal"}
+DANGEROUS_TAGS = {
+    "script",
+    "iframe",
+    "object",
+    "embed",
+    "link",
+    "base",
+    "form",
+    "img",
+    "image",
+    "foreignobject",
+    "frame",
+    "frameset",
+    "applet",
+    "audio",
+    "video",
+    "source",
+    "input",
+    "button",
+    "textarea",
+    "math",
+    "template",
+    "portal",
+}
 URL_ATTRS = {"href", "src", "xlink:href", "action", "formaction", "data", "poster", "background", "srcset"}
 _RAW_UNSAFE = re.compile("[\x00-\x08\x0b-\x1f\x7f-\x9f\u200e\u200f\u202a-\u202e\u2066-\u2069\u2028\u2029]")
 
@@ -88,8 +109,12 @@ def assert_inert(document: str) -> Walker:
             d = dict(attrs)
             assert d.get("http-equiv") in (None, "Content-Security-Policy"), attrs
     csp = [dict(a) for t, a in w.tags if t == "meta" and dict(a).get("http-equiv") == "Content-Security-Policy"]
-    assert csp == [{"http-equiv": "Content-Security-Policy",
-                    "content": "default-src 'none'; style-src 'unsafe-inline'; img-src data:"}]
+    assert csp == [
+        {
+            "http-equiv": "Content-Security-Policy",
+            "content": "default-src 'none'; style-src 'unsafe-inline'; img-src data:",
+        }
+    ]
     # Our stylesheet plus matplotlib's one-line style in each inline SVG; nothing fetched.
     assert names.count("style") == 1 + svg_count
     for css in w.styles:
@@ -106,8 +131,9 @@ def _inject(spec, p: str, i: int):
     motor = spec.motor.model_copy(update={"datasheet": datasheet})
     points = tuple(op.model_copy(update={"name": f"{p}{k}"}) for k, op in enumerate(spec.operating_points))
     waiver = Waiver.model_construct(rule=p, at=p, path=p, reason=p, approved_by=p, expires=p)
-    return spec.model_copy(update={"axis": axis, "motor": motor, "operating_points": points,
-                                   "notes": p, "waivers": (waiver,)})
+    return spec.model_copy(
+        update={"axis": axis, "motor": motor, "operating_points": points, "notes": p, "waivers": (waiver,)}
+    )
 
 
 def _injected_figures(spec, p: str, full: bool) -> FigureSet:
@@ -123,10 +149,19 @@ def _injected_figures(spec, p: str, full: bool) -> FigureSet:
 
 def _finding(p: str, file: str, severity: str, waived: str | None) -> Finding:
     loc = Location(file, 3, 5, path=("motor", p, 2))
-    return Finding(rule=p, severity=severity, message=p, location=loc,
-                   related=(Location(p, 1, 1),), operating_point=p,
-                   figures=((p, 1.5, p), ("ripple_ratio", 0.42, "1")), remedies=(p, f"add {p}"),
-                   help=p, waived=waived, meta=((p, p),))
+    return Finding(
+        rule=p,
+        severity=severity,
+        message=p,
+        location=loc,
+        related=(Location(p, 1, 1),),
+        operating_point=p,
+        figures=((p, 1.5, p), ("ripple_ratio", 0.42, "1")),
+        remedies=(p, f"add {p}"),
+        help=p,
+        waived=waived,
+        meta=((p, p),),
+    )
 
 
 def injected_report() -> Report:
@@ -138,10 +173,16 @@ def injected_report() -> Report:
         if i % 12:
             spec = spec.model_copy(update={"profile": None})  # keeps the test fast: fewer plots
         findings = (_finding(p, name, "error", None), _finding(p, name, "warning", p))
-        files.append(dataclasses.replace(
-            base, file=name, spec=spec, findings=findings,
-            figures=_injected_figures(base.spec, p, full=i % 12 == 0),
-            input_error=p if i % 9 == 4 else None))
+        files.append(
+            dataclasses.replace(
+                base,
+                file=name,
+                spec=spec,
+                findings=findings,
+                figures=_injected_figures(base.spec, p, full=i % 12 == 0),
+                input_error=p if i % 9 == 4 else None,
+            )
+        )
     return Report(tuple(files), fail_level="warning")
 
 
@@ -175,16 +216,22 @@ def test_datasheet_links_only_for_https(injected_html):
     for attrs in links:
         assert attrs["href"].startswith("https://example.org/sheet?q=")
         assert attrs["rel"] == "noopener noreferrer"
-    for bad in ("javascript:alert(1)", "data:text/html;base64,PHNj", "vbscript:msgbox(1)", "//evil.example/x",
-                "https:evil.example", "https://evil.example/\\@good.example", " https://example.org/"):
+    for bad in (
+        "javascript:alert(1)",
+        "data:text/html;base64,PHNj",
+        "vbscript:msgbox(1)",
+        "//evil.example/x",
+        "https:evil.example",
+        "https://evil.example/\\@good.example",
+        " https://example.org/",
+    ):
         assert html_report.safe_url(bad) is None, bad
     assert html_report.safe_url("https://example.org/a?b=c") == "https://example.org/a?b=c"
 
 
 def _yaml_spec(p: str) -> str:
     text = (REPO / "examples/robot/axes/sample-lift.axis.yaml").read_text(encoding="utf-8")
-    text = text.replace("  description: Vertical lift of the tube gripper",
-                        f"  description: {json.dumps(p)}")
+    text = text.replace("  description: Vertical lift of the tube gripper", f"  description: {json.dumps(p)}")
     text = text.replace("../library/", "library/")
     text = text[: text.index("profile:")]  # no profile plot: keeps the many-file test fast
     return text + f"notes: {json.dumps(p)}\n"
@@ -198,14 +245,20 @@ def test_real_files_with_markup_names_and_texts(tmp_path: Path):
     axes.mkdir()
     shutil.copytree(REPO / "examples/robot/library", axes / "library")
     # A file name can hold anything but "/" and NUL (shown as a look-alike slash here).
-    names = sorted({p.replace("/", "\u2215") for p in PAYLOADS
-                    if "\x00" not in p and not any(0xD800 <= ord(c) <= 0xDFFF for c in p) and len(p.encode()) < 200})
+    names = sorted(
+        {
+            p.replace("/", "\u2215")
+            for p in PAYLOADS
+            if "\x00" not in p and not any(0xD800 <= ord(c) <= 0xDFFF for c in p) and len(p.encode()) < 200
+        }
+    )
     assert len(names) >= 20
     for k, p in enumerate(names):
         (axes / f"{p}.axis.yaml").write_text(_yaml_spec(PAYLOADS[k % len(PAYLOADS)]), encoding="utf-8")
     # a datasheet with a javascript: URL (refused by the schema; the message must stay inert)
     (axes / "js-datasheet.axis.yaml").write_text(
-        _yaml_spec("x").replace("motor:\n", "motor:\n  datasheet: \"javascript:alert(1)\"\n"), encoding="utf-8")
+        _yaml_spec("x").replace("motor:\n", 'motor:\n  datasheet: "javascript:alert(1)"\n'), encoding="utf-8"
+    )
     report = check_paths([str(axes)], root=tmp_path)
     assert len(report.files) == len(names) + 1
     assert sum(1 for r in report.files if r.spec is not None) >= 20

@@ -54,8 +54,9 @@ def test_escape_leaves_no_markup(text):
 
 def _report_with(text: str) -> Report:
     loc = Location(f"{text}.axis.yaml", 2, 3)
-    f = Finding(rule=text, severity="error", message=text, location=loc, operating_point=text,
-                remedies=(text,), waived=None)
+    f = Finding(
+        rule=text, severity="error", message=text, location=loc, operating_point=text, remedies=(text,), waived=None
+    )
     w = Finding(rule="x", severity="warning", message=text, location=loc, waived=text)
     base = demo_report()
     first = next(r for r in base.files if getattr(r, "figures", None) is not None)

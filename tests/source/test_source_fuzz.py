@@ -39,9 +39,47 @@ notes: |
 PR_PROFILE = settings(max_examples=1000, derandomize=True, deadline=None, database=None)
 
 YAML_BITS = st.sampled_from(
-    [b"[", b"]", b"{", b"}", b":", b": ", b"- ", b"? ", b",", b"#", b"&a", b"*a", b"*stage", b"!", b"!!int",
-     b"<<", b"|", b">", b"'", b'"', b"\\", b"\\ud800", b"\n", b"\r\n", b"\t", b"  ", b"%YAML 1.1\n", b"---",
-     b"...", b"~", b".nan", b"1e400", b"0x", b"010", b"\x00", b"\xff", b"\xef\xbb\xbf", b"\xc3", "\u00e9".encode()]
+    [
+        b"[",
+        b"]",
+        b"{",
+        b"}",
+        b":",
+        b": ",
+        b"- ",
+        b"? ",
+        b",",
+        b"#",
+        b"&a",
+        b"*a",
+        b"*stage",
+        b"!",
+        b"!!int",
+        b"<<",
+        b"|",
+        b">",
+        b"'",
+        b'"',
+        b"\\",
+        b"\\ud800",
+        b"\n",
+        b"\r\n",
+        b"\t",
+        b"  ",
+        b"%YAML 1.1\n",
+        b"---",
+        b"...",
+        b"~",
+        b".nan",
+        b"1e400",
+        b"0x",
+        b"010",
+        b"\x00",
+        b"\xff",
+        b"\xef\xbb\xbf",
+        b"\xc3",
+        "\u00e9".encode(),
+    ]
 )
 
 

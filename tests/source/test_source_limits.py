@@ -163,9 +163,17 @@ def test_loader_bug_is_an_internal_error_not_a_raise(monkeypatch):
 
 def test_no_heavy_imports():
     """Keep the loader's import cheap: no numpy, pint or scipy."""
-    code = ("import sys, specguard.source as s; s.load_bytes(b'a: 1', 'x'); "
-            "print(sorted(m for m in ('numpy','pint','scipy') if m in sys.modules))")
-    proc = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
-                          env=dict(os.environ, PYTHONPATH=str(REPO)), cwd=REPO, timeout=60)
+    code = (
+        "import sys, specguard.source as s; s.load_bytes(b'a: 1', 'x'); "
+        "print(sorted(m for m in ('numpy','pint','scipy') if m in sys.modules))"
+    )
+    proc = subprocess.run(
+        [sys.executable, "-c", code],
+        capture_output=True,
+        text=True,
+        env=dict(os.environ, PYTHONPATH=str(REPO)),
+        cwd=REPO,
+        timeout=60,
+    )
     assert proc.returncode == 0, proc.stderr
     assert proc.stdout.strip() == "[]"

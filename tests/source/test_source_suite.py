@@ -43,7 +43,13 @@ WRONG_VALUE = {
 # directives, non-string keys, escaped control characters. Every rejection must
 # still be one of these located rules.
 ALLOWED_REJECTIONS = {
-    "yaml-structure", "yaml-tag", "yaml-key", "yaml-syntax", "text-encoding", "number-invalid", "yaml-limit",
+    "yaml-structure",
+    "yaml-tag",
+    "yaml-key",
+    "yaml-syntax",
+    "text-encoding",
+    "number-invalid",
+    "yaml-limit",
 }
 
 

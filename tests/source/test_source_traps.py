@@ -11,15 +11,12 @@ import pytest
 from specguard.findings import BUILTIN_IDS
 from specguard.source import Limits, load_bytes
 
-_BOMB = (
-    b'a: &a ["lol","lol","lol","lol","lol","lol","lol","lol","lol"]\n'
-    + b"".join(
-        b"%c: &%c [%s]\n" % (c, c, b",".join([b"*%c" % p] * 9))
-        for p, c in zip(b"abcdefgh", b"bcdefghi", strict=True)
-    )
+_BOMB = b'a: &a ["lol","lol","lol","lol","lol","lol","lol","lol","lol"]\n' + b"".join(
+    b"%c: &%c [%s]\n" % (c, c, b",".join([b"*%c" % p] * 9)) for p, c in zip(b"abcdefgh", b"bcdefghi", strict=True)
 )
 
-# (case, input, rule, severity, line, column, message pattern)
+# (case, input, rule, severity, line, column, message pattern); one case per line
+# fmt: off
 TRAPS = [
     ("docs/reliability.md A01 alias bomb 9x9", _BOMB, "yaml-limit", "error", 5, 23, r"alias '\*d' expands .* 50,000 nodes"),
     (
@@ -115,11 +112,10 @@ TRAPS = [
     ("docs/reliability.md F06 010", b"a: 010\n", "number-invalid", "warning", 1, 4, r"ambiguous leading zero in '010': read as decimal 10"),
     ("docs/reliability.md F06 0755", b"mode: 0755\n", "number-invalid", "warning", 1, 7, r"decimal 755 here, as octal 493"),
 ]
+# fmt: on
 
 
-@pytest.mark.parametrize(
-    "case, raw, rule, severity, line, column, pattern", TRAPS, ids=[t[0] for t in TRAPS]
-)
+@pytest.mark.parametrize("case, raw, rule, severity, line, column, pattern", TRAPS, ids=[t[0] for t in TRAPS])
 def test_trap_is_one_located_finding(parser_kind, case, raw, rule, severity, line, column, pattern):
     result = load_bytes(raw, "specs/trap.yaml")
     matching = [f for f in result.findings if f.rule == rule]
@@ -146,7 +142,9 @@ def test_trap_table_covers_enough_inputs():
 def test_python_tag_runs_nothing(parser_kind, tmp_path):
     """docs/reliability.md C01: the os.system tag must not execute."""
     canary = tmp_path / "canary"
-    raw = f'x: !!python/object/apply:os.system ["touch {canary}"]\ny: !!python/object/new:os.system ["touch {canary}"]\n'
+    raw = (
+        f'x: !!python/object/apply:os.system ["touch {canary}"]\ny: !!python/object/new:os.system ["touch {canary}"]\n'
+    )
     result = load_bytes(raw.encode(), "c01.yaml")
     assert [f.rule for f in result.findings] == ["yaml-tag", "yaml-tag"]
     assert result.data is None
@@ -182,17 +180,25 @@ def test_duplicate_key_names_the_first(parser_kind):
     "raw, expected",
     [
         # docs/reliability.md C05: date-like values stay strings
-        (b"commissioned: 2001-12-14\nat: 2001-12-14t21:59:43.10-05:00\n",
-         {"commissioned": "2001-12-14", "at": "2001-12-14t21:59:43.10-05:00"}),
+        (
+            b"commissioned: 2001-12-14\nat: 2001-12-14t21:59:43.10-05:00\n",
+            {"commissioned": "2001-12-14", "at": "2001-12-14t21:59:43.10-05:00"},
+        ),
         # docs/reliability.md F07/F08: YAML 1.2 core schema, no 1.1 coercions
-        (b"a: yes\nb: on\nc: NO\nd: 1:30\ne: 1_000\nf: y\n",
-         {"a": "yes", "b": "on", "c": "NO", "d": "1:30", "e": "1_000", "f": "y"}),
+        (
+            b"a: yes\nb: on\nc: NO\nd: 1:30\ne: 1_000\nf: y\n",
+            {"a": "yes", "b": "on", "c": "NO", "d": "1:30", "e": "1_000", "f": "y"},
+        ),
         # YAML 1.2 core schema: null, bool and number forms
-        (b"a: ~\nb: null\nc: NULL\nd:\ne: True\nf: FALSE\ng: 0o17\nh: 0x1F\ni: -12\nj: +3\n",
-         {"a": None, "b": None, "c": None, "d": None, "e": True, "f": False, "g": 15, "h": 31, "i": -12, "j": 3}),
+        (
+            b"a: ~\nb: null\nc: NULL\nd:\ne: True\nf: FALSE\ng: 0o17\nh: 0x1F\ni: -12\nj: +3\n",
+            {"a": None, "b": None, "c": None, "d": None, "e": True, "f": False, "g": 15, "h": 31, "i": -12, "j": 3},
+        ),
         # a zero written with a huge exponent is zero, not an underflow
-        (b"a: 1.5e3\nb: .5\nc: -1.\nd: 0e-400\ne: 0\nf: -0\ng: 0x\nh: 0o8\ni: 0.000e999\nj: 5e-324\n",
-         {"a": 1500.0, "b": 0.5, "c": -1.0, "d": 0.0, "e": 0, "f": 0, "g": "0x", "h": "0o8", "i": 0.0, "j": 5e-324}),
+        (
+            b"a: 1.5e3\nb: .5\nc: -1.\nd: 0e-400\ne: 0\nf: -0\ng: 0x\nh: 0o8\ni: 0.000e999\nj: 5e-324\n",
+            {"a": 1500.0, "b": 0.5, "c": -1.0, "d": 0.0, "e": 0, "f": 0, "g": "0x", "h": "0o8", "i": 0.0, "j": 5e-324},
+        ),
         # quoted and block scalars are always strings
         (b"a: '1'\nb: \"true\"\nc: |\n  3\nd: >-\n  null\n", {"a": "1", "b": "true", "c": "3\n", "d": "null"}),
         # G4: integer magnitude up to 2^53 inclusive is fine
@@ -201,7 +207,10 @@ def test_duplicate_key_names_the_first(parser_kind):
         (b'a: "\\uD83D\\uDCA9"\n', {"a": "\U0001f4a9"}),
         # docs/reliability.md C06: merge keys within the budget; own keys win over merged ones
         (b"base: &b {x: 1, y: 2}\nm:\n  <<: *b\n  y: 3\n", {"base": {"x": 1, "y": 2}, "m": {"x": 1, "y": 3}}),
-        (b"p: &p {x: 1}\nq: &q {x: 2, z: 3}\nm:\n  <<: [*p, *q]\n", {"p": {"x": 1}, "q": {"x": 2, "z": 3}, "m": {"x": 1, "z": 3}}),
+        (
+            b"p: &p {x: 1}\nq: &q {x: 2, z: 3}\nm:\n  <<: [*p, *q]\n",
+            {"p": {"x": 1}, "q": {"x": 2, "z": 3}, "m": {"x": 1, "z": 3}},
+        ),
         (b"m: {<<: {a: 1}, b: 2}\n", {"m": {"a": 1, "b": 2}}),
         # a quoted '<<' is an ordinary key
         (b"'<<': 1\n", {"<<": 1}),
@@ -249,7 +258,11 @@ def _sized(n: int) -> bytes:
     "field, at_limit, over",
     [
         ("max_depth", b"a: " + b"[" * 63 + b"]" * 63, b"a: " + b"[" * 64 + b"]" * 64),
-        ("max_aliases", b"x: &x 1\nl: [" + b",".join([b"*x"] * 100) + b"]", b"x: &x 1\nl: [" + b",".join([b"*x"] * 101) + b"]"),
+        (
+            "max_aliases",
+            b"x: &x 1\nl: [" + b",".join([b"*x"] * 100) + b"]",
+            b"x: &x 1\nl: [" + b",".join([b"*x"] * 101) + b"]",
+        ),
         ("max_scalar_bytes", b"a: " + b"x" * 65536, b"a: " + b"x" * 65537),
         ("max_bytes", _sized(262144), _sized(262145)),
         # nodes: the root, the key "l", the list and its items
