@@ -89,6 +89,16 @@ def build_parser() -> argparse.ArgumentParser:
 
     _compare_parser(sub)
 
+    new = sub.add_parser("new", help="write a commented starter spec for a motor type and stage")
+    new.add_argument(
+        "--kind",
+        required=True,
+        choices=("dc-h-bridge", "three-phase-sinusoidal", "three-phase-six-step"),
+        help="brushed DC motor on an H-bridge, or a three-phase motor with sinusoidal/space-vector PWM "
+        "or six-step commutation",
+    )
+    new.add_argument("file", metavar="FILE", help="the spec to write (never overwritten; '-' for stdout)")
+
     config = sub.add_parser("config", help="show the effective policy and where each value comes from")
     config.add_argument(
         "file",
@@ -389,6 +399,25 @@ def _demo(args) -> int:
     return _run_check(args, [str(root)], root)
 
 
+def _new(args) -> int:
+    from .atomic import WriteError, write_atomic
+    from .starter import starter_text
+
+    text = starter_text(args.kind)
+    if args.file == "-":
+        emit(text)
+        return EXIT_CLEAN
+    target = Path(args.file)
+    if target.exists() or target.is_symlink():
+        return fail(f"{args.file}: exists; 'specguard new' never overwrites a file", "output-error")
+    try:
+        write_atomic(target, text)
+    except WriteError as exc:
+        return fail(str(exc), "output-error")
+    emit(f"specguard: wrote {target.as_posix()}; fill its <...> placeholders, then run 'specguard check'\n")
+    return EXIT_CLEAN
+
+
 def _compare(args) -> int:
     from .compare import run_compare
 
@@ -417,6 +446,7 @@ def _main(argv: list[str] | None) -> int:
         "hook": _with_root(_hook),
         "compare": _compare,
         "demo": _demo,
+        "new": _new,
         "figures": _with_root(_run_figures),
         "report": _with_root(_run_report),
         "config": _with_root(_run_config),

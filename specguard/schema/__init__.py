@@ -94,6 +94,163 @@ def _kind(schema: dict, node: dict) -> tuple[str, dict | None]:
     return str(t or "value"), None
 
 
+# A complete three-phase spec (an invented gimbal axis), every section filled in; a test
+# checks that it passes `specguard check` with no finding.
+FORMAT_EXAMPLE = """\
+# A complete three-phase axis (invented: the tilt axis of a camera gimbal on a lab robot).
+format: 1
+axis:
+  name: gimbal-tilt
+  description: Tilt axis of the inspection camera gimbal
+  tags: [lab]
+motor:
+  type: three-phase
+  winding: iron-core
+  terminal_resistance: { value: 0.8 ohm, at: 25 degC }        # line-to-line
+  terminal_inductance: { value: 3.2 mH, measured_at: 1 kHz }   # line-to-line
+  inductance_vs_frequency:                                     # measured; used instead of a derated estimate
+    - { frequency: 1 kHz, inductance: 3.1 mH, series_resistance: 1.0 ohm }
+    - { frequency: 10 kHz, inductance: 2.4 mH, series_resistance: 3.2 ohm }
+    - { frequency: 50 kHz, inductance: 1.8 mH, series_resistance: 9.5 ohm }
+  torque_constant: { value: 0.11 N*m/A, current: phase-rms }
+  back_emf_constant: { value: 6.65 V/krpm, voltage: line-to-line-rms }
+  rated_current: 3.5 A          # RMS phase current
+  peak_current: 10 A            # amplitude of the phase current
+  no_load_current: 0.08 A
+  pole_pairs: 4
+  max_speed: 4000 rpm
+  rotor_inertia: 48 g*cm^2
+  thermal:
+    winding_to_housing: 1.2 K/W
+    housing_to_ambient: 3.0 K/W
+    winding_time_constant: 30 s
+    motor_time_constant: 900 s
+    max_winding_temperature: 130 degC
+    insulation_class: F
+stage:
+  supply: { voltage: 36 V, range: [34 V, 38 V], absorbs_braking_energy: true }
+  pwm:
+    frequency: 25 kHz
+    frequency_is: leg
+    scheme: space-vector
+    freewheeling: synchronous
+    max_duty: 0.97
+    dead_time: 200 ns
+    min_pulse: 400 ns
+    timer_clock: 100 MHz
+    alignment: center
+  switch_resistance: 12 mohm
+  current_limit: { continuous: 8 A, peak: 20 A }
+  current_loop: { bandwidth: 1.5 kHz, sampling: single-update }
+  bus_capacitance: 470 uF
+  overvoltage_trip: 44 V
+  max_supply_voltage: 42 V
+chokes:
+  inductance: 100 uH
+  placement: per-phase
+  count: 3
+  resistance: 40 mohm
+  saturation_current: 25 A
+  rated_current: 6 A
+cable: { length: 1.5 m, resistance: 30 mohm }
+load:
+  inertia: 60 g*cm^2
+operating_points:
+  - { name: track, speed: 600 rpm, torque: 0.15 N*m, ambient: 35 degC }
+  - { name: slew, speed: 2400 rpm, torque: 0.25 N*m, ambient: 35 degC }
+  - { name: hold, speed: 0 rpm, torque: 0.2 N*m, ambient: 35 degC }
+profile:
+  ambient: 35 degC
+  segments:
+    - { duration: 300 ms, speed: 2400 rpm, torque: 0.4 N*m }
+    - { duration: 2 s, speed: 600 rpm, torque: 0.15 N*m }
+    - { duration: 1 s, speed: 0 rpm, torque: 0.2 N*m }
+notes: The hold point carries the unbalanced camera weight.
+"""
+
+# What each PWM scheme and option means (hand-written; the physics is docs/physics.md).
+PWM_SECTION = """\
+## PWM schemes and options
+
+`stage.pwm.scheme` says how the power stage switches. The motor type decides which
+schemes apply: a brushed DC motor takes the three H-bridge schemes, a three-phase motor
+the four others; any other pairing is a schema error. `V` is the supply voltage, `f`
+the leg frequency, `L` the inductance of the ripple loop.
+
+**H-bridge (brushed DC motor).** Two half-bridge legs, one at each motor terminal.
+
+- `bipolar`: both legs switch, in opposite states (the diagonals alternate); the motor
+  sees `+V` and `-V`. The ripple repeats at `f`; the voltage step is `2V`, so the
+  ripple is the largest of the three (worst case about `V / (2 L f)`).
+- `unipolar-single`: one leg switches, the other is held (its low side on); the motor
+  sees `+V` and `0` (`0` and `-V` in reverse). Ripple at `f`, step `V` (worst case
+  about `V / (4 L f)`).
+- `unipolar-phase-shifted`: both legs switch with mirrored references, half a period
+  apart; the motor again sees `+V` and `0`, but twice per leg period, so the ripple
+  repeats at `2f` (worst case about `V / (8 L f)`). The terminals' common-mode voltage
+  still moves at `f`.
+
+**Leg or ripple frequency (`frequency_is`).** `leg` declares `frequency` as the
+switching frequency of each half-bridge leg (the carrier); `ripple` declares it as the
+frequency of the current ripple the motor sees. The two differ only for
+`unipolar-phase-shifted` (ripple = 2 x leg); for every other scheme they are the same
+and the key changes nothing. A phase-shifted stage without `frequency_is` is read the
+cautious way (the value is the ripple frequency, the legs switch at half of it) and
+reported by `pwm-frequency-ambiguous`.
+
+**Freewheeling (`freewheeling`).** How the current flows while the active switches are
+off. `synchronous`: the opposite switch of the leg is turned on, the current may
+reverse and conduction stays continuous. `diode`: only the diodes conduct, the current
+cannot reverse, and at light load it stops for part of each period (discontinuous
+conduction), where the ripple formulas no longer hold; `conduction-discontinuous`
+checks this on H-bridge and six-step axes. When the key is absent that check is skipped.
+
+**Six-step (block) commutation.** Two phases conduct in series in each sixth of the
+electrical revolution (120-degree current blocks, chosen by the rotor position); PWM
+sets the current of the active pair.
+
+- `six-step-chop-one`: one transistor of the active pair switches, the other stays on;
+  the pair sees `+V` and `0`, like `unipolar-single`.
+- `six-step-chop-both`: both transistors of the pair switch together; the pair sees
+  `+V` and `-V`, like `bipolar`, with twice the ripple for the same `L` and `f`.
+
+**Sinusoidal and space-vector PWM.** All three legs switch at `f` every period and the
+phase currents are sinusoidal (field-oriented control); the ripple repeats at `f`.
+
+- `sinusoidal`: each leg follows a sinusoidal reference. The modulation stays linear up
+  to an index `M = 1`, a phase-voltage amplitude of `V / 2`.
+- `space-vector`: a common-mode term is added to the three references (equivalent to
+  space-vector modulation with centred zero vectors). Linear up to `M = 2/sqrt 3`, about
+  15 % more phase voltage from the same supply, with somewhat less ripple at high
+  modulation.
+
+**Timing options.** `max_duty` is the highest duty cycle a leg can produce (bootstrap
+supplies and current sensing usually need some off time); it caps the voltage the motor
+can get. `dead_time` is the gap between turning one switch of a leg off and the other on;
+each switching leg loses about `V x dead_time x f` of average voltage. `min_pulse` is the
+shortest pulse the stage produces. `timer_clock` and `alignment` set the PWM resolution:
+an edge-aligned counter has `timer_clock / f` steps per period, a centre-aligned one
+(counting up and down) half as many.
+
+docs/physics.md (sections 0.3, 1.2, 1.6, 2.2 and 2.3) gives the formulas behind these
+statements.
+"""
+
+
+def _default_cell(title: str, key: str, prop: dict, required: bool) -> str:
+    from ..starter import WHEN_ABSENT
+
+    if required:
+        return "(required)"
+    default = _non_null(prop).get("default", prop.get("default"))
+    if default is None or default == []:
+        shown = "absent" if default is None else "`[]`"
+    else:
+        shown = f"`{json.dumps(default)}`"
+    when = WHEN_ABSENT.get((title.split(" ")[0], key))
+    return f"{shown}; when absent: {when}" if when else shown
+
+
 def format_reference() -> str:
     """The field-by-field reference of spec format v1 (Markdown)."""
     schema = spec_schema()
@@ -106,6 +263,28 @@ def format_reference() -> str:
         "must lie between 1e-12 and 1e12 in that SI unit (`x-si-magnitude` in the",
         "schema): nothing in an electric drive is further out, and such a number is a slip.",
         "",
+        "`specguard new --kind dc-h-bridge|three-phase-sinusoidal|three-phase-six-step FILE`",
+        "writes a commented starter spec: every required key with a placeholder that fails",
+        "the check until it is filled, every optional key commented out with its default.",
+        "",
+        "## A complete example (three-phase)",
+        "",
+        "Every section filled in; `specguard check` finds nothing to report in it.",
+        "",
+        "```yaml",
+        FORMAT_EXAMPLE.rstrip("\n"),
+        "```",
+        "",
+        PWM_SECTION.rstrip("\n"),
+        "",
+        "## Defaults",
+        "",
+        "An optional key may be left out. Its default is `absent` unless the table says",
+        "otherwise: the figures that need the value are then left out and listed under",
+        "`missing` (see [figures.md](figures.md)), and the rules that judge them report",
+        "`rule-not-applicable` at info level. Where the figures take a value in place of an",
+        'absent key, the default column says which ("when absent").',
+        "",
     ]
     seen: set[str] = set()
     queue: list[tuple[str, dict]] = [("Spec (top level)", schema)]
@@ -116,15 +295,16 @@ def format_reference() -> str:
         if node.get("description"):
             lines.append(node["description"])
             lines.append("")
-        lines.append("| key | required | type and unit | meaning |")
-        lines.append("|---|---|---|---|")
+        lines.append("| key | required | type and unit | default | meaning |")
+        lines.append("|---|---|---|---|---|")
         required = set(node.get("required", ()))
         for key, prop in node.get("properties", {}).items():
             kind, target = _kind(schema, prop)
             meaning = _non_null(prop).get("description") or prop.get("description") or ""
             if not meaning and target is not None:
                 meaning = target.get("description", "")
-            lines.append(f"| `{key}` | {'yes' if key in required else 'no'} | {kind} | {meaning} |")
+            default = _default_cell(title, key, prop, key in required)
+            lines.append(f"| `{key}` | {'yes' if key in required else 'no'} | {kind} | {default} | {meaning} |")
             ref = _non_null(prop).get("$ref") or _non_null(prop).get("items", {}).get("$ref")
             if ref:
                 name = ref.split("/")[-1]
