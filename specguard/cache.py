@@ -42,7 +42,7 @@ import hashlib
 import json
 import os
 
-CACHE_FORMAT = 1
+CACHE_FORMAT = 2
 _SUBDIR = f"results-v{CACHE_FORMAT}"
 _READ_CAP = 16 * 1024 * 1024  # an entry larger than this is damaged
 
@@ -179,13 +179,52 @@ def finding_to_json(f, t: Tables) -> list:
         f.waived,
         [list(m) for m in f.meta],
         f.baselined,
+        [fix_to_json(x) for x in f.fixes],
     ]
+
+
+def fix_to_json(fix) -> list:
+    return [
+        fix.text,
+        [[c.pointer, _plain(c.value), list(c.region) if c.region else None] for c in fix.changes],
+        list(fix.clears),
+        fix.reaches,
+        list(fix.side_effects),
+        fix.cost,
+    ]
+
+
+def _plain(value):
+    """A change's value as JSON: text, or a section as a mapping."""
+    if isinstance(value, tuple):  # a section: (key, value) pairs
+        return {"__pairs__": [[k, _plain(v)] for k, v in value]}
+    return value  # text, or a list of texts
+
+
+def _unplain(value):
+    if isinstance(value, dict) and "__pairs__" in value:
+        return tuple((k, _unplain(v)) for k, v in value["__pairs__"])
+    return value
+
+
+def fix_from_json(d: list):
+    from .findings import Change, Fix
+
+    text, changes, clears, reaches, side_effects, cost = d
+    return Fix(
+        text,
+        tuple(Change(p, _unplain(v), tuple(r) if r else None) for p, v, r in changes),
+        tuple(clears),
+        reaches,
+        tuple(side_effects),
+        float(cost),
+    )
 
 
 def finding_from_json(d: list, t: Tables):
     from .findings import Finding
 
-    (rule, severity, message, loc, related, point, figures, remedies, help_, waived, meta, baselined) = d
+    (rule, severity, message, loc, related, point, figures, remedies, help_, waived, meta, baselined, fixes) = d
     if not isinstance(rule, str) or not isinstance(message, str):
         raise ValueError("bad finding")
     return Finding(
@@ -201,6 +240,7 @@ def finding_from_json(d: list, t: Tables):
         waived=waived,
         meta=tuple((a, b) for a, b in meta),
         baselined=baselined,
+        fixes=tuple(fix_from_json(x) for x in fixes),
     )
 
 

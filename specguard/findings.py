@@ -61,6 +61,33 @@ class Location:
 
 
 @dataclass(frozen=True, slots=True)
+class Change:
+    """One edit of a fix: the JSON pointer of a value in the axis file as written and
+    the value to write there, in units as text ("26.5 kHz"), or a whole section as
+    (key, value) pairs where one is added (``/chokes``)."""
+
+    pointer: str
+    value: object
+    # where the value stands in the axis file (file, line, column, end line, end
+    # column) when it is written there; None where the change adds a key
+    region: tuple[str, int, int, int, int] | None = None
+
+
+@dataclass(frozen=True, slots=True)
+class Fix:
+    """A verified fix: applied exactly as printed, it clears its finding at the
+    finding's band (``reaches``: "clear", or the lower band the rule still reaches)
+    and creates no new finding at or above the fail level."""
+
+    text: str
+    changes: tuple[Change, ...]
+    clears: tuple[str, ...] = ()  # the rule ids of the findings it clears
+    reaches: str = "clear"
+    side_effects: tuple[str, ...] = ()
+    cost: float = 0.0  # relative size of the change (ordering)
+
+
+@dataclass(frozen=True, slots=True)
 class Finding:
     rule: str
     severity: Severity
@@ -75,6 +102,10 @@ class Finding:
     waived: str | None = None  # the waiver's justification when waived
     meta: tuple[tuple[str, str], ...] = field(default=())
     baselined: bool = False  # held by the baseline file (--baseline)
+    fixes: tuple[Fix, ...] = ()  # verified, structured (``remedies`` holds their texts)
+    # what a fix aims at: (threshold of the band that fired, threshold of the lowest
+    # band, the lowest band's name); set by the engine for rules with remedies
+    aim: tuple[float, float, str] | None = field(default=None, compare=False)
 
     @property
     def suppressed(self) -> bool:

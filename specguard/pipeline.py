@@ -315,7 +315,7 @@ def analyse(
         findings.extend(model_findings)
     figures = None
     if spec is not None:
-        rule_findings, figures = _rule_findings(spec, doc.locate, rel, options)
+        rule_findings, figures = _rule_findings(spec, doc.locate, rel, options, doc.data)
         findings.extend(rule_findings)
     before = sorted(findings, key=Finding.sort_key)
     if spec is not None:
@@ -388,38 +388,103 @@ def from_payload(rel: str, closure, payload: dict, options: RunOptions | None) -
     )
 
 
-def _rule_findings(spec, locate, rel: str, options: RunOptions | None) -> tuple[list[Finding], FigureSet | None]:
-    """Figures, then the rule pack: (findings, FigureSet or None). A failure of either
-    is an internal-error finding (exit 3)."""
+def _rule_findings(
+    spec, locate, rel: str, options: RunOptions | None, data: dict | None = None
+) -> tuple[list[Finding], FigureSet | None]:
+    """Figures, then the rule pack, then the fixes verified on the changed spec:
+    (findings, FigureSet or None). A failure of any is an internal-error finding
+    (exit 3)."""
     from .engine.evaluate import evaluate, load_pack
     from .figures import compute
 
     loc, _ = locate(())
     try:
-        figures = compute(spec)
-    except Exception as exc:
-        text = " ".join(f"{type(exc).__name__}: {exc}".split())[:300]
-        return [
-            Finding(
-                "internal-error",
-                "error",
-                f"the figures of this file could not be computed: {text} (run with --debug for the traceback)",
-                loc,
-            )
-        ], None
-    try:
         pack = options.pack if options is not None and options.pack is not None else load_pack()
-        return evaluate(spec, figures, locate, pack, _overrides(rel, options)), figures
+        overrides = _overrides(rel, options)
+        settings = figure_settings(pack, overrides)
     except Exception as exc:
         text = " ".join(f"{type(exc).__name__}: {exc}".split())[:300]
-        return [
-            Finding(
-                "internal-error",
-                "error",
-                f"the rule pack could not be evaluated on this file: {text} (run with --debug for the traceback)",
-                loc,
-            )
-        ], figures
+        return [_internal(f"the rule pack could not be evaluated on this file: {text}", loc)], None
+    try:
+        figures = compute(spec, settings)
+    except Exception as exc:
+        text = " ".join(f"{type(exc).__name__}: {exc}".split())[:300]
+        return [_internal(f"the figures of this file could not be computed: {text}", loc)], None
+    try:
+        findings = evaluate(spec, figures, locate, pack, overrides, remedy=_no_remedy)
+        if data is not None:
+            findings = _verified_fixes(findings, data, spec, figures, locate, pack, overrides, options, settings)
+        return findings, figures
+    except Exception as exc:
+        text = " ".join(f"{type(exc).__name__}: {exc}".split())[:300]
+        return [_internal(f"the rule pack could not be evaluated on this file: {text}", loc)], figures
+
+
+def _internal(text: str, loc: Location) -> Finding:
+    return Finding("internal-error", "error", f"{text} (run with --debug for the traceback)", loc)
+
+
+def _no_remedy(*_args, **_kwargs):
+    return None  # candidates come from the verification step, aimed at each finding's band
+
+
+# The rule whose lowest band is the ripple limit the supply window and the ripple
+# fixes use (the policy moves it for its files).
+RIPPLE_RULE = "ripple-over-rated-current"
+
+
+def figure_settings(pack, overrides):
+    """The figures' settings that come from the policy in force: the ripple limit of
+    the supply window is the lowest band of the per-point ripple rule."""
+    from .engine.evaluate import effective_bands
+    from .figures import FigureSettings
+
+    prule = pack.get(RIPPLE_RULE)
+    if prule is None:
+        return FigureSettings()
+    override = overrides.get(prule.id)
+    bands = effective_bands(prule, override)
+    return FigureSettings(ripple_limit_ratio=float(bands[-1].threshold))
+
+
+def _verified_fixes(findings, data, spec, figures, locate, pack, overrides, options, settings):
+    from .engine.evaluate import evaluate
+    from .engine.fixes import FixContext, verify
+    from .figures import compute, remedy
+    from .model import build
+
+    level = "error"
+    if options is not None and options.config is not None:
+        level = str(options.config.fail_level.value)
+
+    def run_variant(changed: dict):
+        variant, built = build(changed, locate)
+        if variant is None:
+            return None
+        try:
+            figs = compute(variant, settings)
+        except Exception:  # a change the figures cannot take is no fix
+            return None
+        return built + evaluate(variant, figs, locate, pack, overrides, remedy=_no_remedy, lean=True)
+
+    def candidate(name, spec_, figures_, *, point, limit):
+        return remedy(name, spec_, figures_, point=point, limit=limit, settings=settings)
+
+    def remedy_names(rule_id: str) -> tuple[str, ...]:
+        prule = pack.get(rule_id)
+        return tuple(prule.rule.remedies) if prule is not None else ()
+
+    doc = getattr(locate, "__self__", None)  # the assembled Document behind ``locate``
+
+    def region(path: tuple):
+        values = getattr(doc, "values", {})
+        loc = values.get(tuple(path))
+        if loc is None or loc.file != getattr(doc, "file", None) or loc.end_line is None:
+            return None  # not written in the axis file itself (a library value, or absent)
+        return (loc.file, loc.line, loc.column, loc.end_line, loc.end_column)
+
+    ctx = FixContext(data, spec, figures, level, run_variant, candidate, region)
+    return verify(findings, ctx, remedy_names)
 
 
 _OVERRIDES_MEMO: dict[int, tuple[object, dict]] = {}

@@ -453,6 +453,9 @@ def _unit(name: str) -> str:
     return FIGURE_DEFS[name].unit
 
 
+_NOWHERE = Location("", 1, 1)  # lean findings: the variant's verdict, not a place
+
+
 def _not_applicable(prule: PackRule, reason: str, locate: Locate, path: tuple) -> Finding:
     loc, rel = locate(path)
     message = f"rule '{prule.id}' could not be applied: {reason}"
@@ -480,6 +483,7 @@ def _evaluate_rule(
     point_values: Mapping[str, Mapping[str, Any]],
     point_index: Mapping[str, int],
     remedy_fn,
+    lean: bool = False,
 ) -> list[Finding]:
     status, reason, path = applicability(prule, spec, figures)
     if status == "skip":
@@ -507,7 +511,10 @@ def _evaluate_rule(
         else:
             v = merged[rule.figure]
             band = next((b for b in bands if _matches(v, b)), None)
-            if band is not None:
+            if band is not None and lean:
+                severity = override.severity if override is not None and override.severity else band.severity
+                out.append(Finding(rule.id, severity, "", _NOWHERE, operating_point=point))  # type: ignore[arg-type]
+            elif band is not None:
                 out.append(
                     _finding(
                         prule,
@@ -561,9 +568,13 @@ def _finding(prule, spec, figures, locate, override, band, lowest, values, point
                 seen.add(key)
                 related.append(item)
     remedies: list[str] = []
+    aim = None
     if rule.remedies and lowest.comparator != "is":
+        # a fix aims at the band that fired (clearing an error needs less than
+        # clearing the warning below it); the verification says which band it reaches
+        aim = (float(band.threshold), float(lowest.threshold), lowest.severity)
         for name in rule.remedies:
-            found = remedy_fn(name, spec, figures, point=point, limit=float(lowest.threshold))
+            found = remedy_fn(name, spec, figures, point=point, limit=aim[0])
             if found is not None:
                 remedies.append(found.text)
     severity = override.severity if override is not None and override.severity else band.severity
@@ -577,6 +588,7 @@ def _finding(prule, spec, figures, locate, override, band, lowest, values, point
         figures=tuple((name, values[name], _unit(name)) for name in prule.figures_used),
         remedies=tuple(remedies),
         help=one_line(rule.why),
+        aim=aim,
     )
 
 
@@ -589,6 +601,7 @@ def evaluate(
     *,
     remedy: Callable[..., Any] | None = None,
     debug: bool = False,
+    lean: bool = False,
 ) -> list[Finding]:
     """Findings of every rule of ``pack`` on one spec.
 
@@ -596,6 +609,8 @@ def evaluate(
     ``remedy`` defaults to :func:`specguard.figures.remedy`. With ``debug`` a
     rule that raises re-raises instead of becoming an internal-error finding.
     An invalid override raises OverrideError (a config problem, exit 2).
+    With ``lean`` the findings carry only rule, severity and operating point (no
+    message, locations or remedies): what judging a design variant needs.
     """
     if remedy is None:
         from ..figures import remedy as remedy_default
@@ -617,7 +632,7 @@ def evaluate(
         if override is not None and override.thresholds:
             effective_bands(prule, override)  # a bad override is a config error, not an internal one
         try:
-            out.extend(_evaluate_rule(prule, spec, figures, locate, override, point_values, point_index, remedy))
+            out.extend(_evaluate_rule(prule, spec, figures, locate, override, point_values, point_index, remedy, lean))
         except (KeyboardInterrupt, SystemExit, OverrideError):
             raise
         except Exception as exc:

@@ -719,8 +719,16 @@ def _fmt(value: float, dimension: str) -> str:
     return format_si(value, dimension)
 
 
-def remedy(name: str, spec: Spec, figures: FigureSet, *, point: str | None, limit: float) -> Remedy | None:
-    settings = FigureSettings()
+def remedy(
+    name: str,
+    spec: Spec,
+    figures: FigureSet,
+    *,
+    point: str | None,
+    limit: float,
+    settings: FigureSettings | None = None,
+) -> Remedy | None:
+    settings = settings or FigureSettings()
     ax = _axis(spec, settings)
     V = spec.stage.supply.voltage
     rated = spec.motor.rated_current

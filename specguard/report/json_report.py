@@ -74,9 +74,32 @@ def finding(f) -> dict:
         "operating_point": f.operating_point,
         "figures": [{"name": n, "value": _number(v), "unit": u} for n, v, u in f.figures],
         "remedies": list(f.remedies),
+        "fixes": [fix(x) for x in f.fixes],
         "help": f.help,
         "waived": f.waived,
         "baselined": bool(getattr(f, "baselined", False)),
+    }
+
+
+def change_value(value: object) -> object:
+    """A change's value as JSON: a text with its unit, a list of them, or a whole
+    section (added where the spec has none) as a mapping."""
+    if isinstance(value, tuple):
+        return {k: change_value(v) for k, v in value}
+    if isinstance(value, list):
+        return [change_value(v) for v in value]
+    return value
+
+
+def fix(x) -> dict:
+    """A verified fix with its machine-applicable edit: JSON pointers into the axis
+    file as written (an override there for a value that comes from a library file)."""
+    return {
+        "text": x.text,
+        "changes": [{"pointer": c.pointer, "value": change_value(c.value)} for c in x.changes],
+        "clears": list(x.clears),
+        "reaches": x.reaches,
+        "side_effects": list(x.side_effects),
     }
 
 
@@ -116,6 +139,7 @@ def document(report: Report) -> dict:
         files.append(
             {
                 "file": result.file,
+                "fail_level": report.fail_level_of(result),
                 "input_error": result.input_error,
                 "closure": [{"file": p, "sha256": h} for p, h in result.closure],
                 "findings": [finding(f) for f in sorted(result.findings, key=lambda f: f.sort_key())],

@@ -66,6 +66,44 @@ def _physical(loc) -> dict:
     }
 
 
+def _written(value: object) -> str:
+    """A change's value as YAML flow text for a replacement."""
+    if isinstance(value, list):
+        return "[" + ", ".join(_written(v) for v in value) + "]"
+    if isinstance(value, tuple):
+        return "{" + ", ".join(f"{k}: {_written(v)}" for k, v in value) + "}"
+    return str(value)
+
+
+def _fix(fix) -> dict | None:
+    """A SARIF fix: replacements of the values in the axis file. A change that adds a
+    key (an override of a library value, a new section) has no region to replace:
+    such a fix is in the JSON report only."""
+    if not fix.changes or any(c.region is None for c in fix.changes):
+        return None
+    by_file: dict[str, list[dict]] = {}
+    for c in fix.changes:
+        file, line, column, end_line, end_column = c.region
+        by_file.setdefault(file, []).append(
+            {
+                "deletedRegion": {
+                    "startLine": line,
+                    "startColumn": column,
+                    "endLine": end_line,
+                    "endColumn": end_column,
+                },
+                "insertedContent": {"text": _written(c.value)},
+            }
+        )
+    return {
+        "description": {"text": fix.text},
+        "artifactChanges": [
+            {"artifactLocation": {"uri": uri(file), "uriBaseId": "SRCROOT"}, "replacements": reps}
+            for file, reps in sorted(by_file.items())
+        ],
+    }
+
+
 def _descriptors(report) -> list[dict]:
     from ..findings import BUILTIN_IDS
 
@@ -140,6 +178,11 @@ def document(report: Report) -> dict:
             properties["figures"] = [{"name": n, "value": _number(v), "unit": u} for n, v, u in f.figures]
         if f.remedies:
             properties["remedies"] = list(f.remedies)
+            # the first fix in the message text, where code-scanning views show it
+            result["message"]["text"] = f"{f.message}. Fix: {f.remedies[0]}"
+        sarif_fixes = [x for x in (_fix(fix) for fix in f.fixes) if x is not None]
+        if sarif_fixes:
+            result["fixes"] = sarif_fixes
         if f.help:
             properties["help"] = f.help
         if properties:

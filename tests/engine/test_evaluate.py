@@ -228,13 +228,16 @@ def test_locations_primary_and_related(tmp_path, spec_locate):
     assert all((r.line, r.column) != (f.location.line, f.location.column) for r in f.related)
 
 
-def test_remedies_use_the_lowest_band_and_skip_none(tmp_path, spec_locate):
+def test_remedies_aim_at_the_band_that_fired_and_skip_none(tmp_path, spec_locate):
     pack = single(tmp_path, rule_text(remedies="[added_inductance, pwm_frequency]"))
     calls: list = []
     (f,) = run(pack, spec_locate, ripple_figs(0.1, 0.87), calls=calls)
-    # the lowest band is the warning at 0.2, although the finding is an error
-    assert calls == [("added_inductance", "run", 0.2), ("pwm_frequency", "run", 0.2)]
-    assert f.remedies == ("added_inductance for limit 0.2",)
+    # the finding is an error (above 0.5): its fix aims at the error band, not at the
+    # warning band below it (that would ask for far more than clearing the error
+    # needs); the lowest band is kept for "... more also clears the warning"
+    assert calls == [("added_inductance", "run", 0.5), ("pwm_frequency", "run", 0.5)]
+    assert f.remedies == ("added_inductance for limit 0.5",)
+    assert f.aim == (0.5, 0.2, "warning")
 
 
 def test_remedy_limit_follows_threshold_override(tmp_path, spec_locate):
@@ -244,10 +247,10 @@ def test_remedy_limit_follows_threshold_override(tmp_path, spec_locate):
         pack,
         spec_locate,
         ripple_figs(0.1, 0.87),
-        {"test-ripple-share": RuleOverride(thresholds={"warning": 0.1})},
+        {"test-ripple-share": RuleOverride(thresholds={"warning": 0.1, "error": 0.4})},
         calls=calls,
     )
-    assert calls == [("added_inductance", "run", 0.1)]
+    assert calls == [("added_inductance", "run", 0.4)]
 
 
 def test_remedy_limit_in_si_for_dimensional_threshold(tmp_path, spec_locate):
@@ -266,7 +269,8 @@ def test_remedy_limit_in_si_for_dimensional_threshold(tmp_path, spec_locate):
     )
     calls: list = []
     run(pack, spec_locate, figures(axis={"ripple_frequency": 12_000.0}), calls=calls)
-    assert calls == [("pwm_frequency_inaudible", None, 20_000.0)]
+    # 12 kHz fires the warning band (below 16 kHz): the fix aims there
+    assert calls == [("pwm_frequency_inaudible", None, 16_000.0)]
 
 
 # ------------------------------------------------------------ applicability

@@ -13,6 +13,8 @@ from pathlib import Path
 
 import pytest
 
+from specguard.cache import CACHE_FORMAT
+
 from .conftest import git, specguard
 
 FORMATS = ("text", "json", "sarif")
@@ -205,7 +207,7 @@ def test_four_concurrent_runs_share_one_cache(tmp_path, cache_env):
     assert len(found) == 33
     for entry in found:  # every entry whole
         doc = json.loads(entry.read_bytes())
-        assert doc["cache_format"] == 1 and doc["result"]["findings"] is not None
+        assert doc["cache_format"] == CACHE_FORMAT and doc["result"]["findings"] is not None
     assert not [p for p in cache_env.rglob("*") if p.name.endswith(".tmp")]
     assert specguard(repo, "check", ".", "--format", "json").stdout == expected
 

@@ -1,0 +1,223 @@
+"""Verified fixes: every fix printed under a finding has been applied to the spec and
+the whole rule pack evaluated again on the changed spec.
+
+A fix is kept only when, applied exactly as printed, it clears its finding at the
+finding's band (the same rule at the same operating point is gone, or fires only at
+a lower band) and creates no finding at or above the fail level that the spec did
+not have. The closed-form remedy of the figures layer gives the first candidate;
+where the coupled model (dead time, control headroom, inductance table, the
+chokes' resistance, the scheme's frequency) moves the answer, the amount is
+searched on the full model: stepped outwards until the finding clears, then
+bisected back, always on printed (rounded) values. A lever that cannot help is said
+once in the finding's message, never listed as a fix.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+from collections.abc import Callable
+from dataclasses import dataclass, replace
+from typing import Any
+
+from ..findings import SEVERITY_ORDER, Change, Finding, Fix
+
+# Outward steps of the search when the closed form falls short (relative change),
+# then bisection steps between the last failing and the first passing amount.
+_STEPS = (0.002, 0.01, 0.05, 0.2, 1.0, 4.0, 16.0)
+# The bisection stops when the bracket is narrower than the printed precision can
+# resolve (4 significant digits: a relative step of about 1e-3).
+_RESOLUTION = 2e-3
+
+Variant = Callable[[dict], "list[Finding] | None"]
+
+
+@dataclass
+class FixContext:
+    """What verifying the fixes of one spec needs."""
+
+    data: dict  # the assembled spec data (library values merged in)
+    spec: Any
+    figures: Any
+    fail_level: str
+    run_variant: Variant  # findings of the whole pack on changed data (None: the data does not build)
+    candidate: Callable[..., Any]  # (remedy name, point, threshold) -> Remedy or None
+    # (document path) -> (file, line, column, end line, end column) of a value written
+    # in the axis file itself, else None
+    region: Callable[[tuple], tuple | None] = lambda _path: None
+    memo: dict | None = None
+
+
+def _key(f: Finding) -> tuple[str, str | None]:
+    return (f.rule, f.operating_point)
+
+
+def _failing(findings: list[Finding], level: str) -> set[tuple[str, str | None]]:
+    threshold = SEVERITY_ORDER[level]
+    return {_key(f) for f in findings if SEVERITY_ORDER[f.severity] >= threshold and not f.suppressed}
+
+
+def _variant(ctx: FixContext, data: dict) -> list[Finding] | None:
+    memo = ctx.memo if ctx.memo is not None else {}
+    ctx.memo = memo
+    key = json.dumps(data, sort_keys=True, default=str)
+    if key not in memo:
+        memo[key] = ctx.run_variant(data)
+    return memo[key]
+
+
+def _outcome(finding: Finding, after: list[Finding]) -> str | None:
+    """The band the finding's rule still reaches at its point after a change ("clear"
+    when it is gone), or None when it still fires at its band or above."""
+    same = [f for f in after if _key(f) == _key(finding)]
+    if not same:
+        return "clear"
+    top = max(SEVERITY_ORDER[f.severity] for f in same)
+    if top >= SEVERITY_ORDER[finding.severity]:
+        return None
+    return next(s for s, rank in SEVERITY_ORDER.items() if rank == top)
+
+
+def _acceptable(ctx: FixContext, finding: Finding, before_failing: set, after: list[Finding] | None):
+    if after is None:
+        return None
+    reached = _outcome(finding, after)
+    if reached is None:
+        return None
+    if _failing(after, ctx.fail_level) - before_failing:
+        return None  # trades this finding for a new one at the fail level
+    return reached
+
+
+def _search(ctx: FixContext, lever, finding: Finding, start: float, before_failing: set, aim_clear: bool):
+    """The least change of ``lever`` from ``start`` (SI) that clears ``finding`` (at
+    its band, or entirely with ``aim_clear``): (Edit, band reached) or None."""
+
+    def attempt(amount: float):
+        if not math.isfinite(amount) or amount <= 0:
+            return None, None
+        edit = lever.edit(ctx.data, ctx.spec, amount)
+        if edit is None:
+            return None, None
+        reached = _acceptable(ctx, finding, before_failing, _variant(ctx, edit.data))
+        if reached is not None and aim_clear and reached != "clear":
+            reached = None
+        return edit, reached
+
+    edit, reached = attempt(start)
+    if reached is not None:
+        return edit, reached
+    sign = 1.0 if lever.at_least else -1.0
+    low = start
+    found = None
+    for step in _STEPS:
+        amount = start * (1.0 + step) if sign > 0 else start / (1.0 + step)
+        edit, reached = attempt(amount)
+        if reached is not None:
+            found = (amount, edit, reached)
+            break
+        low = amount
+    if found is None:
+        return None
+    high, best_edit, best_reached = found
+    while max(high, low) / min(high, low) - 1.0 > _RESOLUTION:
+        mid = math.sqrt(low * high)
+        edit, reached = attempt(mid)
+        if edit is not None and best_edit is not None and edit.amount == best_edit.amount:
+            break  # the printed value no longer moves
+        if reached is not None:
+            high, best_edit, best_reached = mid, edit, reached
+        else:
+            low = mid
+    return best_edit, best_reached
+
+
+def _side_effects(ctx: FixContext, edit, after: list[Finding] | None, before: list[Finding]) -> tuple[str, ...]:
+    out = []
+    gone = sorted({f.rule for f in before} - {f.rule for f in after or []})
+    if gone:
+        out.append("also clears " + ", ".join(gone))
+    return tuple(out)
+
+
+def verify(findings: list[Finding], ctx: FixContext, remedy_names: Callable[[str], tuple[str, ...]]) -> list[Finding]:
+    """The findings with their fixes verified (``remedies`` = the fixes' texts,
+    ``fixes`` = the structured edits), cheapest first; non-fixes moved into the
+    message as one clause."""
+    from ..figures.levers import lever_for
+
+    before_failing = _failing(findings, ctx.fail_level)
+    out: list[Finding] = []
+    for finding in findings:
+        names = remedy_names(finding.rule) if finding.aim is not None else ()
+        if not names:
+            out.append(finding)
+            continue
+        assert finding.aim is not None
+        band_threshold, lowest_threshold, lowest_band = finding.aim
+        fixes: list[Fix] = []
+        unhelpful: list[str] = []
+        for name in names:
+            lever = lever_for(name, ctx.spec)
+            remedy = ctx.candidate(name, ctx.spec, ctx.figures, point=finding.operating_point, limit=band_threshold)
+            if remedy is None or lever is None:
+                continue
+            if remedy.value is None:
+                unhelpful.append(remedy.text)
+                continue
+            found = _search(ctx, lever, finding, float(remedy.value), before_failing, aim_clear=False)
+            if found is None:
+                continue
+            edit, reached = found
+            after = _variant(ctx, edit.data)
+            text = edit.text
+            if reached != "clear" and lowest_threshold != band_threshold:
+                text += _also_clears(ctx, lever, name, finding, lowest_threshold, lowest_band, edit, before_failing)
+            fixes.append(
+                Fix(
+                    text=text,
+                    changes=tuple(Change(p, v, ctx.region(_path(p))) for p, v in edit.changes),
+                    clears=tuple(sorted({f.rule for f in findings if _key(f) not in _keys(after)})),
+                    reaches=reached,
+                    side_effects=_side_effects(ctx, edit, after, findings),
+                    cost=edit.cost,
+                )
+            )
+        fixes.sort(key=lambda f: (f.cost, f.text))
+        message = finding.message
+        if unhelpful:
+            message += "; " + "; ".join(_clause(u) for u in unhelpful)
+        if not fixes and finding.remedies and not unhelpful:
+            message += "; no single change of the levers checked clears it"
+        out.append(replace(finding, message=message, remedies=tuple(f.text for f in fixes), fixes=tuple(fixes)))
+    return out
+
+
+def _path(pointer: str) -> tuple[str, ...]:
+    return tuple(p.replace("~1", "/").replace("~0", "~") for p in pointer.split("/")[1:])
+
+
+def _keys(findings: list[Finding] | None) -> set:
+    return {_key(f) for f in findings or []}
+
+
+def _clause(text: str) -> str:
+    return text.rstrip(".")
+
+
+def _also_clears(ctx, lever, name, finding, lowest_threshold, lowest_band, edit, before_failing) -> str:
+    """ ", clears the error; 41 uH more also clears the warning" for a fix that leaves
+    the finding's rule at a lower band."""
+    remedy = ctx.candidate(name, ctx.spec, ctx.figures, point=finding.operating_point, limit=lowest_threshold)
+    if remedy is None or remedy.value is None:
+        return f" (clears the {finding.severity}; the {lowest_band} stays)"
+    start = max(float(remedy.value), edit.amount) if lever.at_least else min(float(remedy.value), edit.amount)
+    found = _search(ctx, lever, finding, start, before_failing, aim_clear=True)
+    if found is None:
+        return f" (clears the {finding.severity}; the {lowest_band} stays)"
+    more, _ = found
+    from ..model.units import format_si
+
+    delta = format_si(abs(more.amount - edit.amount), lever.dimension)
+    word = "more" if lever.at_least else "lower"
+    return f" (clears the {finding.severity}; {delta} {word} also clears the {lowest_band})"
