@@ -271,8 +271,12 @@ def _clip(value: float, low: float, high: float) -> float:
 
 def _electrical(spec: Spec, ax: _Axis, speed: float, torque: float) -> dict[str, float]:
     """Electrical quantities at one operating point (floats; the physics' math path)."""
-    motor, stage = spec.motor, spec.stage
-    V = stage.supply.voltage
+    motor = spec.motor
+    # the weakest case of the declared supply range for each figure: the headroom
+    # (modulation, duty, reach) at its lowest voltage, the ripple at its highest
+    # (docs/physics.md §4.6); one voltage when no range is declared
+    V = _lowest_supply(spec)
+    V_top = _highest_supply(spec)
     no_load = motor.no_load_current or 0.0
     kt, ke = _constants(spec)
     if ax.topology in ("dc", "six-step"):
@@ -283,9 +287,18 @@ def _electrical(spec: Spec, ax: _Axis, speed: float, torque: float) -> dict[str,
         m = P.operating.modulation_required(v_term, V, current, ax.series_resistance, ax.dead_time, ax.f_leg, ax.scheme)
         m_max = P.operating.modulation_max(ax.max_duty, ax.scheme)
         m_clip = _clip(m, 0.0, 1.0)
-        ripple = P.hbridge.ripple_exact(V, ax.inductance, ax.resistance_hot, ax.f_leg, m_clip, ax.scheme, emf)
+        m_top = m_clip
+        if V_top != V:
+            m_top = _clip(
+                P.operating.modulation_required(
+                    v_term, V_top, current, ax.series_resistance, ax.dead_time, ax.f_leg, ax.scheme
+                ),
+                0.0,
+                1.0,
+            )
+        ripple = P.hbridge.ripple_exact(V_top, ax.inductance, ax.resistance_hot, ax.f_leg, m_top, ax.scheme, emf)
         ripple_cat = P.hbridge.ripple_peak_to_peak(
-            V, ax.inductance_catalogue, ax.resistance_hot, ax.f_leg, m_clip, ax.scheme
+            V_top, ax.inductance_catalogue, ax.resistance_hot, ax.f_leg, m_top, ax.scheme
         )
         return {
             "current": current,
@@ -293,6 +306,7 @@ def _electrical(spec: Spec, ax: _Axis, speed: float, torque: float) -> dict[str,
             "modulation": m,
             "duty": P.hbridge.leg_duty(m_clip, ax.scheme),
             "modulation_ratio": m / m_max,
+            "ripple_modulation": m_top,
             "ripple_pp": ripple.peak_to_peak,
             "ripple_rms": ripple.ripple_rms,
             "ripple_pp_catalogue": ripple_cat,
@@ -315,9 +329,12 @@ def _electrical(spec: Spec, ax: _Axis, speed: float, torque: float) -> dict[str,
     dead_loss = v_ph_duty - v_ph_max
     M = P.operating.modulation_index(v_ph, V)
     M_clip = _clip(M, 0.0, P.threephase.modulation_index_limit(ax.scheme))
-    ripple_pp = P.threephase.phase_ripple_peak_to_peak_max(V, ax.inductance, ax.f_leg, M_clip, ax.scheme)
-    ripple_rms = P.threephase.phase_ripple_rms(V, ax.inductance, ax.f_leg, M_clip, ax.scheme)
-    ripple_cat = P.threephase.phase_ripple_peak_to_peak_max(V, ax.inductance_catalogue, ax.f_leg, M_clip, ax.scheme)
+    M_top = _clip(P.operating.modulation_index(v_ph, V_top), 0.0, P.threephase.modulation_index_limit(ax.scheme))
+    ripple_pp = P.threephase.phase_ripple_peak_to_peak_max(V_top, ax.inductance, ax.f_leg, M_top, ax.scheme)
+    ripple_rms = P.threephase.phase_ripple_rms(V_top, ax.inductance, ax.f_leg, M_top, ax.scheme)
+    ripple_cat = P.threephase.phase_ripple_peak_to_peak_max(
+        V_top, ax.inductance_catalogue, ax.f_leg, M_top, ax.scheme
+    )
     # peak leg duty: SPWM 1/2 (1 + M); SVPWM with min-max injection 1/2 (1 + M sqrt3/2)
     duty = 0.5 * (1.0 + M_clip * (SQRT3 / 2.0 if ax.scheme == P.threephase.SVPWM else 1.0))
     return {
@@ -326,6 +343,7 @@ def _electrical(spec: Spec, ax: _Axis, speed: float, torque: float) -> dict[str,
         "modulation": M,
         "duty": duty,
         "modulation_ratio": (v_ph + dead_loss) / v_ph_duty,
+        "ripple_modulation": M_top,
         "ripple_pp": ripple_pp,
         "ripple_rms": ripple_rms,
         "ripple_pp_catalogue": ripple_cat,
@@ -336,7 +354,7 @@ def _electrical(spec: Spec, ax: _Axis, speed: float, torque: float) -> dict[str,
 
 
 def _worst_ripple(spec: Spec, ax: _Axis, inductance: float) -> float:
-    V = spec.stage.supply.voltage
+    V = _highest_supply(spec)  # a full battery: the worst case of the declared range
     if ax.topology in ("dc", "six-step"):
         return float(P.hbridge.ripple_peak_to_peak_worst(V, inductance, ax.resistance_hot, ax.f_leg, ax.scheme))
     v_ph_max = P.operating.phase_voltage_peak_max(V, ax.scheme, ax.max_duty, ax.dead_time, ax.f_leg)
@@ -359,6 +377,8 @@ def compute(spec: Spec, settings: FigureSettings | None = None) -> FigureSet:
     axis: dict[str, float | bool] = {
         "rated_current": rated,
         "supply_voltage": V,
+        "supply_voltage_high": _highest_supply(spec),
+        "supply_voltage_low": _lowest_supply(spec),
         "ripple_frequency": ax.f_ripple,
         "pwm_frequency_leg": ax.f_leg,
         "loop_inductance": ax.inductance,
@@ -388,6 +408,7 @@ def compute(spec: Spec, settings: FigureSettings | None = None) -> FigureSet:
                 "modulation": e["modulation"],
                 "duty": e["duty"],
                 "modulation_ratio": e["modulation_ratio"],
+                "ripple_modulation": e["ripple_modulation"],
                 "ripple_pp": e["ripple_pp"],
                 "ripple_pp_catalogue": e["ripple_pp_catalogue"],
                 "ripple_ratio": e["ripple_pp"] / rated,
@@ -707,7 +728,8 @@ def _braking(spec, axis, missing):
         for name in names[1:]:
             missing[name] = "the spec lacks stage.bus_capacitance or stage.overvoltage_trip"
         return
-    V = stage.supply.voltage
+    # braking from a full supply (the top of its range) leaves the least room below the trip
+    V = _highest_supply(spec)
     capacity = float(P.braking.capacitor_absorbable_energy(stage.bus_capacitance, V, stage.overvoltage_trip))
     axis["bus_absorbable_energy"] = capacity
     axis["braking_energy_ratio"] = energy / capacity if capacity > 0 else math.inf
@@ -730,9 +752,13 @@ def remedy(
 ) -> Remedy | None:
     settings = settings or FigureSettings()
     ax = _axis(spec, settings)
-    V = spec.stage.supply.voltage
+    # ripple remedies at the top of the supply range, where the ripple is judged; the
+    # modulation figure is taken at the bottom, and scales as 1/V to the top
+    V_nom, V, V_low = spec.stage.supply.voltage, _highest_supply(spec), _lowest_supply(spec)
     rated = spec.motor.rated_current
     modulation = figures.value("modulation", point) if point is not None else None
+    if modulation is not None:
+        modulation = float(modulation) * V_low / V
     three = ax.topology == "sinusoidal"
     if name == "added_inductance":
         if three:
@@ -822,35 +848,45 @@ def remedy(
             value = P.remedies.supply_voltage_max_for_ripple(
                 ax.inductance, ax.resistance_hot, ax.f_leg, ax.scheme, rated, limit
             )
+        # ``value`` bounds the top of the range; a supply of the same tolerance scales
+        # its whole range, so the nominal voltage moves by the same factor
         if value is None or not math.isfinite(value) or value >= V:
             return None
-        needed = figures.value("supply_min")
-        if needed is not None and value < float(needed):
-            return Remedy(
-                name,
-                f"lowering the supply does not help: the ripple limit needs at most {_fmt(value, 'voltage')} "
-                f"but the operating points need at least {_fmt(float(needed), 'voltage')}",
-                None,
-                "V",
-            )
-        return Remedy(name, f"lower the supply to at most {_fmt(value, 'voltage')}", float(value), "V")
+        needed = figures.value("supply_min")  # bounds the bottom of the range
+        if needed is not None and value / V < float(needed) / V_low:
+            if V == V_low:
+                why = (
+                    f"the ripple limit needs at most {_fmt(value, 'voltage')} but the operating points need "
+                    f"at least {_fmt(float(needed), 'voltage')}"
+                )
+            else:
+                why = (
+                    f"the ripple limit needs the top of the supply range at most {_fmt(value, 'voltage')} "
+                    f"(now {_fmt(V, 'voltage')}), which takes its bottom to {_fmt(V_low * value / V, 'voltage')}, "
+                    f"below the {_fmt(float(needed), 'voltage')} the operating points need"
+                )
+            return Remedy(name, f"lowering the supply does not help: {why}", None, "V")
+        nominal = V_nom * value / V
+        return Remedy(name, f"lower the supply to at most {_fmt(nominal, 'voltage')}", float(nominal), "V")
     if name == "supply_voltage_for_duty":
-        needed = figures.value("modulation_max")
+        needed = figures.value("modulation_max")  # at the bottom of the range
         if not needed:
             return None
-        value = V * float(needed) / limit  # m scales as 1/V for fixed terminal voltage
-        if value >= V:
+        scale = float(needed) / limit  # m scales as 1/V for fixed terminal voltage
+        if scale >= 1.0:
             return None
+        value = V_nom * scale
         text = (
             f"lower the supply to at most {_fmt(value, 'voltage')} "
             f"(modulation then {limit:.0%} at the most demanding point)"
         )
         return Remedy(name, text, value, "V")
     if name == "supply_voltage_min":
-        value = figures.value("supply_min")
+        value = figures.value("supply_min")  # the bottom of the range must reach it
         if value is None:
             return None
-        return Remedy(name, f"raise the supply to at least {_fmt(float(value), 'voltage')}", float(value), "V")
+        nominal = V_nom * float(value) / V_low
+        return Remedy(name, f"raise the supply to at least {_fmt(nominal, 'voltage')}", nominal, "V")
     if name == "pwm_frequency_inaudible":
         ratio = ax.f_ripple / ax.f_leg
         value = limit / ratio
@@ -906,8 +942,17 @@ def _torque_constant_model(spec: Spec) -> float:
 
 
 def _highest_supply(spec: Spec) -> float:
+    """The top of the declared supply range (a full battery), else the nominal voltage:
+    where ripple, braking and over-voltage are worst."""
     supply = spec.stage.supply
     return supply.range[1] if supply.range is not None else supply.voltage
+
+
+def _lowest_supply(spec: Spec) -> float:
+    """The bottom of the declared supply range (a flat battery), else the nominal
+    voltage: where the duty headroom, the reachable speed and torque are worst."""
+    supply = spec.stage.supply
+    return supply.range[0] if supply.range is not None else supply.voltage
 
 
 def _plausibility(spec, ax, elec, rows, axis, missing):

@@ -125,7 +125,8 @@ def _num(figures, name: str, point: str | None = None) -> float | None:
 def _loop(spec, figures):
     """(V, L, R, f_leg, family, scheme) or None when a piece is missing."""
     fam = family(spec)
-    voltage = _num(figures, "supply_voltage")
+    # the ripple is judged at the top of the supply range: the plots draw it there too
+    voltage = _num(figures, "supply_voltage_high") or _num(figures, "supply_voltage")
     if voltage is None:
         voltage = float(spec.stage.supply.voltage)
     inductance = _num(figures, "loop_inductance")
@@ -211,7 +212,9 @@ def current_waveform(spec, figures, point: str | None = None) -> Waveform | None
     point = point or worst_point(spec, figures)
     if point is None:
         return None
-    modulation = _num(figures, "modulation", point)
+    modulation = _num(figures, "ripple_modulation", point)
+    if modulation is None:
+        modulation = _num(figures, "modulation", point)
     current = _num(figures, "current", point)
     if modulation is None or current is None or resistance <= 0.0:
         return None

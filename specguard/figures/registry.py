@@ -36,6 +36,26 @@ FIGURES: tuple[FigureDef, ...] = (
     # --- inputs repeated as figures so that messages and reports can quote them
     _d("rated_current", "current", "A", "axis", "rated (continuous) current of the motor", "motor/rated_current"),
     _d("supply_voltage", "voltage", "V", "axis", "nominal supply (bus) voltage", "stage/supply/voltage"),
+    _d(
+        "supply_voltage_high",
+        "voltage",
+        "V",
+        "axis",
+        "top of the declared supply range (a full battery), else the nominal voltage: ripple, worst-case "
+        "ripple, choke peak and braking are judged there",
+        "stage/supply/range",
+        "stage/supply/voltage",
+    ),
+    _d(
+        "supply_voltage_low",
+        "voltage",
+        "V",
+        "axis",
+        "bottom of the declared supply range (a flat battery), else the nominal voltage: modulation, duty "
+        "and headroom are judged there",
+        "stage/supply/range",
+        "stage/supply/voltage",
+    ),
     _d("speed", "speed", "rad/s", "point", "motor speed at the operating point", "operating_points"),
     _d("torque", "torque", "N*m", "point", "motor torque at the operating point", "operating_points"),
     _d("ambient", "temperature", "K", "point", "ambient temperature at the operating point", "operating_points"),
@@ -203,8 +223,18 @@ FIGURES: tuple[FigureDef, ...] = (
         "ratio",
         "1",
         "point",
-        "modulation needed at the operating point (average load voltage over bus voltage; M for three-phase)",
+        "modulation needed at the operating point at the bottom of the supply range (average load voltage over "
+        "bus voltage; M for three-phase)",
         "stage/supply/voltage",
+        "operating_points",
+    ),
+    _d(
+        "ripple_modulation",
+        "ratio",
+        "1",
+        "point",
+        "modulation at the top of the supply range, where the ripple is computed (equals modulation without a range)",
+        "stage/supply/range",
         "operating_points",
     ),
     _d("duty", "ratio", "1", "point", "duty cycle of the switching leg at the operating point", "stage/pwm/scheme"),

@@ -521,7 +521,8 @@ def current_waveform(
     """Samples of the exact periodic current over one ripple period (for plotting).
 
     Parameters: as :func:`current_peak` (scalars); sample_count [-] number of
-    samples including both ends.  Returns ``(time [s], current [A])`` numpy arrays;
+    evenly spaced samples including both ends (the switching instant is added when
+    it falls between them).  Returns ``(time [s], current [A])`` numpy arrays;
     the period starts with the high state at the current minimum.
 
     High state ``i = I_avg + (1 - D) s E(t) + (I_min - I_avg) e^{-t/tau}``, low state
@@ -535,8 +536,10 @@ def current_waveform(
     peak_offset = ripple_peak_offset(supply_voltage, inductance, resistance, pwm_frequency, modulation, scheme)
     trough_offset = ripple_trough_offset(supply_voltage, inductance, resistance, pwm_frequency, modulation, scheme)
     average = current_average(supply_voltage, modulation, back_emf, resistance)
-    time = np.linspace(0.0, period, sample_count)
     t_high = duty * period
+    # the switching instant is a sample of its own: the peak lies there, and a plot
+    # that missed it would draw the ripple short by up to a sampling step's slope
+    time = np.union1d(np.linspace(0.0, period, sample_count), [t_high])
     in_high = time <= t_high
     local = np.where(in_high, time, time - t_high)
     # E(t) = (1 - exp(-r t)) / r written with expm1 and the r -> 0 limit t.
