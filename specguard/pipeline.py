@@ -411,9 +411,12 @@ def _rule_findings(
         text = " ".join(f"{type(exc).__name__}: {exc}".split())[:300]
         return [_internal(f"the figures of this file could not be computed: {text}", loc)], None
     try:
-        findings = evaluate(spec, figures, locate, pack, overrides, remedy=_no_remedy)
+        judged = evaluate(spec, figures, locate, pack, overrides, remedy=_no_remedy)
+        findings = _estimate_dependence(judged, spec, figures, locate, pack, overrides, settings)
         if data is not None:
-            findings = _verified_fixes(findings, data, spec, figures, locate, pack, overrides, options, settings)
+            findings = _verified_fixes(
+                findings, data, spec, figures, locate, pack, overrides, options, settings, judged
+            )
         return findings, figures
     except Exception as exc:
         text = " ".join(f"{type(exc).__name__}: {exc}".split())[:300]
@@ -447,7 +450,76 @@ def figure_settings(pack, overrides):
     return FigureSettings(ripple_limit_ratio=float(bands[-1].threshold))
 
 
-def _verified_fixes(findings, data, spec, figures, locate, pack, overrides, options, settings):
+# Findings a verdict on the inductance estimate never softens: the estimate's own
+# note and the findings that do not judge a figure.
+_ESTIMATE_NEUTRAL = frozenset({"inductance-estimated", "rule-not-applicable", "internal-error"})
+
+
+def _estimate_dependence(findings, spec, figures, locate, pack, overrides, settings):
+    """Findings whose verdict rests on the estimate of the inductance at the ripple
+    frequency (the same rule passes, or fires at a lower band, with the catalogue
+    value) say so with both figures, and drop one band: an estimate alone does not
+    make an error (docs/physics.md §5.3)."""
+    from dataclasses import replace as _replace
+
+    from .engine.evaluate import evaluate
+    from .engine.pack import format_value
+    from .figures import compute
+    from .figures.registry import FIGURE_DEFS
+    from .findings import SEVERITY_ORDER
+
+    if not figures.axis.get("inductance_estimated"):
+        return findings
+    catalogue_settings = _replace(
+        settings, inductance_curves=tuple((name, (0.0, 1.0)) for name, _ in settings.inductance_curves)
+    )
+    try:
+        cat_figures = compute(spec, catalogue_settings)
+    except Exception:  # the estimate's figures stand; nothing to compare with
+        return findings
+    at_catalogue: dict[tuple, int] = {}
+    for f in evaluate(spec, cat_figures, locate, pack, overrides, remedy=_no_remedy, lean=True):
+        key = (f.rule, f.operating_point)
+        at_catalogue[key] = max(at_catalogue.get(key, -1), SEVERITY_ORDER[f.severity])
+    lower = {"error": "warning", "warning": "info"}
+    estimate = format_value(float(figures.axis["loop_inductance"]), "inductance")
+    catalogue = format_value(float(figures.axis["loop_inductance_catalogue"]), "inductance")
+    out = []
+    for f in findings:
+        if f.rule in _ESTIMATE_NEUTRAL or f.severity == "info":
+            out.append(f)
+            continue
+        then = at_catalogue.get((f.rule, f.operating_point), -1)
+        if then >= SEVERITY_ORDER[f.severity]:
+            out.append(f)
+            continue
+        prule = pack.get(f.rule)
+        name = prule.rule.figure if prule is not None else None
+        value = cat_figures.value(name, f.operating_point) if name else None
+        shown = (
+            f"it reads {format_value(float(value), FIGURE_DEFS[name].dimension)} and "
+            if name in FIGURE_DEFS and isinstance(value, (int, float)) and not isinstance(value, bool)
+            else ""
+        )
+        verdict = "passes" if then < 0 else f"gives a {next(k for k, v in SEVERITY_ORDER.items() if v == then)}"
+        note = (
+            f"; this rests on the estimated inductance ({estimate} in the loop; with the catalogue value "
+            f"{catalogue} {shown}the rule {verdict}): measure the inductance at the ripple frequency"
+        )
+        softer = lower[f.severity]
+        aim = f.aim
+        if aim is not None and prule is not None:
+            # its fixes aim at the band it is shown at
+            from .engine.evaluate import effective_bands
+
+            bands = effective_bands(prule, overrides.get(prule.id))
+            band = next((b for b in bands if b.severity == softer), bands[-1])
+            aim = (float(band.threshold), aim[1], aim[2])
+        out.append(_replace(f, message=f.message + note, severity=softer, aim=aim))
+    return out
+
+
+def _verified_fixes(findings, data, spec, figures, locate, pack, overrides, options, settings, judged):
     from .engine.evaluate import evaluate
     from .engine.fixes import FixContext, verify
     from .figures import compute, remedy
@@ -484,7 +556,9 @@ def _verified_fixes(findings, data, spec, figures, locate, pack, overrides, opti
         return (loc.file, loc.line, loc.column, loc.end_line, loc.end_column)
 
     ctx = FixContext(data, spec, figures, level, run_variant, candidate, region)
-    return verify(findings, ctx, remedy_names)
+    # variants are judged as evaluated (no softening for the inductance estimate), so the
+    # failing findings they are compared with are those of the same judgement
+    return verify(findings, ctx, remedy_names, before=judged)
 
 
 _OVERRIDES_MEMO: dict[int, tuple[object, dict]] = {}

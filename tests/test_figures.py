@@ -13,7 +13,7 @@ import math
 
 import pytest
 
-from specguard.figures import FIGURE_DEFS, compute
+from specguard.figures import FIGURE_DEFS, FigureSettings, compute
 from specguard.findings import Location
 from specguard.model import build
 
@@ -48,10 +48,17 @@ E4 = {
 }
 
 
-def figures_of(data):
+def figures_of(data, settings=None):
     spec, findings = build(data, lambda p, key=False: (Location("x", 1, 1, path=tuple(p)), ()))
     assert spec is not None, findings
-    return compute(spec)
+    return compute(spec, settings)
+
+
+# The worked example's "one-third derated inductance" as an estimate curve: a step to
+# k = 1/3 above the catalogue frequency (a steep exponent held at a floor of 1/3).
+ONE_THIRD = FigureSettings(
+    inductance_curves=tuple((w, (60.0, 1.0 / 3.0)) for w in ("iron-core", "slotless", "coreless"))
+)
 
 
 def with_scheme(scheme, data=E4):
@@ -90,6 +97,30 @@ def test_e4_ripple_by_scheme(scheme, at_point, worst):
     assert fs.value("ripple_ratio_worst") == pytest.approx(worst / 2.0, rel=3e-3)
 
 
+def test_estimate_curve_per_winding_is_continuous_and_reaches_a_third():
+    """Common practice, no published source (docs/physics.md §5.3): an iron-core
+    winding's inductance at 20 kHz is about a third of its 1 kHz catalogue value;
+    slotless and coreless windings fall less; the curve has no step and a floor."""
+    from specguard.physics.inductance import ESTIMATE_CURVES, inductance_estimated
+
+    n, floor = ESTIMATE_CURVES["iron-core"]
+    assert inductance_estimated(1.0, 1e3, 20e3, n, floor) == pytest.approx(1.0 / 3.0, rel=2e-3)
+    for winding, (n, floor) in ESTIMATE_CURVES.items():
+        assert inductance_estimated(1.0, 1e3, 1e3, n, floor) == 1.0  # no step at the catalogue frequency
+        assert inductance_estimated(1.0, 1e3, 1.001e3, n, floor) == pytest.approx(1.0, rel=1e-3), winding
+        assert inductance_estimated(1.0, 1e3, 1e7, n, floor) == floor  # held at the floor
+    at = {w: inductance_estimated(1.0, 1e3, 25e3, *c) for w, c in ESTIMATE_CURVES.items()}
+    assert at["iron-core"] < at["slotless"] < at["coreless"] < 1.0
+
+
+def test_catalogue_value_measured_near_the_ripple_frequency_is_used_as_is():
+    data = with_scheme("bipolar")
+    data["motor"]["terminal_inductance"]["measured_at"] = "17 kHz"  # within 20 % below 20 kHz
+    fs = figures_of(data)
+    assert fs.value("inductance_estimated") is False
+    assert fs.value("loop_inductance") == pytest.approx(0.2e-3, rel=1e-12)
+
+
 @pytest.mark.parametrize(
     "scheme, derated_at_point",
     [
@@ -103,7 +134,7 @@ def test_e4_ripple_by_scheme(scheme, at_point, worst):
 def test_e4_derated_inductance(scheme, derated_at_point):
     data = with_scheme(scheme)
     data["motor"]["terminal_inductance"]["measured_at"] = "1 kHz"
-    fs = figures_of(data)
+    fs = figures_of(data, ONE_THIRD)
     assert fs.value("inductance_estimated") is True
     assert fs.value("loop_inductance") == pytest.approx(0.2e-3 / 3, rel=1e-12)
     assert fs.value("ripple_pp", "e4") == pytest.approx(derated_at_point, rel=2.5e-2)

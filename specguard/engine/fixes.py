@@ -140,13 +140,18 @@ def _side_effects(ctx: FixContext, edit, after: list[Finding] | None, before: li
     return tuple(out)
 
 
-def verify(findings: list[Finding], ctx: FixContext, remedy_names: Callable[[str], tuple[str, ...]]) -> list[Finding]:
+def verify(
+    findings: list[Finding],
+    ctx: FixContext,
+    remedy_names: Callable[[str], tuple[str, ...]],
+    before: list[Finding] | None = None,
+) -> list[Finding]:
     """The findings with their fixes verified (``remedies`` = the fixes' texts,
     ``fixes`` = the structured edits), cheapest first; non-fixes moved into the
     message as one clause."""
     from ..figures.levers import lever_for
 
-    before_failing = _failing(findings, ctx.fail_level)
+    before_failing = _failing(findings if before is None else before, ctx.fail_level)
     out: list[Finding] = []
     for finding in findings:
         names = remedy_names(finding.rule) if finding.aim is not None else ()
@@ -187,8 +192,8 @@ def verify(findings: list[Finding], ctx: FixContext, remedy_names: Callable[[str
         message = finding.message
         if unhelpful:
             message += "; " + "; ".join(_clause(u) for u in unhelpful)
-        if not fixes and finding.remedies and not unhelpful:
-            message += "; no single change of the levers checked clears it"
+        if not fixes and not unhelpful:
+            message += "; no single change of the levers checked clears it without a new finding at the fail level"
         out.append(replace(finding, message=message, remedies=tuple(f.text for f in fixes), fixes=tuple(fixes)))
     return out
 

@@ -37,10 +37,11 @@ _CHOKES_NOT_IN_EVERY_PHASE = "; chokes not fitted in every phase are not counted
 class FigureSettings:
     """Modelling choices that are common practice rather than physics (configurable)."""
 
-    # Effective inductance at tens of kHz as a fraction of a ~1 kHz catalogue value
-    # when no measured table exists: common practice, no published source
-    # (docs/physics.md §5.3); the result is labelled an estimate.
-    inductance_derating: float = P.inductance.DEFAULT_DERATING_FACTOR
+    # The estimate of the inductance at the ripple frequency from a catalogue value,
+    # per winding construction: (exponent, floor) of the curve of
+    # physics.inductance.inductance_estimated (common practice, no published source,
+    # docs/physics.md §5.3); the result is labelled an estimate.
+    inductance_curves: tuple[tuple[str, tuple[float, float]], ...] = tuple(P.inductance.ESTIMATE_CURVES.items())
     # Ripple limit used for the supply window (docs/physics.md §7.4; 10-20 %: common practice).
     ripple_limit_ratio: float = 0.2
     # Lowest acceptable modulation, for the supply window (docs/physics.md §4.6; common practice).
@@ -120,25 +121,33 @@ def _motor_inductance(spec: Spec, f_ripple: float, settings: FigureSettings, ax_
     if table:
         freqs = [row.frequency for row in table]
         values = [row.inductance for row in table]
-        result = P.inductance.inductance_at_frequency(f_ripple, freqs, values)
+        result = P.inductance.inductance_from_table(f_ripple, freqs, values)
         flags["inductance_estimated"] = False
         flags["inductance_extrapolated"] = bool(result.extrapolated)
         flags["inductance_table_rising"] = bool(P.inductance.table_non_monotonic(freqs, values))
-        ax_notes["loop_inductance"] = "motor inductance interpolated (log-log) in the measured table"
+        ax_notes["loop_inductance"] = "motor inductance interpolated (log-log) in the measured table" + (
+            "; beyond its last point its last falling segment continues (at least half the last value)"
+            if result.extrapolated and f_ripple > max(freqs)
+            else ""
+        )
         catalogue = motor.terminal_inductance.value if motor.terminal_inductance else values[0]
         return float(result.value), float(catalogue)  # type: ignore[arg-type]  # a float for float input
     assert motor.terminal_inductance is not None  # the model guarantees one of the two
     catalogue = motor.terminal_inductance.value
-    if motor.terminal_inductance.measured_at >= f_ripple:
+    measured_at = motor.terminal_inductance.measured_at
+    if measured_at >= P.inductance.MEASURED_AT_BAND * f_ripple:
         flags["inductance_estimated"] = False
-        ax_notes["loop_inductance"] = "catalogue inductance measured at or above the ripple frequency"
+        ax_notes["loop_inductance"] = "catalogue inductance measured at (or near) the ripple frequency"
         return catalogue, catalogue
+    exponent, floor = dict(settings.inductance_curves)[motor.winding]
+    estimate = float(P.inductance.inductance_estimated(catalogue, measured_at, f_ripple, exponent, floor))
     flags["inductance_estimated"] = True
     ax_notes["loop_inductance"] = (
-        f"estimate: catalogue value x {settings.inductance_derating:.3g} "
-        "(no measured inductance table; common practice, no published source)"
+        f"estimate for a {motor.winding} winding: catalogue value x {estimate / catalogue:.3g} at the ripple "
+        f"frequency (curve (f/f_cat)^-{exponent:g}, at least {floor:g}; no measured inductance table; common "
+        "practice, no published source)"
     )
-    return float(P.inductance.inductance_derated(catalogue, settings.inductance_derating)), catalogue
+    return estimate, catalogue
 
 
 def _axis(spec: Spec, settings: FigureSettings) -> _Axis:
@@ -419,6 +428,12 @@ def compute(spec: Spec, settings: FigureSettings | None = None) -> FigureSet:
     worst = _worst_ripple(spec, ax, ax.inductance)
     axis["ripple_pp_worst"] = worst
     axis["ripple_ratio_worst"] = worst / rated
+    if ax.flags.get("inductance_estimated"):
+        # what the estimate of the inductance does to the worst case (the catalogue
+        # value in the loop instead)
+        axis["ripple_ratio_worst_catalogue"] = _worst_ripple(spec, ax, ax.inductance_catalogue) / rated
+    else:
+        missing["ripple_ratio_worst_catalogue"] = "the inductance at the ripple frequency is not an estimate"
     axis["modulation_max"] = max(e["modulation"] for e in elec)
 
     # discontinuous conduction: only with diode freewheeling (docs/physics.md §1.6)

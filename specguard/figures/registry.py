@@ -170,6 +170,16 @@ FIGURES: tuple[FigureDef, ...] = (
         "motor/rated_current",
     ),
     _d(
+        "ripple_ratio_worst_catalogue",
+        "ratio",
+        "1",
+        "axis",
+        "worst-case ripple over the rated current with the catalogue inductance in the loop instead of the "
+        "estimate at the ripple frequency (only when the inductance is an estimate)",
+        *_PWM,
+        *_L,
+    ),
+    _d(
         "ripple_pp_worst",
         "current",
         "A",

@@ -22,6 +22,11 @@ __all__ = [
     "series_resistance_at_frequency",
     "table_non_monotonic",
     "inductance_derated",
+    "ESTIMATE_CURVES",
+    "MEASURED_AT_BAND",
+    "TABLE_EXTRAPOLATION_FLOOR",
+    "inductance_estimated",
+    "inductance_from_table",
     "inductance_estimate_range",
     "inductance_from_measured_ripple",
 ]
@@ -135,6 +140,70 @@ def table_non_monotonic(table_frequencies, table_inductances) -> bool:
     """
     _, v = _table_floats(table_frequencies, table_inductances)
     return any(b > a for a, b in zip(v, v[1:], strict=False))
+
+
+# The catalogue-to-PWM-frequency curve per winding construction (common practice, no
+# published source; docs/physics.md §5.3): ``L(f) = L_cat max((f/f_cat)^-n, floor)``.
+# Iron-core windings fall to about one third of a 1 kHz catalogue value by 20 kHz
+# (n = ln 3 / ln 20 = 0.367); slotless and coreless windings, with less iron in the
+# field, fall less. The policy can set each (``specguard config`` shows them).
+ESTIMATE_CURVES: dict[str, tuple[float, float]] = {
+    "iron-core": (0.367, 0.25),
+    "slotless": (0.30, 0.30),
+    "coreless": (0.25, 0.33),
+}
+# A catalogue value measured this close below the ripple frequency (ratio) is used as
+# it is: the curve moves it by less than the spread of LCR readings (common practice).
+MEASURED_AT_BAND = 0.8
+# Beyond a measured table's last point its last falling segment continues, but not
+# below this fraction of the last measured value (common practice, no published source).
+TABLE_EXTRAPOLATION_FLOOR = 0.5
+
+
+def inductance_estimated(catalogue_inductance, catalogue_frequency, frequency, exponent, floor):
+    """ESTIMATE of the inductance at ``frequency`` from a catalogue value [H].
+
+    Parameters: catalogue_inductance [H] measured at catalogue_frequency [Hz];
+    frequency [Hz] (the ripple frequency); exponent [-] ``n``; floor [-] the lowest
+    fraction of the catalogue value.
+    ``L(f) = L_cat`` for ``f <= f_cat``, else ``L_cat max((f/f_cat)^-n, floor)``:
+    continuous in ``f`` (no step at the catalogue frequency), falling as a power law
+    (eddy currents in iron, magnets and windings) down to a floor.  Common practice,
+    no published source (docs/physics.md §5.3): every result that uses it is an
+    estimate and is labelled so.  Floats and arrays.
+    """
+    if is_scalar(frequency) and is_scalar(catalogue_frequency):
+        ratio = float(frequency) / float(catalogue_frequency)
+        if ratio <= 1.0:
+            return float(catalogue_inductance)
+        return float(catalogue_inductance) * max(ratio ** (-exponent), floor)
+    ratio = np.asarray(frequency, dtype=float) / np.asarray(catalogue_frequency, dtype=float)
+    factor = np.where(ratio <= 1.0, 1.0, np.maximum(np.maximum(ratio, 1.0) ** (-exponent), floor))
+    return catalogue_inductance * factor
+
+
+def inductance_from_table(frequency, table_frequencies, table_inductances) -> TableValue:
+    """Inductance at ``frequency`` from a measured table, extrapolated by a stated law [H].
+
+    Inside the table: :func:`inductance_at_frequency` (log-log).  Below the first
+    point the first value is held.  Beyond the last point a falling last segment
+    continues as its power law ``L_n (f/f_n)^k``, floored at
+    :data:`TABLE_EXTRAPOLATION_FLOOR` of ``L_n``; a rising or flat one is held.
+    ``extrapolated`` is True outside the table.  Source: derived here
+    (docs/physics.md §5.2); the floor is common practice.
+    """
+    inside = inductance_at_frequency(frequency, table_frequencies, table_inductances)
+    if not is_scalar(frequency):
+        raise ValueError("inductance_from_table takes one frequency")
+    f, v = _table_floats(table_frequencies, table_inductances)
+    query = float(frequency)
+    if query <= f[-1] or len(f) < 2:
+        return inside
+    slope = math.log(v[-1] / v[-2]) / math.log(f[-1] / f[-2])
+    if slope >= 0.0:
+        return inside
+    value = max(v[-1] * (query / f[-1]) ** slope, TABLE_EXTRAPOLATION_FLOOR * v[-1])
+    return TableValue(value, True)
 
 
 def inductance_derated(catalogue_inductance, derating_factor=DEFAULT_DERATING_FACTOR):
