@@ -29,7 +29,7 @@ FILLS: dict[str, dict[str, str]] = {
         "motor.winding": "iron-core",
         "motor.terminal_resistance.value": "2.1 ohm",
         "motor.terminal_resistance.at": "25 degC",
-        "motor.terminal_inductance.value": "2.6 mH",
+        "motor.terminal_inductance.value": "3.3 mH",
         "motor.terminal_inductance.measured_at": "1 kHz",
         "motor.torque_constant.value": "23.5 mN*m/A",
         "motor.back_emf_constant.value": "2.46 mV/rpm",

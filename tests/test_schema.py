@@ -65,6 +65,7 @@ def _walk(node, schema, path=()):
 # every numeric field either declares its unit or is listed here with its reason).
 DIMENSIONLESS = {
     ("stage", "pwm", "max_duty"): "a duty cycle is a fraction",
+    ("motor", "pwm_loss", "at_duty"): "a duty cycle is a fraction",
     ("motor", "pole_pairs"): "a count",
     ("chokes", "count"): "a count",
     ("format",): "the format version",

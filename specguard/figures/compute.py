@@ -341,9 +341,7 @@ def _electrical(spec: Spec, ax: _Axis, speed: float, torque: float) -> dict[str,
     M_top = _clip(P.operating.modulation_index(v_ph, V_top), 0.0, P.threephase.modulation_index_limit(ax.scheme))
     ripple_pp = P.threephase.phase_ripple_peak_to_peak_max(V_top, ax.inductance, ax.f_leg, M_top, ax.scheme)
     ripple_rms = P.threephase.phase_ripple_rms(V_top, ax.inductance, ax.f_leg, M_top, ax.scheme)
-    ripple_cat = P.threephase.phase_ripple_peak_to_peak_max(
-        V_top, ax.inductance_catalogue, ax.f_leg, M_top, ax.scheme
-    )
+    ripple_cat = P.threephase.phase_ripple_peak_to_peak_max(V_top, ax.inductance_catalogue, ax.f_leg, M_top, ax.scheme)
     # peak leg duty: SPWM 1/2 (1 + M); SVPWM with min-max injection 1/2 (1 + M sqrt3/2)
     duty = 0.5 * (1.0 + M_clip * (SQRT3 / 2.0 if ax.scheme == P.threephase.SVPWM else 1.0))
     return {
@@ -463,7 +461,9 @@ def compute(spec: Spec, settings: FigureSettings | None = None) -> FigureSet:
         )
 
     axis["constant_mismatch"] = _constant_mismatch(spec)
-    _thermal(spec, ax, elec, rows, axis, missing, notes)
+    pwm = _pwm_loss(spec, ax, elec, rows, axis, missing, notes)
+    _thermal(spec, ax, elec, rows, axis, missing, notes, pwm)
+    _pwm_loss_effect(spec, ax, rows, pwm, missing)
 
     peak = max(e["peak"] for e in elec)
     axis["peak_current"] = peak
@@ -601,7 +601,112 @@ def _constant_mismatch(spec: Spec) -> float:
     return float(P.consistency.torque_constant_mismatch(kt, ke_ll_peak, "six_step_flat"))
 
 
-def _thermal(spec, ax, elec, rows, axis, missing, notes):
+# Default conduction regime of the PWM eddy loss by winding construction when the
+# calibration does not say: laminations at PWM frequencies are thicker than the skin
+# depth (iron-core, slotless back iron); a coreless winding's loss sits in thin strands
+# and far magnets (common practice, no published source; docs/pwm-losses.md).
+_PWM_REGIME = {"iron-core": "skin-limited", "slotless": "skin-limited", "coreless": "resistance-limited"}
+
+
+@dataclass(frozen=True)
+class _PwmLoss:
+    """The PWM eddy loss per operating point: watts in the thermal budget (calibrated
+    only), the (low, high) estimate range otherwise, and the node it heats."""
+
+    in_budget: tuple[float, ...]  # W per point, 0 when only estimated
+    high: tuple[float, ...]
+    low: tuple[float, ...]
+    estimated: bool
+    node_resistance: float  # K/W from the heated node to ambient
+
+
+def _pwm_loss(spec, ax, elec, rows, axis, missing, notes) -> _PwmLoss | None:
+    """PWM eddy loss per point from the ripple (docs/physics.md §5.6, docs/pwm-losses.md)."""
+    motor = spec.motor
+    thermal = motor.thermal
+    names = ("pwm_loss", "pwm_loss_low", "pwm_loss_to_copper", "pwm_loss_temperature_rise", "pwm_loss_margin_share")
+    if thermal is None:
+        for name in names:
+            missing[name] = "the spec has no motor.thermal data"
+        return None
+    # the loss heats the stator iron and the housing (iron-core, slotless) or the winding
+    # itself (coreless): the node's thermal resistance to ambient
+    winding_node = motor.winding == "coreless"
+    node = thermal.housing_to_ambient + (thermal.winding_to_housing if winding_node else 0.0)
+    calibration = motor.pwm_loss
+    regime = (calibration.regime if calibration is not None else None) or _PWM_REGIME[motor.winding]
+    three = ax.topology == "sinusoidal"
+    phases = 3 if three else 1
+    # the DC resistance of the path one ripple flows in: the loop (dc, six-step), one phase
+    r_dc = ax.loss_resistance_20 / (1.5 if three else 1.0)
+    r_dc = r_dc / 2.0 if three else r_dc
+    loads = []
+    for e in elec:
+        if three:
+            duty = 0.5  # a sinusoidal axis' ripple duty sweeps the period; its mean is taken
+        else:
+            scheme = ax.scheme
+            duty = float(P.hbridge.load_wave_duty(_clip(e["ripple_modulation"], 0.0, 1.0), scheme))
+        duty = _clip(duty, 1e-6, 1.0 - 1e-6)
+        loads.append((float(e["ripple_pp"]), duty))
+    if calibration is not None:
+        reference = calibration.extra_loss
+        if reference is None:
+            reference = calibration.extra_temperature_rise / node
+        cal = P.eddy.calibrate_ripple_loss(
+            reference, calibration.at_ripple, calibration.at_frequency, calibration.at_duty, regime
+        )
+        values = tuple(float(P.eddy.ripple_loss(cal, pp, ax.f_ripple, d)) for pp, d in loads)
+        notes["pwm_loss"] = f"calibrated from motor.pwm_loss ({regime}); in the thermal budget"
+        return _PwmLoss(values, values, values, False, node)
+    k_low, k_high = P.eddy.ripple_loss_coefficient_default(motor.winding, r_dc, regime)
+    low = tuple(
+        phases * float(P.eddy.ripple_loss_from_coefficient(k_low, pp, ax.f_ripple, d, regime)) for pp, d in loads
+    )
+    high = tuple(
+        phases * float(P.eddy.ripple_loss_from_coefficient(k_high, pp, ax.f_ripple, d, regime)) for pp, d in loads
+    )
+    notes["pwm_loss"] = (
+        f"estimate for a {motor.winding} winding ({regime}; common practice, no published source): not in the "
+        "thermal budget; give motor.pwm_loss from one bench measurement"
+    )
+    notes["pwm_loss_low"] = notes["pwm_loss"]
+    axis["pwm_loss_estimated"] = True
+    return _PwmLoss(tuple(0.0 for _ in loads), high, low, True, node)
+
+
+def _pwm_loss_effect(spec, ax, rows, pwm: _PwmLoss | None, missing) -> None:
+    """The PWM loss against the copper loss and the thermal margin, per point."""
+    if pwm is None:
+        return
+    if not pwm.estimated:
+        missing["pwm_loss_low"] = "the PWM loss is calibrated (motor.pwm_loss): one value"
+    for row, high, low in zip(rows, pwm.high, pwm.low, strict=True):
+        row["pwm_loss"] = high
+        if pwm.estimated:
+            row["pwm_loss_low"] = low
+        rise = high * pwm.node_resistance
+        row["pwm_loss_temperature_rise"] = rise
+        t_w = row.get("winding_temperature")
+        if t_w is not None:
+            r_hot = float(P.thermal.resistance_at_temperature(ax.loss_resistance_20, KELVIN_20C, t_w))
+            copper = float(row["rms_current"]) ** 2 * r_hot
+            if copper > 0:
+                row["pwm_loss_to_copper"] = high / copper
+        margin = row.get("winding_margin")
+        if margin is not None:
+            # the share of the margin the loss takes: of the margin it would have without it
+            before = margin + (0.0 if pwm.estimated else rise)
+            if before > 0:
+                row["pwm_loss_margin_share"] = rise / before
+    for name in ("pwm_loss_to_copper", "pwm_loss_margin_share"):
+        if not all(name in row for row in rows):
+            for row in rows:
+                row.pop(name, None)
+            missing[name] = "no steady winding temperature or margin at some operating point"
+
+
+def _thermal(spec, ax, elec, rows, axis, missing, notes, pwm: _PwmLoss | None = None):
     thermal = spec.motor.thermal
     names = (
         "rms_current_ratio",
@@ -621,10 +726,15 @@ def _thermal(spec, ax, elec, rows, axis, missing, notes):
     r20 = ax.loss_resistance_20
     limit = ax.temperature_limit
     runaway = False
-    for row, e in zip(rows, elec, strict=True):
+    extra = pwm.in_budget if pwm is not None else tuple(0.0 for _ in rows)
+    node = pwm.node_resistance if pwm is not None else 0.0
+    for row, e, p_extra in zip(rows, elec, extra, strict=True):
         i_rms = e["rms_current"]
         row["runaway_number"] = P.thermal.runaway_number(i_rms, r20, r_wh, r_ha)
-        t_w = P.thermal.winding_temperature_steady(i_rms, r20, r_wh, r_ha, row["ambient"])
+        # a calibrated PWM loss heats its node: exactly an ambient higher by P R_node
+        # in the two-node steady state (docs/pwm-losses.md)
+        ambient = row["ambient"] + p_extra * node
+        t_w = P.thermal.winding_temperature_steady(i_rms, r20, r_wh, r_ha, ambient)
         if not math.isfinite(t_w):
             runaway = True
         else:
@@ -632,7 +742,7 @@ def _thermal(spec, ax, elec, rows, axis, missing, notes):
             if limit is not None:
                 row["winding_margin"] = limit - t_w
         if limit is not None:
-            i_max = P.thermal.current_continuous_max(limit, row["ambient"], r20, r_wh, r_ha)
+            i_max = P.thermal.current_continuous_max(limit, ambient, r20, r_wh, r_ha)
             row["continuous_current_max"] = i_max
             row["rms_current_ratio"] = i_rms / max(i_max, 1e-300)
     if runaway:
@@ -747,7 +857,14 @@ def _braking(spec, axis, missing):
     V = _highest_supply(spec)
     capacity = float(P.braking.capacitor_absorbable_energy(stage.bus_capacitance, V, stage.overvoltage_trip))
     axis["bus_absorbable_energy"] = capacity
-    axis["braking_energy_ratio"] = energy / capacity if capacity > 0 else math.inf
+    if capacity <= 0:
+        # the supply's top already reaches the trip (supply-range-above-trip says so)
+        missing["braking_energy_ratio"] = (
+            f"the top of the supply range ({_fmt(V, 'voltage')}) is at or above the over-voltage trip: "
+            "the bus capacitors take no braking energy"
+        )
+    else:
+        axis["braking_energy_ratio"] = energy / capacity
     axis["bus_voltage_after_braking"] = float(P.braking.bus_voltage_after_braking(stage.bus_capacitance, V, energy))
 
 

@@ -239,6 +239,15 @@ def consistency(spec: Spec, locate: Locate) -> list[Finding]:
             )
     if motor.terminal_inductance is None and motor.inductance_vs_frequency is None:
         bad(("motor",), "give 'terminal_inductance' or a measured 'inductance_vs_frequency' table")
+    if motor.pwm_loss is not None:
+        given = [k for k in ("extra_loss", "extra_temperature_rise") if getattr(motor.pwm_loss, k) is not None]
+        if len(given) != 1:
+            bad(("motor", "pwm_loss"), "give exactly one of 'extra_loss' and 'extra_temperature_rise'")
+        elif given == ["extra_temperature_rise"] and motor.thermal is None:
+            bad(
+                ("motor", "pwm_loss", "extra_temperature_rise"),
+                "a temperature rise needs motor.thermal to turn it into a loss; give 'extra_loss' instead",
+            )
     table = motor.inductance_vs_frequency or ()
     for i in range(1, len(table)):
         if not table[i].frequency > table[i - 1].frequency:

@@ -97,6 +97,8 @@ PositiveInertia = Annotated[float, Quantity("inertia", "inertia", gt=0)]
 Inertia = Annotated[float, Quantity("inertia", "inertia", ge=0)]
 Capacitance = Annotated[float, Quantity("capacitance", "capacitance", gt=0)]
 Length = Annotated[float, Quantity("length", "length", gt=0)]
+Power = Annotated[float, Quantity("power", "power", gt=0)]
+TemperatureRise = Annotated[float, Quantity("temperature_difference", "temperature difference", gt=0)]
 
 
 # --------------------------------------------------------------------- axis
@@ -181,6 +183,28 @@ class Thermal(_Model):
     )
 
 
+class PwmLoss(_Model):
+    """One bench measurement of the motor's extra loss under PWM (eddy currents in iron,
+    magnets and windings beyond the copper loss of the ripple): the loss, or the extra
+    winding temperature rise, at a stated ripple and ripple frequency. It calibrates the
+    PWM loss at every operating point (docs/pwm-losses.md)."""
+
+    extra_loss: Power | None = Field(None, description="extra loss measured under PWM at the reference")
+    extra_temperature_rise: TemperatureRise | None = Field(
+        None, description="extra winding temperature rise measured under PWM at the reference (needs motor.thermal)"
+    )
+    at_ripple: Current = Field(description="peak-to-peak ripple current at the reference")
+    at_frequency: Frequency = Field(description="ripple frequency at the reference")
+    at_duty: float = Field(0.5, gt=0.0, lt=1.0, description="duty cycle of the ripple wave at the reference")
+    regime: Literal["resistance-limited", "skin-limited"] | None = Field(
+        None,
+        description=(
+            "how the loss scales: resistance-limited (with the square of the current slope) or "
+            "skin-limited (ripple squared times the square root of its frequency); default by winding"
+        ),
+    )
+
+
 class Motor(_Model):
     """The motor's electrical, mechanical and thermal data."""
 
@@ -235,6 +259,9 @@ class Motor(_Model):
         ),
     )
     thermal: Thermal | None = Field(None, description="thermal data")
+    pwm_loss: PwmLoss | None = Field(
+        None, description="a bench measurement of the extra loss under PWM that calibrates the PWM eddy loss"
+    )
 
 
 # -------------------------------------------------------------------- stage
