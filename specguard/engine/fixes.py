@@ -89,9 +89,10 @@ def _acceptable(ctx: FixContext, finding: Finding, before_failing: set, after: l
     return reached
 
 
-def _search(ctx: FixContext, lever, finding: Finding, start: float, before_failing: set, aim_clear: bool):
+def _search(ctx: FixContext, lever, finding: Finding, start: float, before_failing: set, aim_clear: bool, steps=None):
     """The least change of ``lever`` from ``start`` (SI) that clears ``finding`` (at
-    its band, or entirely with ``aim_clear``): (Edit, band reached) or None."""
+    its band, or entirely with ``aim_clear``): (Edit, band reached) or None.
+    ``steps``: the outward steps to try when ``start`` falls short (default all)."""
 
     def attempt(amount: float):
         if not math.isfinite(amount) or amount <= 0:
@@ -107,15 +108,19 @@ def _search(ctx: FixContext, lever, finding: Finding, start: float, before_faili
     edit, reached = attempt(start)
     if reached is not None:
         return edit, reached
+    if edit is None and lever.at_least:
+        return None  # beyond the lever's bound already: larger steps are too
     sign = 1.0 if lever.at_least else -1.0
     low = start
     found = None
-    for step in _STEPS:
+    for step in _STEPS if steps is None else steps:
         amount = start * (1.0 + step) if sign > 0 else start / (1.0 + step)
         edit, reached = attempt(amount)
         if reached is not None:
             found = (amount, edit, reached)
             break
+        if edit is None:
+            break  # past the lever's bound
         low = amount
     if found is None:
         return None
@@ -170,7 +175,10 @@ def verify(
             if remedy.value is None:
                 unhelpful.append(remedy.text)
                 continue
-            found = _search(ctx, lever, finding, float(remedy.value), before_failing, aim_clear=False)
+            # an info finding gates nothing: its fix is the closed form, checked once,
+            # or a step past it; the search on the full model is for warnings and errors
+            steps = _STEPS[:1] if finding.severity == "info" else None
+            found = _search(ctx, lever, finding, float(remedy.value), before_failing, aim_clear=False, steps=steps)
             if found is None:
                 continue
             edit, reached = found
@@ -192,7 +200,7 @@ def verify(
         message = finding.message
         if unhelpful:
             message += "; " + "; ".join(_clause(u) for u in unhelpful)
-        if not fixes and not unhelpful:
+        if not fixes and not unhelpful and finding.severity != "info":
             message += "; no single change of the levers checked clears it without a new finding at the fail level"
         out.append(replace(finding, message=message, remedies=tuple(f.text for f in fixes), fixes=tuple(fixes)))
     return out

@@ -82,6 +82,8 @@ class _Axis:
     ambiguous: bool
     inductance: float  # loop (dc, six-step) or phase (sinusoidal), at f_r, possibly derated
     inductance_catalogue: float
+    motor_inductance: float  # the motor's share of ``inductance`` (loop, or phase for sinusoidal)
+    terminal_inductance: float  # the motor's terminal inductance at the ripple frequency
     resistance_hot: float  # loop (dc, six-step) or phase (sinusoidal) incl. series elements
     motor_resistance_hot: float  # motor part only (terminal or phase)
     series_resistance: float  # everything but the motor in the current path
@@ -210,6 +212,7 @@ def _axis(spec: Spec, settings: FigureSettings) -> _Axis:
         n_in_loop = n_choke if topology == "dc" else (2 if n_choke == 3 else 0)
         added = n_in_loop * l_choke + 2.0 * l_out
         inductance = l_motor + added
+        motor_share = l_motor
         inductance_cat = l_catalogue + added
         series = 2.0 * r_switch + n_in_loop * r_choke + 2.0 * r_cable
         motor_r = r_motor_hot
@@ -227,6 +230,7 @@ def _axis(spec: Spec, settings: FigureSettings) -> _Axis:
         if chokes and n_choke < 3:
             notes["loop_inductance"] = notes.get("loop_inductance", "") + _CHOKES_NOT_IN_EVERY_PHASE
         inductance = l_phase + per_phase_choke + l_out
+        motor_share = l_phase
         inductance_cat = l_phase_cat + per_phase_choke + l_out
         series = r_switch + (r_choke if n_choke == 3 else 0.0) + r_cable
         motor_r = float(P.threephase.star_equivalent_resistance(r_motor_hot))
@@ -240,6 +244,8 @@ def _axis(spec: Spec, settings: FigureSettings) -> _Axis:
         ambiguous=ambiguous,
         inductance=inductance,
         inductance_catalogue=inductance_cat,
+        motor_inductance=motor_share,
+        terminal_inductance=l_motor,
         resistance_hot=motor_r + series,
         motor_resistance_hot=motor_r,
         series_resistance=series,
@@ -923,16 +929,31 @@ def remedy(
             return None
         return Remedy(name, f"add at least {_fmt(value, 'inductance')} {where}", float(value), "H")
     if name == "pwm_frequency":
-        if three:
-            M = modulation if modulation is not None else P.threephase.modulation_index_limit(ax.scheme)
-            value = P.remedies.pwm_frequency_min_three_phase(
-                V, ax.inductance, min(M, P.threephase.modulation_index_limit(ax.scheme)), ax.scheme, rated, limit
-            )
-        else:
+
+        def frequency_for(inductance: float):
+            if three:
+                M = modulation if modulation is not None else P.threephase.modulation_index_limit(ax.scheme)
+                return P.remedies.pwm_frequency_min_three_phase(
+                    V, inductance, min(M, P.threephase.modulation_index_limit(ax.scheme)), ax.scheme, rated, limit
+                )
             m = None if modulation is None else min(max(modulation, 0.0), 1.0)
-            value = P.remedies.pwm_frequency_min(
-                V, ax.inductance, ax.resistance_hot, ax.scheme, rated, limit, modulation=m
-            )
+            return P.remedies.pwm_frequency_min(V, inductance, ax.resistance_hot, ax.scheme, rated, limit, modulation=m)
+
+        value = frequency_for(ax.inductance)
+        # the motor's inductance falls with frequency (a measured table or the estimate
+        # curve): solve again with the loop inductance at the new frequency, a few
+        # fixed-point steps (the verification judges the result on the full model)
+        for _ in range(3):
+            if value is None or not (value > ax.f_leg):
+                break
+            f_ripple = value * ax.f_ripple / ax.f_leg
+            l_motor, _l_cat = _motor_inductance(spec, f_ripple, settings, {}, {})
+            share = ax.motor_inductance * l_motor / ax.terminal_inductance
+            again = frequency_for(ax.inductance - ax.motor_inductance + share)
+            if again is None or abs(again - value) <= 1e-4 * value:
+                value = again if again is not None else value
+                break
+            value = again
         if value is None:
             return Remedy(name, "no PWM frequency below 1 MHz reaches the limit", None, "Hz")
         if value <= 0 or value <= ax.f_leg:

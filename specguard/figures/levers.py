@@ -35,6 +35,11 @@ from ..model.units import format_si, parse_quantity
 # practice, no published source; the fix says so and asks for the real value).
 NEW_CHOKE_OHM_PER_HENRY = 1e-3 / 1e-6
 
+# The highest PWM (leg) frequency a fix may propose: small drives switch at up to a few
+# hundred kHz; above that the switching loss and the current sensing change the design
+# (common practice, no published source).
+PWM_FREQUENCY_MAX = 250e3
+
 # Relative cost weights of the levers, for ordering fixes (a relative change of 1
 # costs this much). Common practice of design reviews: a higher PWM frequency and a
 # choke are cheap changes on paper; another supply voltage or stage is not.
@@ -180,6 +185,8 @@ class PwmFrequency(Lever):
         return spec.stage.pwm.frequency
 
     def edit(self, data: Mapping, spec, amount: float) -> Edit | None:
+        if amount > PWM_FREQUENCY_MAX:
+            return None  # not a fix a small drive can take
         shown_leg, leg = safe_text(amount, "frequency", True)
         written_text, _written = safe_text(leg * self.written_per_leg, "frequency", True)
         new = dict(data)
