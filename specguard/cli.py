@@ -126,6 +126,7 @@ def build_parser() -> argparse.ArgumentParser:
 
     _report_parser(sub)
     _figures_parser(sub)
+    _explore_parser(sub)
 
     rules = sub.add_parser("rules", help="list the rules: id, default severity, title")
     rules.add_argument(
@@ -175,6 +176,33 @@ def _common_options(p: argparse.ArgumentParser, root: bool = True) -> None:
 def _output_options(p: argparse.ArgumentParser) -> None:
     p.add_argument("--format", choices=("text", "json", "sarif"), default="text", help="output format (default: text)")
     p.add_argument("--output", metavar="FILE", help="write the report to FILE (atomically) instead of standard output")
+    p.add_argument(
+        "--summary",
+        action="store_true",
+        help="text output: one line per file (its counts and verdict) and the totals, instead of the findings",
+    )
+    p.add_argument(
+        "--show",
+        type=_severities,
+        default=None,
+        metavar="SEVERITIES",
+        help="text output: print only the findings of these severities, e.g. 'error,warning' "
+        "(the counts and the exit status still take every finding)",
+    )
+    p.add_argument(
+        "--show-baselined",
+        action="store_true",
+        help="text output: also print the findings the baseline holds (left out by default; always counted)",
+    )
+
+
+def _severities(text: str) -> tuple[str, ...]:
+    from .report.text import parse_show
+
+    try:
+        return parse_show(text)
+    except ValueError as exc:
+        raise argparse.ArgumentTypeError(str(exc)) from None
 
 
 def _policy_options(p: argparse.ArgumentParser) -> None:
@@ -229,7 +257,7 @@ def _jobs(text: str) -> int:
     return value
 
 
-def _render(report, fmt: str, colour: bool) -> str:
+def _render(report, fmt: str, colour: bool, args=None) -> str:
     if fmt == "json":
         from .report import json_report
 
@@ -240,7 +268,36 @@ def _render(report, fmt: str, colour: bool) -> str:
         return sarif.render(report)
     from .report import text
 
-    return text.render(report, colour=colour)
+    return text.render(
+        report,
+        colour=colour,
+        show=getattr(args, "show", None) or text.SEVERITIES,
+        show_baselined=bool(getattr(args, "show_baselined", False)),
+        summary_only=bool(getattr(args, "summary", False)),
+    )
+
+
+def _without_unapplied(report, targets):
+    """The report without the rule-not-applicable findings of the files whose policy
+    turns them off (``unapplied_rules: hide``); applied after the cache and the rules."""
+    from dataclasses import replace
+
+    from .engine.config import hide_unapplied
+
+    options = {}
+    for t in targets:
+        options[t.rel] = t.options
+        if t.shown_as:  # a file outside the run's root: its paths carry the prefix the user typed
+            options[f"{t.shown_as.rstrip('/')}/{t.rel}"] = t.options
+    files = []
+    for result in report.files:
+        opts = options.get(result.file)
+        if opts is not None and hide_unapplied(opts.config):
+            kept = tuple(f for f in result.findings if f.rule != "rule-not-applicable")
+            if len(kept) != len(result.findings):
+                result = replace(result, findings=kept)
+        files.append(result)
+    return replace(report, files=tuple(files))
 
 
 def _run_check(args, paths: list[str], root: Path, select=None) -> int:
@@ -278,6 +335,7 @@ def _run_check(args, paths: list[str], root: Path, select=None) -> int:
         )
     finally:
         progress.clear()
+    report = _without_unapplied(report, targets)
     if cache is not None:
         for line in cache.warnings():
             sys.stderr.write(line + "\n")
@@ -287,7 +345,7 @@ def _run_check(args, paths: list[str], root: Path, select=None) -> int:
             return status
         report = status
     colour = args.format == "text" and output is None and text.use_colour(sys.stdout, args.colour)
-    rendered = _render(report, args.format, colour)
+    rendered = _render(report, args.format, colour, args)
     if output is not None:
         from .atomic import WriteError, write_atomic
 
@@ -448,6 +506,7 @@ def _main(argv: list[str] | None) -> int:
         "demo": _demo,
         "new": _new,
         "figures": _with_root(_run_figures),
+        "explore": _with_root(_run_explore),
         "report": _with_root(_run_report),
         "config": _with_root(_run_config),
         "schema": _schema,
@@ -528,6 +587,39 @@ def _emit_lines(text: str, escape) -> None:
 
 
 # ---------------------------------------------------------------- report
+def _explore_parser(sub) -> None:
+    explore = sub.add_parser(
+        "explore",
+        help="for one axis, the cheapest changes of PWM frequency, added inductance and supply that clear every rule",
+        description="Move the levers of one axis (PWM frequency, added series inductance, supply voltage; the PWM "
+        "frequency with added inductance together) and judge every variant with the whole rule pack: the "
+        "cheapest changes that leave no finding at the fail level, and none at warning level, with the figures "
+        "that matter. Exit status 0 when the table was computed, 2 for a spec that cannot be checked.",
+    )
+    explore.add_argument("path", metavar="SPEC", help="one spec file")
+    explore.add_argument("--format", choices=("text", "json"), default="text")
+    explore.add_argument("--root", metavar="DIR", help="repository root (as for check)")
+    explore.add_argument("--config", metavar="FILE", help="policy file (as for check)")
+
+
+def _run_explore(args, root: Path) -> int:
+    from .explore import explore, render_json, render_text
+
+    prepared = prepare(args, root, (), [args.path])
+    if isinstance(prepared, int):
+        return prepared
+    targets, _level, _options, _index = prepared
+    target = targets[0] if targets else None
+    if target is None or target.error is not None:
+        return fail(f"{args.path}: {target.error if target else 'no such file'}", "input-unreadable")
+    try:
+        result = explore(target.path, target.root, target.options)
+    except ValueError as exc:
+        return fail(f"{args.path}: {exc}", "input-unreadable")
+    emit(render_json(result) if args.format == "json" else render_text(result))
+    return EXIT_CLEAN
+
+
 def _figures_parser(sub) -> None:
     figures = sub.add_parser(
         "figures",
@@ -649,6 +741,7 @@ def _run_report(args, root: Path) -> int:
         )
     finally:
         progress.clear()
+    report = _without_unapplied(report, planned)
     status = report.exit_status()
     for option, target in targets:
         if option == "--html":

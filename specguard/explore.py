@@ -1,0 +1,343 @@
+"""The design space of one axis: which changes of the levers clear every rule.
+
+For one spec, the levers a designer has (a higher PWM frequency, added series
+inductance, another supply voltage of the same tolerance) are moved one at a time
+and two at a time (PWM frequency with added inductance), and each variant is judged
+by the whole rule pack, exactly as a check judges the spec. The answer is a small
+table of the cheapest changes that leave no finding at the fail level, and the
+cheapest that leave no warning either, with the figures that matter for each.
+
+Every variant is evaluated on the full model (one variant at a time, as the
+verified fixes are): a search along one lever steps outwards on a geometric grid
+until the variant passes, then bisects to the printed precision. It assumes a
+variant passes from some amount of the lever on (monotone); where it does not, the
+table holds the passing amount it found, never an untested one.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+from collections.abc import Callable
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+from .findings import SEVERITY_ORDER, Finding
+
+# Outward steps along a lever (relative change) and the bisection's resolution.
+_GRID = (0.01, 0.03, 0.1, 0.2, 0.35, 0.5, 0.75, 1.0, 1.5, 2.0, 3.0, 5.0, 8.0, 15.0, 30.0, 60.0, 120.0, 250.0, 500.0)
+_RESOLUTION = 2e-3
+# PWM frequencies tried with added inductance for the two-lever table (relative to now).
+_PAIR_STEPS = (0.0, 0.25, 0.5, 1.0, 2.0, 4.0)
+
+
+@dataclass(frozen=True)
+class Option:
+    """One change that clears every rule at ``level``."""
+
+    level: str  # "error" (the fail level) or "warning"
+    levers: tuple[str, ...]
+    text: str
+    changes: tuple[tuple[str, Any], ...]
+    cost: float
+    figures: dict[str, float | None]
+
+
+@dataclass(frozen=True)
+class Exploration:
+    file: str
+    fail_level: str
+    now: dict[str, float | None]
+    failing_now: tuple[str, ...]  # rule ids at or above the fail level as written
+    options: tuple[Option, ...]
+    variants: int  # variants judged
+    # per band: the rules failing as written that no lever here clears
+    beyond: dict[str, frozenset] = field(default_factory=dict)
+    passing: frozenset = frozenset()  # the bands the spec already meets (apart from ``beyond``)
+
+
+_SHOWN = ("ripple_ratio_worst", "winding_margin_min", "modulation_ratio_max", "ripple_frequency")
+
+
+def _summary(figures) -> dict[str, float | None]:
+    def points(name: str) -> list[float]:
+        out = []
+        for _point, values in figures.points:
+            v = values.get(name)
+            if isinstance(v, (int, float)) and not isinstance(v, bool):
+                out.append(float(v))
+        return out
+
+    margins, ratios = points("winding_margin"), points("modulation_ratio")
+    worst = figures.axis.get("ripple_ratio_worst")
+    return {
+        "ripple_ratio_worst": float(worst) if isinstance(worst, (int, float)) else None,
+        "winding_margin_min": min(margins) if margins else None,
+        "modulation_ratio_max": max(ratios) if ratios else None,
+        "ripple_frequency": float(figures.axis.get("ripple_frequency") or 0.0) or None,
+    }
+
+
+class _Judge:
+    """Judges variants of one spec's data with the whole pack (memoised)."""
+
+    def __init__(self, spec, locate, pack, overrides, settings) -> None:
+        self.spec, self.locate, self.pack, self.overrides, self.settings = spec, locate, pack, overrides, settings
+        self.memo: dict[str, tuple[list[Finding], Any] | None] = {}
+
+    def __call__(self, data: dict):
+        from .engine.evaluate import evaluate
+        from .figures import compute
+        from .model import build
+
+        key = json.dumps(data, sort_keys=True, default=str)
+        if key not in self.memo:
+            variant, built = build(data, self.locate)
+            result = None
+            if variant is not None:
+                try:
+                    figures = compute(variant, self.settings)
+                    found = built + evaluate(
+                        variant, figures, self.locate, self.pack, self.overrides, remedy=_none, lean=True
+                    )
+                    result = (found, figures)
+                except Exception:  # a variant the figures cannot take is not an option
+                    result = None
+            self.memo[key] = result
+        return self.memo[key]
+
+
+def _none(*_a, **_k):
+    return None
+
+
+def _passes(found: list[Finding], level: str, ignored: frozenset = frozenset()) -> bool:
+    threshold = SEVERITY_ORDER[level]
+    return not any(SEVERITY_ORDER[f.severity] >= threshold and f.rule not in ignored for f in found)
+
+
+def _least(lever, start: float, judge: Callable, data: dict, spec, level: str, ignored: frozenset = frozenset()):
+    """The least amount of ``lever`` from ``start`` that passes at ``level``:
+    (Edit, figures) or None. Rules in ``ignored`` (no lever here moves them) do not count."""
+
+    def attempt(amount: float):
+        edit = lever.edit(data, spec, amount)
+        if edit is None:
+            return None, None
+        judged = judge(edit.data)
+        if judged is None or not _passes(judged[0], level, ignored):
+            return edit, None
+        return edit, judged[1]
+
+    sign = 1.0 if lever.at_least else -1.0
+    low = start
+    found = None
+    for step in _GRID:
+        amount = start * (1.0 + step) if sign > 0 else start / (1.0 + step)
+        edit, figures = attempt(amount)
+        if edit is None:
+            return None  # past the lever's bound
+        if figures is not None:
+            found = (amount, edit, figures)
+            break
+        low = amount
+    if found is None:
+        return None
+    high, edit, figures = found
+    while max(high, low) / min(high, low) - 1.0 > _RESOLUTION:
+        mid = math.sqrt(low * high)
+        trial, got = attempt(mid)
+        if trial is not None and trial.amount == edit.amount:
+            break
+        if got is not None:
+            high, edit, figures = mid, trial, got
+        else:
+            low = mid
+    return edit, figures
+
+
+def explore(path: Path, root: Path, options=None) -> Exploration:
+    """Explore the levers of the spec at ``path`` (raises ValueError when the spec
+    cannot be read or built: ``specguard check`` says why)."""
+    from .engine.evaluate import load_pack
+    from .figures.levers import PWM_FREQUENCY_MAX, AddedInductance, PwmFrequency, SupplyVoltage, topology
+    from .model import build
+    from .pipeline import _overrides, figure_settings, read_spec, relpath
+    from .source import Limits
+    from .source.library import LibraryCache, assemble
+
+    rel = relpath(path, root)
+    read = read_spec(path, root, rel, True)
+    if not isinstance(read, tuple):
+        raise ValueError(read.input_error or "cannot be read")
+    raw, size = read
+    doc = assemble(raw, size, path, root, Limits(), LibraryCache(Limits()))
+    if doc.data is None:
+        raise ValueError("does not load; 'specguard check' says why")
+    spec, problems = build(doc.data, doc.locate)
+    if spec is None:
+        raise ValueError("is not a valid spec; 'specguard check' says why")
+    pack = options.pack if options is not None and options.pack is not None else load_pack()
+    overrides = _overrides(rel, options)
+    settings = figure_settings(pack, overrides)
+    level = "error"
+    if options is not None and options.config is not None:
+        level = str(options.config.fail_level.value)
+    judge = _Judge(spec, doc.locate, pack, overrides, settings)
+    data = doc.data
+    now = judge(data)
+    if now is None:
+        raise ValueError("its figures cannot be computed; 'specguard check' says why")
+    findings_now, figures_now = now
+    failing = tuple(sorted({f.rule for f in findings_now if SEVERITY_ORDER[f.severity] >= SEVERITY_ORDER[level]}))
+    pwm = spec.stage.pwm
+    per_leg = 2.0 if pwm.scheme == "unipolar-phase-shifted" and pwm.frequency_is != "leg" else 1.0
+    f_leg = float(figures_now.axis["pwm_frequency_leg"])
+    choke = AddedInductance(topology(spec))
+    freq = PwmFrequency(per_leg)
+    motor_l = float(figures_now.axis.get("loop_inductance_catalogue") or figures_now.axis["loop_inductance"])
+    l_start = max(motor_l * 0.01, 1e-7)
+    # rules failing as written that these levers cannot clear: still failing with the
+    # PWM frequency at its bound, and with three and with thirty times the motor's
+    # inductance added (reported, not searched for)
+    trials = (
+        freq.edit(data, spec, PWM_FREQUENCY_MAX),
+        choke.edit(data, spec, 3.0 * motor_l),
+        choke.edit(data, spec, 30.0 * motor_l),
+    )
+    extremes = [e for e in trials if e is not None]
+    stuck: dict[str, frozenset] = {}
+    for band in dict.fromkeys((level, "warning")):
+        threshold = SEVERITY_ORDER[band]
+        rules = {f.rule for f in findings_now if SEVERITY_ORDER[f.severity] >= threshold}
+        for edit in extremes:
+            judged = judge(edit.data)
+            if judged is not None:
+                rules &= {f.rule for f in judged[0] if SEVERITY_ORDER[f.severity] >= threshold}
+        stuck[band] = frozenset(rules)
+    out: list[Option] = []
+    passing: set[str] = set()
+    for band in dict.fromkeys((level, "warning")):
+        ignored = stuck[band]
+        if _passes(findings_now, band, ignored):
+            passing.add(band)  # nothing to change for this band
+            continue
+        singles = (
+            (freq, f_leg, None),
+            (choke, l_start, None),
+            (SupplyVoltage(at_least=False), float(spec.stage.supply.voltage), None),
+            (SupplyVoltage(at_least=True), float(spec.stage.supply.voltage), None),
+        )
+        for lever, start, _ in singles:
+            found = _least(lever, start, judge, data, spec, band, ignored)
+            if found is not None:
+                edit, figures = found
+                out.append(Option(band, (lever.name,), edit.text, edit.changes, edit.cost, _summary(figures)))
+        # two levers: a higher PWM frequency with the least added inductance
+        for step in _PAIR_STEPS[1:]:
+            f_edit = freq.edit(data, spec, f_leg * (1.0 + step))
+            if f_edit is None:
+                break
+            alone = judge(f_edit.data)
+            if alone is not None and _passes(alone[0], band, ignored):
+                break  # the frequency alone clears it: a single-lever option covers this
+            found = _least(choke, l_start, judge, f_edit.data, spec, band, ignored)
+            if found is None:
+                continue
+            edit, figures = found
+            out.append(
+                Option(
+                    band,
+                    (freq.name, choke.name),
+                    f"{f_edit.text}, and {edit.text}",
+                    f_edit.changes + edit.changes,
+                    f_edit.cost + edit.cost,
+                    _summary(figures),
+                )
+            )
+    # the cheapest few per band and kind
+    best: list[Option] = []
+    for band in dict.fromkeys((level, "warning")):
+        for kind in (1, 2):
+            pool = sorted((o for o in out if o.level == band and len(o.levers) == kind), key=lambda o: o.cost)
+            seen: set[tuple[str, ...]] = set()
+            for option in pool:
+                if kind == 1 and option.levers in seen:
+                    continue
+                seen.add(option.levers)
+                best.append(option)
+                if kind == 2 and len([o for o in best if o.level == band and len(o.levers) == 2]) >= 3:
+                    break
+    return Exploration(
+        rel, level, _summary(figures_now), failing, tuple(best), len(judge.memo), stuck, frozenset(passing)
+    )
+
+
+def render_text(x: Exploration) -> str:
+    from .model.units import format_si
+
+    def figs(d: dict) -> str:
+        parts = []
+        if d.get("ripple_ratio_worst") is not None:
+            parts.append(f"worst ripple {d['ripple_ratio_worst'] * 100:.1f} % of rated")
+        if d.get("winding_margin_min") is not None:
+            parts.append(f"winding margin {format_si(d['winding_margin_min'], 'temperature_difference')}")
+        if d.get("modulation_ratio_max") is not None:
+            parts.append(f"duty need {d['modulation_ratio_max'] * 100:.1f} % of reach")
+        if d.get("ripple_frequency") is not None:
+            parts.append(f"ripple at {format_si(d['ripple_frequency'], 'frequency')}")
+        return "; ".join(parts)
+
+    lines = [f"{x.file}: as written: {figs(x.now)}"]
+    lines.append(
+        "  fails at " + x.fail_level + ": " + ", ".join(x.failing_now)
+        if x.failing_now
+        else f"  nothing at or above {x.fail_level}"
+    )
+    if x.beyond:
+        lines.append(
+            "  beyond these levers (a brake resistor, a choke or stage rating, the motor): "
+            + ", ".join(sorted(x.beyond))
+        )
+    for band, title in ((x.fail_level, f"no finding at or above {x.fail_level}"), ("warning", "no warning either")):
+        rows = [o for o in x.options if o.level == band]
+        if band == "warning" and x.fail_level == "warning":
+            continue
+        lines.append(f"  to leave {title}:")
+        if band in x.passing:
+            lines.append("    nothing to change: the spec meets it as written")
+        elif not rows:
+            lines.append("    no change of one lever, or of the PWM frequency with added inductance, found")
+        for o in rows:
+            lines.append(f"    - {o.text}  [change {o.cost:.2f}]")
+            lines.append(f"      {figs(o.figures)}")
+    lines.append(f"  ({x.variants} variants judged with the whole rule pack)")
+    return "\n".join(lines) + "\n"
+
+
+def render_json(x: Exploration) -> str:
+    from .report.json_report import change_value, dumps
+
+    return dumps(
+        {
+            "file": x.file,
+            "fail_level": x.fail_level,
+            "as_written": x.now,
+            "failing": list(x.failing_now),
+            "beyond_levers": {band: sorted(rules) for band, rules in sorted(x.beyond.items())},
+            "meets_as_written": sorted(x.passing),
+            "variants": x.variants,
+            "options": [
+                {
+                    "clears_at": o.level,
+                    "levers": list(o.levers),
+                    "text": o.text,
+                    "changes": [{"pointer": p, "value": change_value(v)} for p, v in o.changes],
+                    "cost": round(o.cost, 6),
+                    "figures": o.figures,
+                }
+                for o in x.options
+            ],
+        }
+    )
