@@ -42,7 +42,7 @@ import hashlib
 import json
 import os
 
-CACHE_FORMAT = 2
+CACHE_FORMAT = 3  # 3: related locations carry a label
 _SUBDIR = f"results-v{CACHE_FORMAT}"
 _READ_CAP = 16 * 1024 * 1024  # an entry larger than this is damaged
 
@@ -102,24 +102,27 @@ def run_salt(versions: dict, rule_dirs, denied=()) -> str:
 
 # ----------------------------------------------------------- (de)serialising
 def _loc(loc) -> list:
-    return [loc.file, loc.line, loc.column, loc.end_line, loc.end_column, list(loc.path)]
+    return [loc.file, loc.line, loc.column, loc.end_line, loc.end_column, list(loc.path), loc.label]
 
 
 _LOCATIONS: dict = {}  # one Location object per distinct place (they repeat a lot)
 
 
 def _unloc(data):
-    file, line, column, end_line, end_column, path = data
-    key = (file, line, column, end_line, end_column, *path)
+    file, line, column, end_line, end_column, path, *rest = data
+    label = rest[0] if rest else ""
+    key = (file, line, column, end_line, end_column, label, *path)
     loc = _LOCATIONS.get(key)
     if loc is None:
         from .findings import Location
 
         if not isinstance(file, str) or not isinstance(line, int) or not isinstance(column, int):
             raise ValueError("bad location")
+        if not isinstance(label, str):
+            raise ValueError("bad location label")
         if len(_LOCATIONS) > 200_000:
             _LOCATIONS.clear()
-        loc = _LOCATIONS[key] = Location(file, line, column, end_line, end_column, tuple(path))
+        loc = _LOCATIONS[key] = Location(file, line, column, end_line, end_column, tuple(path), label)
     return loc
 
 
@@ -149,9 +152,9 @@ class Tables:
 
     def loc(self, loc) -> int:
         fi = self._intern("f", loc.file, self.files, loc.file)
-        key = (fi, loc.line, loc.column, loc.end_line, loc.end_column, *loc.path)
+        key = (fi, loc.line, loc.column, loc.end_line, loc.end_column, loc.label, *loc.path)
         return self._intern(
-            "l", key, self.locs, [fi, loc.line, loc.column, loc.end_line, loc.end_column, list(loc.path)]
+            "l", key, self.locs, [fi, loc.line, loc.column, loc.end_line, loc.end_column, list(loc.path), loc.label]
         )
 
     def text(self, value: str) -> int:
@@ -160,8 +163,8 @@ class Tables:
     def unloc(self, i: int):
         built = self._built[i]
         if built is None:
-            fi, line, column, end_line, end_column, path = self.locs[i]
-            built = self._built[i] = _unloc([self.files[fi], line, column, end_line, end_column, path])
+            fi, line, column, end_line, end_column, path, label = self.locs[i]
+            built = self._built[i] = _unloc([self.files[fi], line, column, end_line, end_column, path, label])
         return built
 
 

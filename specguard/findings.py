@@ -41,8 +41,9 @@ BUILTIN_IDS: dict[str, str] = {
 @dataclass(frozen=True, slots=True)
 class Location:
     """A place in a file: repo-relative posix path, 1-based line and column
-    (counted in code points), optional end, and the document path as a tuple
-    of keys and indices (``("motor", "terminal_inductance")``)."""
+    (counted in code points), optional end, the document path as a tuple
+    of keys and indices (``("motor", "terminal_inductance")``), and for a related
+    location a label naming what it is."""
 
     file: str
     line: int = 1
@@ -50,6 +51,9 @@ class Location:
     end_line: int | None = None
     end_column: int | None = None
     path: tuple[str | int, ...] = ()
+    # what a related location is, for a reader: its document path and the spec's
+    # value there ("motor.terminal_inductance = 179 uH"); "" where none is given
+    label: str = field(default="", compare=False)
 
     @property
     def pointer(self) -> str:

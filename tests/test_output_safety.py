@@ -304,6 +304,12 @@ def test_text_lines_start_with_our_own_text(outputs, stream):
         body = line[4:] if line.startswith("    ") else line
         if body.startswith(("fix: ", "specguard: ")):
             continue
+        if line.startswith("    "):  # a related location: our own label first, its place at the end
+            assert re.match(r"^[a-z_][a-z0-9_.\[\]]*( |$)", body), line
+            assert any(
+                body.endswith(f"  ({p}:" + body.rsplit(":", 2)[-2] + ":" + body.rsplit(":", 2)[-1]) for p in shown
+            ), line
+            continue
         assert any(body.startswith(p + ":") for p in shown), line
 
 
@@ -319,6 +325,7 @@ MARKDOWN_STARTS = (
     "|---",
     "- **",
     "  - fix: ",
+    "  - related: ",
     "**Findings**",
     "**Figures that matter**",
     "Written by specguard",

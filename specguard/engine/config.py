@@ -14,7 +14,7 @@ and validated by the strict pydantic model below, from which
       <rule id>:
         enabled: true
         severity: error              # every finding of the rule takes this severity
-        thresholds: {warning: 0.15, error: 0.4}   # band -> value as the rule file writes it
+        thresholds: {warning: 0.15, error: 40 %}  # band -> value as the rule file writes it (ratios: 0.4 or 40 %)
         waivable: false              # a spec cannot waive this rule
     paths:                           # per-path overrides; later entries win
       - match: "prototypes/**"
@@ -105,7 +105,7 @@ class RulePolicy(_Model):
         None,
         description=(
             "new threshold per band severity, written like the rule file writes it: a number "
-            'for ratios, a value with its unit otherwise ("16 kHz")'
+            'or a percentage for ratios (0.3 or "30 %"), a value with its unit otherwise ("16 kHz")'
         ),
     )
     waivable: bool | None = Field(None, description="false: a waiver in a spec cannot accept findings of this rule")
@@ -143,6 +143,17 @@ class ConfigModel(_Model):
     exclude: Annotated[tuple[Glob, ...], AsTuple] = Field(
         (), max_length=100, description="files a directory search skips, even when included"
     )
+    unapplied_rules: Literal["report", "hide"] | None = Field(
+        None,
+        description="report (default): a rule that cannot be applied because the spec lacks what it "
+        "needs gives an info finding (the text output gathers them in one line per file); hide: no "
+        "such findings",
+    )
+
+
+def hide_unapplied(config: EffectiveConfig | None) -> bool:
+    """Whether the policy turns the rule-not-applicable findings off (``unapplied_rules: hide``)."""
+    return config is not None and config.unapplied_rules.value == "hide"
 
 
 # ------------------------------------------------------------------ globs
@@ -356,6 +367,7 @@ class EffectiveConfig:
     include: Setting = Setting(DEFAULT_INCLUDE)
     exclude: Setting = Setting(())
     extra_rule_dirs: Setting = Setting(())
+    unapplied_rules: Setting = Setting("report")  # "hide": no rule-not-applicable findings
     extra_rule_paths: tuple[Path, ...] = ()  # resolved, inside the root
     # Root-relative folder the globs and rule directories are relative to: the policy
     # file's own folder for a discovered .specguard.yaml, "" for --config or the root's.
@@ -460,6 +472,12 @@ class EffectiveConfig:
                 ", ".join(self.extra_rule_dirs.value) or "(none)",
                 self.extra_rule_dirs.origin.describe(),
             ),
+            Explained(
+                "run",
+                "unapplied_rules",
+                str(self.unapplied_rules.value),
+                self.unapplied_rules.origin.describe(),
+            ),
         ]
         if changed:
             moved = {
@@ -467,6 +485,7 @@ class EffectiveConfig:
                 "include": self.include,
                 "exclude": self.exclude,
                 "extra_rule_dirs": self.extra_rule_dirs,
+                "unapplied_rules": self.unapplied_rules,
             }
             out = [out[0]] + [e for e in out[1:] if moved[e.key].origin.kind not in _DEFAULT_KINDS]
         for rule in sorted(self.catalogue):
@@ -853,6 +872,7 @@ def validate(
         include=top("include", model.include, DEFAULT_INCLUDE),
         exclude=top("exclude", model.exclude, ()),
         extra_rule_dirs=top("extra_rule_dirs", model.extra_rule_dirs, ()),
+        unapplied_rules=top("unapplied_rules", model.unapplied_rules, "report"),
         extra_rule_paths=tuple(resolved),
         base=base_rel,
     )
@@ -864,7 +884,11 @@ def _threshold_problem(value: str | float, dimension: str | None) -> str | None:
         return None
     if dimension in ("ratio", "flag"):
         if isinstance(value, str):
-            return f"'{value}' must be a plain number for this rule (a ratio, 1 = 100 %)"
+            from .pack import percent_value
+
+            if dimension == "ratio" and percent_value(value) is not None:
+                return None
+            return f"'{value}' must be a plain number or a percentage for this rule (0.3 or '30 %')"
         return None
     if not isinstance(value, str):
         from ..model.units import accepted_units

@@ -34,9 +34,12 @@ from .pack import (
     PackRule,
     Rule,
     compile_rule,
+    figure_form,
     format_value,
+    limit_text,
     merge_overlay,
     one_line,
+    plain_number,
     semantic_problems,
     threshold_si,
 )
@@ -445,8 +448,180 @@ def _render(prule: PackRule, values: Mapping[str, Any], limit: str, point: str |
         elif name == "point":
             out.append(point or "")
         else:
-            out.append(format_value(values[name], FIGURE_DEFS[name].dimension))
+            out.append(format_value(values[name], FIGURE_DEFS[name].dimension, figure_form(name)))
     return "".join(out)
+
+
+# ------------------------------------------------------- related locations
+# A finding's related locations, in this order, each place once (file, line and
+# column) and each document path once, none on the finding's own line:
+#   1. the references (`from:` lines) through which its own location is reached,
+#      when it points into a library file: they say which axis file uses it;
+#   2. the rule file's `related:` paths the spec gives, in the rule's order;
+#   3. only when the rule lists none: one input path of the judged figure
+#      (registry order) that holds one value (never a whole section or list);
+# and at most MAX_RELATED locations of 2 and 3 together: the rule's first paths are
+# the ones that explain its finding (what a fix would change), the message quotes
+# the rest. A value reached through a library reference is shown where it is
+# written (the library file), not at the `from:` line that brings it in. Each
+# location carries a label: its document path and the spec's value there in
+# readable units.
+MAX_RELATED = 2
+MAX_FIGURE_PATHS = 1
+
+
+def _dimension_in(annotation: Any) -> str | None:
+    """The unit dimension of a field annotation (``Annotated[float, Quantity(...)]``,
+    possibly inside Optional or a tuple), or None."""
+    import typing
+
+    for meta in getattr(annotation, "__metadata__", ()):
+        dimension = getattr(meta, "dimension", None)
+        if isinstance(dimension, str):
+            return dimension
+    for arg in typing.get_args(annotation):
+        if arg is not Ellipsis:
+            found = _dimension_in(arg)
+            if found is not None:
+                return found
+    return None
+
+
+def _field_dimension(owner: Any, name: str) -> str | None:
+    fields = getattr(type(owner), "model_fields", None)
+    if not fields or name not in fields:
+        return None
+    info = fields[name]
+    for meta in info.metadata:
+        dimension = getattr(meta, "dimension", None)
+        if isinstance(dimension, str):
+            return dimension
+    return _dimension_in(info.annotation)
+
+
+def _scalar_text(value: Any, dimension: str | None) -> str | None:
+    if isinstance(value, bool):
+        return "true" if value else "false"
+    if isinstance(value, float) and dimension is not None:
+        from ..model.units import format_si
+
+        return format_si(value, dimension)
+    if isinstance(value, (int, float)):
+        return plain_number(value, 4)
+    if isinstance(value, str):
+        return value
+    return None
+
+
+def value_text(spec: Any, path: tuple) -> tuple[str | None, bool]:
+    """(the spec's value at ``path`` in readable units, whether it is one value):
+    a scalar, a list of scalars, or a section holding a ``value`` (a catalogue value
+    with its conditions). (None, False) for a section or a path the spec lacks."""
+    owner: Any = None
+    node: Any = spec
+    for part in path:
+        owner = node
+        if isinstance(part, int):
+            if not isinstance(node, tuple) or not 0 <= part < len(node):
+                return None, False
+            node = node[part]
+        else:
+            node = getattr(node, part, None)
+        if node is None:
+            return None, False
+    name = path[-1] if path and isinstance(path[-1], str) else None
+    dimension = _field_dimension(owner, name) if owner is not None and name is not None else None
+    if isinstance(node, tuple):
+        items = [_scalar_text(v, dimension) for v in node]
+        if node and all(t is not None for t in items):
+            return "[" + ", ".join(t for t in items if t is not None) + "]", True
+        return None, False
+    if hasattr(type(node), "model_fields"):
+        inner = getattr(node, "value", None)
+        if inner is not None and "value" in type(node).model_fields:
+            text = _scalar_text(inner, _field_dimension(node, "value"))
+            return text, text is not None
+        return None, False
+    text = _scalar_text(node, dimension)
+    return text, text is not None
+
+
+def location_label(spec: Any, path: tuple) -> str:
+    """What a related location is: "motor.terminal_inductance = 179 uH", "operating_points[1]
+    (point 'lift')", "operating_points (3 entries)", "motor.thermal (section)"."""
+    where = dotted(path) or "the spec"
+    text, _one = value_text(spec, path)
+    if text is not None:
+        return f"{where} = {text}"
+    node = _get(spec, path)
+    if isinstance(node, tuple):
+        return f"{where} ({len(node)} entr{'y' if len(node) == 1 else 'ies'})"
+    name = getattr(node, "name", None)
+    if isinstance(name, str) and path and isinstance(path[-1], int):
+        return f"{where} (point '{name}')" if path[0] == "operating_points" else f"{where} ('{name}')"
+    return f"{where} (section)"
+
+
+def _labelled(loc: Location, label: str) -> Location:
+    return Location(loc.file, loc.line, loc.column, loc.end_line, loc.end_column, loc.path, label)
+
+
+def _reference_labels(target: str, via: Sequence[Location], locate: Locate | None = None, path: tuple = ()) -> list:
+    """The `from:` locations of a path, deepest first, each labelled with the section it
+    brings in and the file it comes from ("motor from robot/library/motors/x.yaml")."""
+    out = []
+    for ref in via:
+        section = "a section"
+        if locate is not None:
+            for depth in range(1, len(path) + 1):
+                refs = locate(path[:depth])[1]
+                if any((r.file, r.line, r.column) == (ref.file, ref.line, ref.column) for r in refs):
+                    section = dotted(path[:depth])
+                    break
+        out.append(_labelled(ref, f"{section} from {target}"))
+        target = ref.file
+    return out
+
+
+def related_locations(prule: PackRule, spec: Any, locate: Locate, index: int | None, loc: Location, via) -> tuple:
+    """The related locations of one finding of ``prule`` (see the order above)."""
+    out: list[Location] = []
+    seen_places = {(loc.file, loc.line, loc.column)}
+    seen_paths = {tuple(loc.path)}
+
+    def add(item: Location) -> bool:
+        place = (item.file, item.line, item.column)
+        if place in seen_places or (item.path and tuple(item.path) in seen_paths):
+            return False
+        if item.file == loc.file and item.line == loc.line:
+            return False  # on the finding's own line: the reader is there already
+        seen_places.add(place)
+        if item.path:
+            seen_paths.add(tuple(item.path))
+        out.append(item)
+        return True
+
+    for ref in _reference_labels(loc.file, via, locate, tuple(loc.path)):
+        add(ref)
+    values = 0
+    for path in (_resolve(p, index) for p in prule.related):
+        if values < MAX_RELATED and _present(spec, path):
+            rloc, _refs = locate(path)
+            values += add(_labelled(rloc, location_label(spec, path)))
+    taken = 0
+    for fpath in () if prule.related else prule.figure.paths:
+        if taken >= MAX_FIGURE_PATHS or values >= MAX_RELATED:
+            break
+        path = tuple(fpath)
+        if index is not None and path == ("operating_points",):
+            path = ("operating_points", index)
+        if not _present(spec, path) or not value_text(spec, path)[1]:
+            continue
+        rloc, _refs = locate(path)
+        if add(_labelled(rloc, location_label(spec, path))):
+            taken += 1
+            values += 1
+    return tuple(out)
 
 
 def _unit(name: str) -> str:
@@ -464,7 +639,7 @@ def _not_applicable(prule: PackRule, reason: str, locate: Locate, path: tuple) -
         "info",
         message,
         loc,
-        rel,
+        tuple(_reference_labels(loc.file, rel, locate, tuple(path))),
         help=f"{prule.rule.title}; give what the rule needs, or disable it in the config",
         meta=(("rule", prule.id), ("rule_file", prule.source)),
     )
@@ -548,25 +723,10 @@ def _evaluate_rule(
 def _finding(prule, spec, figures, locate, override, band, lowest, values, point, point_index, remedy_fn) -> Finding:
     rule = prule.rule
     index = point_index.get(point) if point is not None else None
-    limit = format_value(band.threshold, prule.figure.dimension)
+    limit = limit_text(band.threshold, prule.figure.dimension, figure_form(prule.figure.name))
     message = _render(prule, values, limit, point)
     loc, via = locate(_resolve(prule.at, index))
-    related: list[Location] = list(via)
-    paths = [_resolve(p, index) for p in prule.related]
-    for fpath in prule.figure.paths:
-        if index is not None and fpath == ("operating_points",):
-            fpath = ("operating_points", index)
-        paths.append(tuple(fpath))
-    seen = {(loc.file, loc.line, loc.column)}
-    for path in paths:
-        if not _present(spec, path):
-            continue
-        rloc, rvia = locate(path)
-        for item in (rloc, *rvia):
-            key = (item.file, item.line, item.column)
-            if key not in seen:
-                seen.add(key)
-                related.append(item)
+    related = related_locations(prule, spec, locate, index, loc, via)
     remedies: list[str] = []
     aim = None
     if rule.remedies and lowest.comparator != "is":
@@ -583,7 +743,7 @@ def _finding(prule, spec, figures, locate, override, band, lowest, values, point
         severity,
         message,
         loc,
-        tuple(related),
+        related,
         operating_point=point,
         figures=tuple((name, values[name], _unit(name)) for name in prule.figures_used),
         remedies=tuple(remedies),

@@ -17,6 +17,7 @@ specguard.schema``). Checks that need the figure registry or the spec model
 
 from __future__ import annotations
 
+import math
 import re
 import string
 from collections.abc import Mapping
@@ -241,8 +242,14 @@ def threshold_si(value: object, figure: FigureDef, comparator: str) -> float | b
     if comparator == "is":
         raise ValueError(f"'is' is for flag figures; '{figure.name}' is a {figure.dimension}")
     if figure.dimension == "ratio":
+        if isinstance(value, str) and figure_form(figure.name) == "percent":
+            share = percent_value(value)
+            if share is not None:
+                return share
         if isinstance(value, bool) or not isinstance(value, (int, float)):
-            raise ValueError(f"figure '{figure.name}' is a ratio: write a plain number (0.2 for 20 %)")
+            if figure_form(figure.name) in ("count", "number"):
+                raise ValueError(f"figure '{figure.name}' is a plain number: write it without a unit (e.g. 10)")
+            raise ValueError(f"figure '{figure.name}' is a ratio: write a plain number or a percentage (0.2 or '20 %')")
         return float(value)
     if not isinstance(value, str):
         raise ValueError(
@@ -258,6 +265,18 @@ def threshold_si(value: object, figure: FigureDef, comparator: str) -> float | b
         return parse_quantity(value, figure.dimension)
     except UnitError as exc:
         raise ValueError(str(exc)) from None
+
+
+_PERCENT = re.compile(r"^\s*([+-]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+))\s*%\s*$")
+
+
+def percent_value(text: str) -> float | None:
+    """A threshold written as a percentage ("30 %", "2.5%") as a ratio (0.3); None for other text."""
+    match = _PERCENT.match(text)
+    if match is None:
+        return None
+    value = float(match.group(1)) / 100.0
+    return value if math.isfinite(value) else None
 
 
 def _example(dimension: str) -> str:
@@ -477,25 +496,123 @@ class OverrideError(ValueError):
 
 
 # ------------------------------------------------------------- text helpers
-def format_value(value: float | bool, dimension: str) -> str:
-    """A figure value for messages: SI with its unit, ratios as percent, flags yes/no."""
+# How a figure reads in a message, where its dimension alone does not say it:
+#   percent  a ratio of like quantities (the default of ratios): "44.7 %"
+#   factor   a ratio whose findings sit far from 1 (a percent would be silly): "43.8 : 1", "1 : 40"
+#   count    a number of things: "7.5"
+#   number   a dimensionless number judged against 1: "6.44"
+#   under    a signed margin, positive when the quantity stays under its limit: "8.8 K below" / "357 K above"
+#   over     a signed difference, positive when the quantity is over the reference: "3 V above" / "4.4 V below"
+# A message template places the worded forms where the sign word belongs
+# ("the winding settles at {winding_temperature}, {winding_margin} its limit").
+FIGURE_FORMS: dict[str, str] = {
+    "pwm_periods_per_electrical_period": "count",
+    "runaway_number": "number",
+    "ripple_period_over_tau": "factor",
+    "inertia_ratio": "factor",
+    "choke_to_motor_inductance": "factor",
+    "cable_resistance_ratio": "factor",
+    "choke_saturation_over_rated": "factor",
+    "motor_peak_ratio": "factor",
+    "stage_to_motor_current": "factor",
+    "stage_rating_over_supply": "factor",
+    "table_resistance_ratio_max": "factor",
+    "thermal_resistance_ratio": "factor",
+    "max_speed_over_no_load": "factor",
+    "min_pulse_over_dead_time": "factor",
+    "winding_margin": "under",
+    "profile_margin": "under",
+    "rating_margin": "under",
+    "trip_margin": "under",
+    "supply_range_low_margin": "over",
+    "supply_window_width": "over",
+    "winding_limit_over_class": "over",
+}
+
+
+def figure_form(name: str) -> str:
+    """The form of a figure in messages (see :data:`FIGURE_FORMS`): a form name, or
+    the figure's dimension for plain values."""
+    form = FIGURE_FORMS.get(name)
+    if form is not None:
+        return form
+    dimension = FIGURE_DEFS[name].dimension if name in FIGURE_DEFS else "ratio"
+    return "percent" if dimension == "ratio" else dimension
+
+
+def plain_number(value: float, digits: int = 3) -> str:
+    """``value`` with ``digits`` significant digits, never in scientific notation;
+    whole numbers from 10**digits up ("7512", "43.8", "0.0033", "0")."""
+    v = float(value)
+    if not math.isfinite(v):
+        return str(v)
+    if v == 0.0:
+        return "0"
+    magnitude = math.floor(math.log10(abs(v)))
+    decimals = max(0, digits - 1 - magnitude)
+    text = f"{v:.{decimals}f}"
+    if "." in text:
+        text = text.rstrip("0").rstrip(".")
+    return "0" if text in ("-0", "") else text
+
+
+def percent_text(ratio: float) -> str:
+    """A ratio of like quantities as a percentage: 3 significant digits, whole
+    percents from 100 % up, never scientific notation ("44.7 %", "7512 %", "0.33 %")."""
+    return f"{plain_number(float(ratio) * 100.0)} %"
+
+
+def factor_text(ratio: float) -> str:
+    """A ratio far from one as a proportion: "43.8 : 1", or "1 : 40" below one."""
+    v = float(ratio)
+    if v <= 0.0 or not math.isfinite(v):
+        return f"{plain_number(v)} : 1"
+    if v >= 1.0:
+        return f"{plain_number(v)} : 1"
+    return f"1 : {plain_number(1.0 / v)}"
+
+
+def signed_text(value: float, dimension: str, positive_word: str, negative_word: str) -> str:
+    """A signed difference worded by its sign: "8.842 K below", "357.3 K above"; "exactly at" for 0."""
+    v = float(value)
+    if v == 0.0:
+        return "exactly at"
+    word = positive_word if v > 0 else negative_word
+    return f"{format_si(abs(v), dimension)} {word}"
+
+
+def format_value(value: float | bool, dimension: str, form: str | None = None) -> str:
+    """A figure value for messages: SI with its unit, ratios as percent, flags yes/no;
+    ``form`` (:func:`figure_form`) for the forms a dimension does not say."""
     if dimension == "flag":
         return "yes" if value else "no"
+    if form == "count" or form == "number":
+        return plain_number(float(value))
+    if form == "factor":
+        return factor_text(float(value))
+    if form == "under":
+        return signed_text(float(value), dimension, "below", "above")
+    if form == "over":
+        return signed_text(float(value), dimension, "above", "below")
     if dimension == "ratio":
-        pct = float(value) * 100.0
-        text = f"{pct:.3g}"
-        if "e" in text:
-            text = f"{pct:.0f}"
-        return f"{text} %"
+        return percent_text(float(value))
     return format_si(float(value), dimension)
+
+
+def limit_text(value: float | bool, dimension: str, form: str) -> str:
+    """A threshold in the form of its figure, unsigned forms plain (a limit has no sign word)."""
+    if form in ("under", "over"):
+        return format_value(value, dimension)
+    return format_value(value, dimension, form)
 
 
 def band_text(band: CompiledBand, figure: FigureDef) -> str:
     """'warning above 20 %' / 'warning below 16 kHz' / 'info when yes'."""
     if band.comparator == "is":
         return f"{band.severity} when {'yes' if band.threshold else 'no'}"
-    text = f"{band.severity} {COMPARATOR_WORDS[band.comparator]} {format_value(band.threshold, figure.dimension)}"
-    if figure.dimension == "ratio":
+    form = figure_form(figure.name)
+    text = f"{band.severity} {COMPARATOR_WORDS[band.comparator]} {limit_text(band.threshold, figure.dimension, form)}"
+    if figure.dimension == "ratio" and form == "percent":
         text += f" ({band.written})"  # as the rule file and a config override write it
     return text
 

@@ -31,6 +31,7 @@ from typing import Any
 
 from ..findings import SEVERITY_ORDER
 from .safe import escape_controls
+from .text import related_label
 
 DASH = "\u2013"
 UNDERSCORE = "_"
@@ -440,7 +441,8 @@ def _findings_table(result) -> str:
         where = f"{clean(loc.file)}:{loc.line}:{loc.column}"
         pointer = f"<br><code>{text(loc.pointer)}</code>" if loc.pointer else ""
         related = "".join(
-            f'<br><span class="muted">related: {text(r.file)}:{r.line}:{r.column}</span>' for r in f.related
+            f'<br><span class="muted">{text(related_label(r))} ({text(r.file)}:{r.line}:{r.column})</span>'
+            for r in f.related
         )
         numbers = "<br>".join(f"<code>{text(n)}</code> = {text(_figure_display(n, v, u))}" for n, v, u in f.figures)
         remedies = "".join(f"<li>{text(r)}</li>" for r in f.remedies)

@@ -54,7 +54,7 @@ def _number(value: object) -> float | bool | None:
 
 
 def location(loc) -> dict:
-    return {
+    out = {
         "file": loc.file,
         "line": loc.line,
         "column": loc.column,
@@ -62,6 +62,9 @@ def location(loc) -> dict:
         "end_column": loc.end_column,
         "pointer": loc.pointer,
     }
+    if getattr(loc, "label", ""):
+        out["label"] = loc.label  # what a related location is: path and value
+    return out
 
 
 def finding(f) -> dict:

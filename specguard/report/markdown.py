@@ -21,6 +21,7 @@ import re
 
 from ..findings import SEVERITY_ORDER
 from .safe import escape_controls
+from .text import related_label
 
 CAUTION = (
     "specguard is a design aid, not a safety assessment. Drive electronics work with high "
@@ -136,6 +137,8 @@ def render(report: Report) -> str:
         elif getattr(f, "baselined", False):
             mark = " (baselined)"
         lines.append(f"- **{f.severity}** {where}{point}: {escape(f.message)} ({escape(f.rule)}){mark}")
+        for rel in f.related:
+            lines.append(f"  - related: {escape(related_label(rel))} ({escape(rel.file)}:{rel.line}:{rel.column})")
         for remedy in f.remedies:
             lines.append(f"  - fix: {escape(remedy)}")
     axes = [r for r in report.files if getattr(r, "figures", None) is not None]

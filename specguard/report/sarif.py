@@ -29,6 +29,7 @@ import json
 from urllib.parse import quote
 
 from .json_report import _number, dumps
+from .text import related_label
 
 SARIF_SCHEMA = "https://docs.oasis-open.org/sarif/sarif/v2.1.0/errata01/os/schemas/sarif-schema-2.1.0.json"
 MAX_RESULTS = 25_000  # docs/reliability.md G15
@@ -167,7 +168,7 @@ def document(report: Report) -> dict:
                 {
                     "id": i + 1,
                     "physicalLocation": _physical(r),
-                    "message": {"text": "related location"},
+                    "message": {"text": related_label(r)},
                 }
                 for i, r in enumerate(f.related)
             ]

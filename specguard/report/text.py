@@ -47,7 +47,65 @@ def finding_line(finding, colour: bool = False) -> str:
     return f"{shown_path(loc.file)}:{loc.line}:{loc.column}: {severity}: {message} [{finding.rule}]{waived}"
 
 
-def render(report: Report, colour: bool = False) -> str:
+def related_label(rel) -> str:
+    """What a related location is: the engine's label, else its document path."""
+    from ..findings import dotted
+
+    return rel.label or dotted(rel.path) or "related place"
+
+
+def related_line(rel) -> str:
+    """``    motor.terminal_inductance = 179 uH  (robot/library/motors/x.yaml:7:24)``."""
+    return f"    {escape_controls(related_label(rel))}  ({escape_controls(rel.file)}:{rel.line}:{rel.column})"
+
+
+SEVERITIES = ("error", "warning", "info")
+
+
+def parse_show(text: str) -> tuple[str, ...]:
+    """The severities a ``--show`` value names ("error,warning"); ValueError otherwise."""
+    names = tuple(part.strip() for part in text.split(",") if part.strip())
+    unknown = [n for n in names if n not in SEVERITIES]
+    if unknown or not names:
+        raise ValueError(f"{', '.join(unknown) or repr(text)}: name severities among error, warning, info")
+    return tuple(s for s in SEVERITIES if s in names)
+
+
+_UNAPPLIED = "rule-not-applicable"
+
+
+def _unapplied_reason(finding) -> str:
+    rule = dict(finding.meta).get("rule", "?")
+    reason = finding.message.split(" could not be applied: ", 1)[-1]
+    if reason.startswith("the spec does not give "):
+        reason = "needs " + reason[len("the spec does not give ") :]
+    return f"{rule} ({reason})"
+
+
+def unapplied_line(findings, colour: bool = False) -> str:
+    """The rule-not-applicable findings of one file as one line."""
+    first = findings[0]
+    loc = first.location
+    severity = f"{_COLOURS['info']}info{_RESET}" if colour else "info"
+    rules = "; ".join(escape_controls(_unapplied_reason(f)) for f in findings)
+    return (
+        f"{shown_path(loc.file)}:{loc.line}:{loc.column}: {severity}: {len(findings)} rules could not be applied: "
+        f"{rules} [{_UNAPPLIED}]"
+    )
+
+
+def render(
+    report: Report,
+    colour: bool = False,
+    *,
+    show: tuple[str, ...] = SEVERITIES,
+    show_baselined: bool = False,
+    summary_only: bool = False,
+) -> str:
+    """The text report. ``show``: the severities whose findings are printed (counts
+    and exit status are unchanged); baselined findings are left out unless
+    ``show_baselined``; ``summary_only``: one line per file instead of the findings.
+    Each file's rule-not-applicable findings are gathered in one line."""
     lines: list[str] = []
     for result in report.files:
         if result.input_error is not None:
@@ -55,17 +113,67 @@ def render(report: Report, colour: bool = False) -> str:
                 f"{shown_path(result.file)}: error: cannot read input: "
                 f"{escape_controls(result.input_error)} [input-unreadable]"
             )
-    for finding in report.findings:
+    if summary_only:
+        lines.extend(file_summary(report, result) for result in report.files if result.input_error is None)
+        lines.append(summary(report, show=show, show_baselined=show_baselined))
+        return "\n".join(lines) + "\n"
+    shown = [
+        f for f in report.findings if f.severity in show and (show_baselined or not getattr(f, "baselined", False))
+    ]
+    unapplied: dict[str, list] = {}
+    for f in shown:
+        if f.rule == _UNAPPLIED and not f.suppressed:
+            unapplied.setdefault(f.location.file, []).append(f)
+    # each related location is printed once, under the first finding it explains;
+    # the findings below that it also explains do not repeat it (JSON and SARIF keep
+    # every finding's whole list)
+    printed: set[tuple] = set()
+    for finding in shown:
+        group = unapplied.get(finding.location.file) if finding.rule == _UNAPPLIED else None
+        if group is not None and len(group) > 1 and not finding.suppressed:
+            if finding is group[0]:
+                lines.append(unapplied_line(group, colour))
+            continue
         lines.append(finding_line(finding, colour))
         for rel in finding.related:
-            lines.append(f"    {shown_path(rel.file)}:{rel.line}:{rel.column}: related location")
+            key = (rel.file, rel.line, rel.column)
+            if key not in printed:
+                printed.add(key)
+                lines.append(related_line(rel))
         for remedy in finding.remedies:
             lines.append(f"    fix: {escape_controls(remedy)}")
-    lines.append(summary(report))
+    lines.append(summary(report, show=show, show_baselined=show_baselined))
     return "\n".join(lines) + "\n"
 
 
-def summary(report: Report) -> str:
+def _plural(n: int, word: str) -> str:
+    return f"{n} {word}{'s' if n != 1 and word != 'info' else ''}"
+
+
+def file_summary(report: Report, result) -> str:
+    """One file in one line: its counts and its verdict at its fail level."""
+    counts = {"error": 0, "warning": 0, "info": 0}
+    waived = baselined = 0
+    for f in result.findings:
+        if f.waived is not None:
+            waived += 1
+        elif getattr(f, "baselined", False):
+            baselined += 1
+        else:
+            counts[f.severity] += 1
+    level = report.fail_level_of(result)
+    threshold = SEVERITIES.index(level)
+    fails = any(counts[s] for s in SEVERITIES[: threshold + 1])
+    parts = [_plural(counts["error"], "error"), _plural(counts["warning"], "warning"), _plural(counts["info"], "info")]
+    if waived:
+        parts.append(f"{waived} waived")
+    if baselined:
+        parts.append(f"{baselined} baselined")
+    verdict = "fails" if fails else "passes"
+    return f"{shown_path(result.file)}: {verdict}: {', '.join(parts)}"
+
+
+def summary(report: Report, *, show: tuple[str, ...] = SEVERITIES, show_baselined: bool = True) -> str:
     counts = report.counts()
     files = len(report.files)
     parts = [
@@ -78,6 +186,9 @@ def summary(report: Report) -> str:
         parts.append(f"{waived} waived")
     unread = len(report.input_errors)
     tail = f", {unread} unreadable" if unread else ""
+    hidden = [s for s in SEVERITIES if s not in show and counts[s]]
+    if hidden:
+        tail += f" ({' and '.join(hidden)} not printed: --show {','.join(show)})"
     line = f"specguard: {', '.join(parts)} in {files} file{'s' if files != 1 else ''}{tail}"
     outcome = getattr(report, "baseline", None)
     if outcome is not None:
@@ -86,6 +197,8 @@ def summary(report: Report) -> str:
             f"\nspecguard: {n} finding{'s' if n != 1 else ''} suppressed by the baseline "
             f"{escape_controls(outcome.file)}"
         )
+        if n and not show_baselined:
+            line += " (not printed; --show-baselined prints them)"
         if outcome.stale_count:
             k = outcome.stale_count
             line += f"; {k} stale entr{'ies' if k != 1 else 'y'} matched no finding" + (

@@ -190,7 +190,7 @@ def test_override_unknown_band_or_bad_unit_is_an_override_error(tmp_path, spec_l
             pack,
             spec_locate,
             ripple_figs(0.3, 0.7),
-            {"test-ripple-share": RuleOverride(thresholds={"warning": "20 %"})},
+            {"test-ripple-share": RuleOverride(thresholds={"warning": "20 kHz"})},
         )
 
 
@@ -222,8 +222,10 @@ def test_locations_primary_and_related(tmp_path, spec_locate):
     assert ("motor", "rated_current") in paths and ("motor", "peak_current") in paths
     # output_inductance is not in the spec: not shown
     assert ("stage", "output_inductance") not in paths
-    # the figure's own paths are added (ripple_ratio names the PWM and inductance inputs)
-    assert ("stage", "pwm", "frequency") in paths and ("chokes", "inductance") in paths
+    # the rule lists its related paths, so the figure's own inputs are not added
+    assert ("stage", "pwm", "frequency") not in paths and ("chokes", "inductance") not in paths
+    # each names what it is and its value
+    assert all(r.label.startswith(".".join(map(str, r.path)) + " = ") for r in f.related), f.related
     # never the primary location twice
     assert all((r.line, r.column) != (f.location.line, f.location.column) for r in f.related)
 

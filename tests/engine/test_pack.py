@@ -177,7 +177,7 @@ def test_unknown_key_and_missing_key_are_located(tmp_path):
             ),
             "kV",
         ),
-        (dict(bands=("- {severity: warning, above: 20 %}",)), "plain number"),
+        (dict(bands=("- {severity: warning, above: 20 kHz}",)), "plain number"),
         (dict(bands=("- {severity: warning, above: 0.2, below: 0.1}",)), "exactly one"),
         (
             dict(bands=("- {severity: warning, above: 0.2}", "- {severity: warning, above: 0.5}")),

@@ -167,7 +167,7 @@ def test_unknown_rule_id_suggests_the_right_one_in_path_entries_too():
             "not a frequency unit",
         ),
         (
-            "format: 1\nrules:\n  ripple-over-rated-current: {thresholds: {warning: 20 %}}\n",
+            "format: 1\nrules:\n  ripple-over-rated-current: {thresholds: {warning: 20 kHz}}\n",
             "plain number",
         ),
         (
