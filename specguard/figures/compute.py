@@ -302,15 +302,10 @@ def _electrical(spec: Spec, ax: _Axis, speed: float, torque: float) -> dict[str,
         m = P.operating.modulation_required(v_term, V, current, ax.series_resistance, ax.dead_time, ax.f_leg, ax.scheme)
         m_max = P.operating.modulation_max(ax.max_duty, ax.scheme)
         m_clip = _clip(m, 0.0, 1.0)
-        m_top = m_clip
-        if V_top != V:
-            m_top = _clip(
-                P.operating.modulation_required(
-                    v_term, V_top, current, ax.series_resistance, ax.dead_time, ax.f_leg, ax.scheme
-                ),
-                0.0,
-                1.0,
-            )
+        # the ripple at the modulation the motor sees (the dead time's share is lost
+        # before the load): the exact periodic current then averages to the operating
+        # current, so its maximum and minimum are the exact extremes (docs/physics.md §1.4)
+        m_top = _clip((v_term + current * ax.series_resistance) / V_top, 0.0, 1.0)
         ripple = P.hbridge.ripple_exact(V_top, ax.inductance, ax.resistance_hot, ax.f_leg, m_top, ax.scheme, emf)
         ripple_cat = P.hbridge.ripple_peak_to_peak(
             V_top, ax.inductance_catalogue, ax.resistance_hot, ax.f_leg, m_top, ax.scheme
@@ -326,7 +321,9 @@ def _electrical(spec: Spec, ax: _Axis, speed: float, torque: float) -> dict[str,
             "ripple_rms": ripple.ripple_rms,
             "ripple_pp_catalogue": ripple_cat,
             "rms_current": math.hypot(current, ripple.ripple_rms),
-            "peak": current + ripple.peak_to_peak / 2.0,
+            "peak": float(ripple.maximum),
+            "current_min": float(ripple.minimum),
+            "ripple_pp_linear": float(ripple.linear_peak_to_peak),
         }
     # sinusoidal (dq, i_d = 0)
     p = motor.pole_pairs or 1
@@ -422,6 +419,7 @@ def compute(spec: Spec, settings: FigureSettings | None = None) -> FigureSet:
                 "duty": e["duty"],
                 "modulation_ratio": e["modulation_ratio"],
                 "ripple_modulation": e["ripple_modulation"],
+                "current_max": e["peak"],
                 "ripple_pp": e["ripple_pp"],
                 "ripple_pp_catalogue": e["ripple_pp_catalogue"],
                 "ripple_ratio": e["ripple_pp"] / rated,
@@ -429,6 +427,12 @@ def compute(spec: Spec, settings: FigureSettings | None = None) -> FigureSet:
                 "rms_current": e["rms_current"],
             }
         )
+        if "current_min" in e:  # H-bridge and six-step: the exact waveform's extremes
+            rows[-1]["current_min"] = e["current_min"]
+            rows[-1]["ripple_pp_linear"] = e["ripple_pp_linear"]
+    if ax.topology == "sinusoidal":
+        for name in ("current_min", "ripple_pp_linear"):
+            missing[name] = "sinusoidal PWM: the ripple changes over the electrical period (see ripple_pp)"
     worst = _worst_ripple(spec, ax, ax.inductance)
     axis["ripple_pp_worst"] = worst
     axis["ripple_ratio_worst"] = worst / rated
