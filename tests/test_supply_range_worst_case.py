@@ -53,3 +53,29 @@ def test_without_a_range_every_figure_uses_the_nominal_voltage():
     assert plain.value("supply_voltage_high") == plain.value("supply_voltage_low") == 24.0
     # 470 uF from 24 V to 30 V
     assert plain.value("bus_absorbable_energy") == pytest.approx(0.5 * 470e-6 * (30.0**2 - 24.0**2), rel=1e-12)
+
+
+def test_holding_torque_at_standstill_heats_one_phase_with_the_amplitude():
+    """A three-phase axis holding torque at standstill: the current vector stands still
+    and one phase carries the amplitude (sqrt 2 times the RMS phase current) continuously
+    (common practice: the stall rating of a servo motor is below its rated current for
+    this reason); the thermal and stage checks use it. Check value: sqrt 2 by hand."""
+    import math
+
+    from specguard.figures import compute as figures_of
+
+    spec, _ = base_spec(
+        "three-phase-axis",
+        {
+            "operating_points": [
+                {"name": "hold", "speed": "0 rpm", "torque": "0.3 N*m", "ambient": "30 degC"},
+                {"name": "run", "speed": "1000 rpm", "torque": "0.3 N*m", "ambient": "30 degC"},
+            ]
+        },
+    )
+    fs = figures_of(spec)
+    assert fs.value("standstill_hold", "hold") is True and fs.value("standstill_hold", "run") is False
+    held = math.hypot(fs.value("current", "hold") * math.sqrt(2.0), fs.value("ripple_rms", "hold"))
+    assert fs.value("rms_current", "hold") == pytest.approx(held, rel=1e-12)
+    running = math.hypot(fs.value("current", "run"), fs.value("ripple_rms", "run"))
+    assert fs.value("rms_current", "run") == pytest.approx(running, rel=1e-12)

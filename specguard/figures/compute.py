@@ -347,8 +347,13 @@ def _electrical(spec: Spec, ax: _Axis, speed: float, torque: float) -> dict[str,
     ripple_cat = P.threephase.phase_ripple_peak_to_peak_max(V_top, ax.inductance_catalogue, ax.f_leg, M_top, ax.scheme)
     # peak leg duty: SPWM 1/2 (1 + M); SVPWM with min-max injection 1/2 (1 + M sqrt3/2)
     duty = 0.5 * (1.0 + M_clip * (SQRT3 / 2.0 if ax.scheme == P.threephase.SVPWM else 1.0))
+    # holding torque at standstill: the current vector stands still, so one phase can
+    # carry the amplitude continuously; the heating and the stage see that phase
+    held = speed == 0.0 and i_rms > 0.0
+    i_heat = i_q if held else i_rms
     return {
         "current": i_rms,
+        "standstill_hold": held,
         "terminal_voltage": v_ph * SQRT3,  # peak line-to-line
         "modulation": M,
         "duty": duty,
@@ -357,7 +362,7 @@ def _electrical(spec: Spec, ax: _Axis, speed: float, torque: float) -> dict[str,
         "ripple_pp": ripple_pp,
         "ripple_rms": ripple_rms,
         "ripple_pp_catalogue": ripple_cat,
-        "rms_current": math.hypot(i_rms, ripple_rms),
+        "rms_current": math.hypot(i_heat, ripple_rms),
         "peak": i_q + ripple_pp / 2.0,
         "phase_voltage_peak": v_ph,
     }
@@ -427,9 +432,18 @@ def compute(spec: Spec, settings: FigureSettings | None = None) -> FigureSet:
                 "rms_current": e["rms_current"],
             }
         )
+        if ax.topology == "sinusoidal":
+            rows[-1]["standstill_hold"] = bool(e.get("standstill_hold"))
+        if e.get("standstill_hold"):
+            notes["rms_current"] = (
+                "at standstill with torque one phase carries the current's amplitude continuously: the RMS "
+                "current of the thermal and stage checks is that amplitude (with the ripple)"
+            )
         if "current_min" in e:  # H-bridge and six-step: the exact waveform's extremes
             rows[-1]["current_min"] = e["current_min"]
             rows[-1]["ripple_pp_linear"] = e["ripple_pp_linear"]
+    if ax.topology != "sinusoidal":
+        missing["standstill_hold"] = "only a three-phase axis with sinusoidal commutation holds a standing vector"
     if ax.topology == "sinusoidal":
         for name in ("current_min", "ripple_pp_linear"):
             missing[name] = "sinusoidal PWM: the ripple changes over the electrical period (see ripple_pp)"

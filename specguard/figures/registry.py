@@ -270,6 +270,15 @@ FIGURES: tuple[FigureDef, ...] = (
         "operating_points",
     ),
     _d(
+        "standstill_hold",
+        "flag",
+        "",
+        "point",
+        "a three-phase point holding torque at standstill: one phase carries the amplitude continuously, and the "
+        "thermal and stage checks use it",
+        "operating_points",
+    ),
+    _d(
         "ripple_modulation",
         "ratio",
         "1",
