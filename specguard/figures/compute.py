@@ -861,35 +861,119 @@ def _chokes(spec, ax, elec, axis, missing, notes):
 
 
 def _braking(spec, axis, missing):
+    """Braking to standstill from the fastest speed: the energy it returns, where it goes
+    (the supply, the bus capacitors, a brake resistor) and the bus voltage it leaves
+    (docs/physics.md §7.6, "Braking into real supplies")."""
     stage = spec.stage
     inertia = (spec.load.inertia if spec.load else 0.0) + (spec.motor.rotor_inertia or 0.0)
     speeds = [p.speed for p in spec.operating_points]
     if spec.profile is not None:
         speeds += [s.speed for s in spec.profile.segments]
-    names = ("braking_energy", "bus_absorbable_energy", "braking_energy_ratio", "bus_voltage_after_braking")
+    names = (
+        "braking_energy",
+        "bus_absorbable_energy",
+        "braking_energy_ratio",
+        "bus_voltage_after_braking",
+        "braking_supply_energy",
+        "braking_resistor_energy",
+    )
     if spec.load is None and spec.motor.rotor_inertia is None:
-        for name in names:
+        for name in names + ("braking_torque", "braking_power_peak"):
             missing[name] = "the spec gives no load.inertia or motor.rotor_inertia"
         return
-    energy = float(P.braking.regenerative_energy(inertia, max(speeds)))
+    w1 = max(speeds)
+    energy = float(P.braking.regenerative_energy(inertia, w1))
     axis["braking_energy"] = energy
+    stop = spec.load.stop_time if spec.load is not None else None
+    peak_power = None
+    if stop is not None:
+        torque = float(P.braking.braking_torque(inertia, w1, stop))
+        peak_power = float(P.braking.braking_peak_power(torque, w1))
+        axis["braking_torque"] = torque
+        axis["braking_power_peak"] = peak_power
+    else:
+        for name in ("braking_torque", "braking_power_peak"):
+            missing[name] = "the spec gives no load.stop_time (the time to brake to standstill)"
     if stage.bus_capacitance is None or stage.overvoltage_trip is None:
         for name in names[1:]:
             missing[name] = "the spec lacks stage.bus_capacitance or stage.overvoltage_trip"
         return
+    C = stage.bus_capacitance
     # braking from a full supply (the top of its range) leaves the least room below the trip
     V = _highest_supply(spec)
-    capacity = float(P.braking.capacitor_absorbable_energy(stage.bus_capacitance, V, stage.overvoltage_trip))
+    supply = stage.supply
+    returned = supply.returned_energy
+    limit_v = stage.overvoltage_trip
+    if returned is not None and returned.back_voltage_max is not None:
+        limit_v = float(P.braking.bus_voltage_limit(limit_v, returned.back_voltage_max))
+    capacity = float(P.braking.capacitor_absorbable_energy(C, V, limit_v))
     axis["bus_absorbable_energy"] = capacity
+    resistor = stage.brake_resistor
+    turn_on = resistor.turn_on_voltage if resistor is not None else math.inf
+    taken = 0.0
+    if returned is None and supply.absorbs_braking_energy:
+        taken = energy  # a regenerative supply takes it back (no details declared)
+    elif returned is not None and returned.takes == "battery" and not returned.charging_blocked:
+        assert returned.full_charge_voltage is not None and returned.charge_current_max is not None
+        if stop is not None and peak_power is not None:
+            split = P.braking.braking_energy_split(
+                peak_power,
+                stop,
+                C,
+                V,
+                final_power=0.0,
+                supply_power_max=float(
+                    P.braking.battery_charge_power_max(V, returned.full_charge_voltage, returned.charge_current_max)
+                ),
+                supply_cutoff_voltage=returned.full_charge_voltage,
+                turn_on_voltage=turn_on,
+            )
+            taken = float(split.supply)
+        else:
+            missing["braking_supply_energy"] = (
+                "the battery's share needs the braking power: give load.stop_time (counted as none)"
+            )
+    if "braking_supply_energy" not in missing:
+        axis["braking_supply_energy"] = taken
+    rest = max(energy - taken, 0.0)
+    to_resistor = 0.0
+    if resistor is not None:
+        room = max(float(P.braking.capacitor_absorbable_energy(C, V, min(turn_on, limit_v))), 0.0)
+        excess = max(rest - room, 0.0)
+        share = 1.0
+        if peak_power is not None and peak_power > 0:
+            # a resistor too large for the peak power takes only its share of it
+            share = min(1.0, (turn_on * turn_on / resistor.resistance) / peak_power)
+        to_resistor = excess * share
+        axis["braking_resistor_energy"] = to_resistor
+    else:
+        missing["braking_resistor_energy"] = "the stage has no brake_resistor"
+    to_caps = rest - to_resistor
     if capacity <= 0:
-        # the supply's top already reaches the trip (supply-range-above-trip says so)
+        # the supply's top already reaches the bus limit (supply-range-above-trip says so)
         missing["braking_energy_ratio"] = (
-            f"the top of the supply range ({_fmt(V, 'voltage')}) is at or above the over-voltage trip: "
-            "the bus capacitors take no braking energy"
+            f"the top of the supply range ({_fmt(V, 'voltage')}) is at or above the bus limit "
+            f"({_fmt(limit_v, 'voltage')}): the bus capacitors take no braking energy"
         )
     else:
-        axis["braking_energy_ratio"] = energy / capacity
-    axis["bus_voltage_after_braking"] = float(P.braking.bus_voltage_after_braking(stage.bus_capacitance, V, energy))
+        axis["braking_energy_ratio"] = to_caps / capacity
+    axis["bus_voltage_after_braking"] = float(P.braking.bus_voltage_after_braking(C, V, to_caps))
+
+
+def brake_turn_on(spec: Spec) -> tuple[float, float, float] | None:
+    """(turn-on voltage, the supply's top, the bus limit) of a brake chopper for this
+    stage, or None without an over-voltage trip (docs/physics.md §7.6)."""
+    stage = spec.stage
+    if stage.overvoltage_trip is None:
+        return None
+    returned = stage.supply.returned_energy
+    limit_v = stage.overvoltage_trip
+    if returned is not None and returned.back_voltage_max is not None:
+        limit_v = min(limit_v, returned.back_voltage_max)
+    top = _highest_supply(spec)
+    if returned is not None and returned.full_charge_voltage is not None:
+        top = max(top, returned.full_charge_voltage)
+    return float(P.braking.brake_turn_on_voltage(top, limit_v)), top, limit_v
 
 
 # ------------------------------------------------------------------- remedies
@@ -1072,6 +1156,30 @@ def remedy(
             return None
         value = float(i_pk) / limit
         return Remedy(name, f"use chokes rated for at least {_fmt(value, 'current')} saturation current", value, "A")
+    if name == "brake_resistor":
+        window = brake_turn_on(spec)
+        if window is None:
+            return None
+        v_on, top, limit_v = window
+        if not math.isfinite(v_on):
+            return Remedy(
+                name,
+                f"a brake resistor does not help: the supply's top {_fmt(top, 'voltage')} leaves no room for a "
+                f"turn-on voltage below the bus limit {_fmt(limit_v, 'voltage')}",
+                None,
+                "ohm",
+            )
+        peak = figures.value("braking_power_peak")
+        if peak is None or not float(peak) > 0:
+            return Remedy(
+                name,
+                f"fit a brake chopper switching in at {_fmt(v_on, 'voltage')} (give load.stop_time to size its "
+                "resistor)",
+                None,
+                "ohm",
+            )
+        r_max = float(P.braking.shunt_resistance_max(v_on, float(peak)))
+        return Remedy(name, f"fit a brake resistor of at most {_fmt(r_max, 'resistance')}", r_max, "ohm")
     if name == "loop_bandwidth":
         loop = spec.stage.current_loop
         if loop is None:

@@ -19,6 +19,8 @@ Levers (name, what changes, direction of a fix):
   least.
 - ``choke_saturation_current``: ``chokes.saturation_current``; at least.
 - ``loop_bandwidth``: ``stage.current_loop.bandwidth``; at most.
+- ``brake_resistor``: a brake chopper and resistor (``stage.brake_resistor``) added; its
+  resistance at most, its turn-on voltage between the supply's top and the bus limit.
 """
 
 from __future__ import annotations
@@ -267,6 +269,32 @@ class LoopBandwidth(Lever):
         return Edit(self.name, hertz, text, changes, new, self._cost(spec, hertz))
 
 
+class BrakeResistorLever(Lever):
+    """A brake chopper and resistor on the bus: ``amount`` is the resistance (at most);
+    the turn-on voltage sits between the supply's top and the bus limit."""
+
+    name = "brake_resistor"
+    dimension = "resistance"
+    at_least = False
+
+    def current(self, spec) -> float | None:
+        return spec.stage.brake_resistor.resistance if spec.stage.brake_resistor is not None else None
+
+    def edit(self, data: Mapping, spec, amount: float) -> Edit | None:
+        from .compute import brake_turn_on
+
+        window = brake_turn_on(spec)
+        if window is None or not math.isfinite(window[0]) or amount <= 0:
+            return None
+        r_text, ohms = safe_text(amount, "resistance", False)
+        v_text, _volts = safe_text(window[0], "voltage", False)
+        section: dict[str, Any] = {"resistance": r_text, "turn_on_voltage": v_text}
+        new = dict(data)
+        _set(new, ("stage", "brake_resistor"), section)
+        text = f"fit a brake resistor of at most {r_text}, switched in at {v_text}"
+        return Edit(self.name, ohms, text, (("/stage/brake_resistor", tuple(section.items())),), new, 1.0)
+
+
 def topology(spec) -> str:
     if spec.motor.type == "brushed-dc":
         return "dc"
@@ -290,6 +318,8 @@ def lever_for(remedy_name: str, spec) -> Lever | None:
         return ChokeSaturation()
     if remedy_name == "loop_bandwidth":
         return LoopBandwidth()
+    if remedy_name == "brake_resistor":
+        return BrakeResistorLever()
     return None
 
 

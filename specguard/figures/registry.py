@@ -558,7 +558,8 @@ FIGURES: tuple[FigureDef, ...] = (
         "energy",
         "J",
         "axis",
-        "energy the bus capacitance takes between the supply voltage and the over-voltage trip",
+        "energy the bus capacitance takes between the top of the supply range and the over-voltage trip (or the "
+        "supply's back-voltage limit, when lower)",
         "stage/bus_capacitance",
         "stage/overvoltage_trip",
     ),
@@ -575,8 +576,47 @@ FIGURES: tuple[FigureDef, ...] = (
         "voltage",
         "V",
         "axis",
-        "bus voltage after braking with no shunt and a supply that takes no current back",
+        "highest bus voltage while braking from the top of the supply range, after what the supply and a "
+        "brake resistor take",
         "stage/bus_capacitance",
+        "stage/supply",
+        "stage/brake_resistor",
+    ),
+    _d(
+        "braking_torque",
+        "torque",
+        "N*m",
+        "axis",
+        "motor torque braking the load from the fastest speed to standstill in load.stop_time",
+        "load/stop_time",
+        "load/inertia",
+    ),
+    _d(
+        "braking_power_peak",
+        "power",
+        "W",
+        "axis",
+        "power braking returns at its start (braking torque times the fastest speed)",
+        "load/stop_time",
+        "load/inertia",
+    ),
+    _d(
+        "braking_supply_energy",
+        "energy",
+        "J",
+        "axis",
+        "share of the braking energy the supply takes back (a battery below its full-charge voltage, at its "
+        "charge current)",
+        "stage/supply/returned_energy",
+        "stage/supply/absorbs_braking_energy",
+    ),
+    _d(
+        "braking_resistor_energy",
+        "energy",
+        "J",
+        "axis",
+        "share of the braking energy the brake resistor takes per stop",
+        "stage/brake_resistor",
     ),
     # --- plausibility: values against each other and the usual ranges of small drives
     _d(
@@ -968,4 +1008,5 @@ REMEDIES: dict[str, str] = {
     "pwm_frequency_inaudible": "the lowest PWM frequency whose ripple lies above the audible band",
     "choke_saturation_current": "the saturation current a choke needs, with margin",
     "loop_bandwidth": "the highest current-loop bandwidth the PWM frequency supports",
+    "brake_resistor": "the largest brake resistor that takes the peak braking power, its turn-on voltage and energy",
 }

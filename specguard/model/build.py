@@ -239,6 +239,18 @@ def consistency(spec: Spec, locate: Locate) -> list[Finding]:
             )
     if motor.terminal_inductance is None and motor.inductance_vs_frequency is None:
         bad(("motor",), "give 'terminal_inductance' or a measured 'inductance_vs_frequency' table")
+    returned = spec.stage.supply.returned_energy
+    if returned is not None and returned.takes == "battery":
+        for key in ("full_charge_voltage", "charge_current_max"):
+            if getattr(returned, key) is None:
+                bad(("stage", "supply", "returned_energy"), f"a battery needs '{key}'")
+    if returned is not None and spec.stage.supply.absorbs_braking_energy is not None:
+        if (returned.takes == "nothing") == bool(spec.stage.supply.absorbs_braking_energy):
+            bad(
+                ("stage", "supply", "absorbs_braking_energy"),
+                f"absorbs_braking_energy: {str(spec.stage.supply.absorbs_braking_energy).lower()} contradicts "
+                f"returned_energy.takes: {returned.takes}",
+            )
     if motor.pwm_loss is not None:
         given = [k for k in ("extra_loss", "extra_temperature_rise") if getattr(motor.pwm_loss, k) is not None]
         if len(given) != 1:

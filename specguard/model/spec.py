@@ -265,6 +265,33 @@ class Motor(_Model):
 
 
 # -------------------------------------------------------------------- stage
+class ReturnedEnergy(_Model):
+    """What the supply does with the energy braking returns to the bus."""
+
+    takes: Literal["battery", "nothing"] = Field(
+        description=(
+            "battery: it charges up to its full-charge voltage at up to its charge current; nothing: it cannot "
+            "sink current (a laboratory supply, a diode rectifier)"
+        )
+    )
+    full_charge_voltage: Voltage | None = Field(None, description="battery: voltage at which charging stops")
+    charge_current_max: Current | None = Field(None, description="battery: largest charge current it accepts")
+    charging_blocked: bool = Field(
+        False, description="battery: a protection circuit may refuse charge (then it takes nothing)"
+    )
+    back_voltage_max: Voltage | None = Field(
+        None, description="highest voltage the supply tolerates at its output; the bus must stay below it"
+    )
+
+
+class BrakeResistor(_Model):
+    """A brake chopper and its resistor on the DC bus."""
+
+    resistance: Resistance = Field(description="resistance of the brake resistor")
+    turn_on_voltage: Voltage = Field(description="bus voltage at which the chopper switches the resistor in")
+    power_rating: Power | None = Field(None, description="continuous power rating of the resistor")
+
+
 class Supply(_Model):
     """The DC supply of the power stage."""
 
@@ -274,6 +301,10 @@ class Supply(_Model):
     )
     absorbs_braking_energy: bool | None = Field(
         None, description="whether the supply can take current back (battery, regenerative supply)"
+    )
+    returned_energy: ReturnedEnergy | None = Field(
+        None,
+        description="what the supply does with returned braking energy, in detail (refines absorbs_braking_energy)",
     )
 
 
@@ -331,6 +362,7 @@ class Stage(_Model):
     current_loop: CurrentLoop | None = None
     bus_capacitance: Capacitance | None = Field(None, description="DC bus capacitance")
     overvoltage_trip: Voltage | None = Field(None, description="bus over-voltage trip level")
+    brake_resistor: BrakeResistor | None = Field(None, description="brake chopper and resistor on the DC bus")
     max_supply_voltage: Voltage | None = Field(None, description="highest rated supply voltage")
 
 
@@ -359,6 +391,9 @@ class Load(_Model):
     """The mechanical load."""
 
     inertia: Inertia = Field(description="load inertia referred to the motor shaft")
+    stop_time: Duration | None = Field(
+        None, description="time to brake from the fastest operating point to standstill (sets the braking power)"
+    )
 
 
 # ---------------------------------------------------------- operating points
