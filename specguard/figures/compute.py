@@ -473,16 +473,38 @@ def compute(spec: Spec, settings: FigureSettings | None = None) -> FigureSet:
     _supply_window(spec, ax, elec, settings, axis, missing)
 
     loop = stage.current_loop
+    loop_names = (
+        "loop_bandwidth_ratio",
+        "loop_bandwidth_max",
+        "loop_phase_margin",
+        "loop_crossover_shift",
+        "loop_tuned_inductance",
+    )
     if loop is None:
-        for name in ("loop_bandwidth_ratio", "loop_bandwidth_max"):
+        for name in loop_names:
             missing[name] = "the spec has no stage.current_loop"
     else:
+        # the loop as built (docs/physics.md §7.3): its own sampling rate (else the PWM
+        # updates), a hold of half a sample plus the computation delay, the feedback
+        # filter, and gains tuned for another inductance moving the crossover
         double = loop.sampling == "double-update"
-        sampling_frequency = ax.f_leg * (2.0 if double else 1.0)
+        sampling_frequency = loop.sampling_frequency or ax.f_leg * (2.0 if double else 1.0)
+        delay = float(P.control.loop_total_delay(sampling_frequency, loop.computation_delay))
+        ratio = (loop.tuned_for_inductance / ax.inductance) if loop.tuned_for_inductance is not None else 1.0
         axis["loop_bandwidth_ratio"] = loop.bandwidth / sampling_frequency
+        margin = math.radians(settings.phase_margin_deg)
         axis["loop_bandwidth_max"] = float(
-            P.control.current_loop_bandwidth_max(ax.f_leg, math.radians(settings.phase_margin_deg), 1.5, double)
+            P.control.loop_bandwidth_max_for_margin(delay, margin, loop.feedback_filter, ratio)
         )
+        axis["loop_phase_margin"] = float(
+            P.control.loop_phase_margin(loop.bandwidth, delay, loop.feedback_filter, ratio)
+        )
+        if loop.tuned_for_inductance is not None:
+            axis["loop_crossover_shift"] = max(ratio, 1.0 / ratio)
+            axis["loop_tuned_inductance"] = loop.tuned_for_inductance
+        else:
+            for name in ("loop_crossover_shift", "loop_tuned_inductance"):
+                missing[name] = "stage.current_loop does not say which inductance the gains were tuned for"
 
     axis["constant_mismatch"] = _constant_mismatch(spec)
     pwm = _pwm_loss(spec, ax, elec, rows, axis, missing, notes)
@@ -1180,6 +1202,19 @@ def remedy(
             )
         r_max = float(P.braking.shunt_resistance_max(v_on, float(peak)))
         return Remedy(name, f"fit a brake resistor of at most {_fmt(r_max, 'resistance')}", r_max, "ohm")
+    if name == "loop_bandwidth_for_margin":
+        loop = spec.stage.current_loop
+        if loop is None:
+            return None
+        double = loop.sampling == "double-update"
+        sampling = loop.sampling_frequency or ax.f_leg * (2.0 if double else 1.0)
+        delay = float(P.control.loop_total_delay(sampling, loop.computation_delay))
+        ratio = (loop.tuned_for_inductance / ax.inductance) if loop.tuned_for_inductance is not None else 1.0
+        value = float(P.control.loop_bandwidth_max_for_margin(delay, limit, loop.feedback_filter, ratio))
+        if not value > 0 or value >= loop.bandwidth:
+            return None
+        text = f"lower the current-loop bandwidth to at most {_fmt(value, 'frequency')}"
+        return Remedy(name, text, value, "Hz")
     if name == "loop_bandwidth":
         loop = spec.stage.current_loop
         if loop is None:

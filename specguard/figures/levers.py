@@ -316,7 +316,7 @@ def lever_for(remedy_name: str, spec) -> Lever | None:
         return SupplyVoltage(at_least=True)
     if remedy_name == "choke_saturation_current":
         return ChokeSaturation()
-    if remedy_name == "loop_bandwidth":
+    if remedy_name in ("loop_bandwidth", "loop_bandwidth_for_margin"):
         return LoopBandwidth()
     if remedy_name == "brake_resistor":
         return BrakeResistorLever()

@@ -270,6 +270,34 @@ FIGURES: tuple[FigureDef, ...] = (
         "operating_points",
     ),
     _d(
+        "loop_phase_margin",
+        "angle",
+        "rad",
+        "axis",
+        "phase margin of the current loop as built: its sampling and computation delay, feedback filter and the "
+        "inductance its gains were tuned for (first-order loop with a pure delay)",
+        "stage/current_loop",
+        "stage/pwm/frequency",
+    ),
+    _d(
+        "loop_crossover_shift",
+        "ratio",
+        "1",
+        "axis",
+        "how many times the loop's crossover lies away from its tuned bandwidth: the inductance the gains were "
+        "tuned for against the loop inductance at the ripple frequency, the larger over the smaller",
+        "stage/current_loop/tuned_for_inductance",
+        *_L,
+    ),
+    _d(
+        "loop_tuned_inductance",
+        "inductance",
+        "H",
+        "axis",
+        "the loop inductance the current-loop gains were tuned for",
+        "stage/current_loop/tuned_for_inductance",
+    ),
+    _d(
         "standstill_hold",
         "flag",
         "",
@@ -1008,5 +1036,6 @@ REMEDIES: dict[str, str] = {
     "pwm_frequency_inaudible": "the lowest PWM frequency whose ripple lies above the audible band",
     "choke_saturation_current": "the saturation current a choke needs, with margin",
     "loop_bandwidth": "the highest current-loop bandwidth the PWM frequency supports",
+    "loop_bandwidth_for_margin": "the highest current-loop bandwidth that keeps the phase margin, the loop as built",
     "brake_resistor": "the largest brake resistor that takes the peak braking power, its turn-on voltage and energy",
 }

@@ -349,6 +349,19 @@ class CurrentLoop(_Model):
     sampling: Literal["single-update", "double-update"] = Field(
         description="current sampled and duty updated once or twice per PWM period"
     )
+    sampling_frequency: Frequency | None = Field(
+        None, description="sampling rate of the current controller, when it differs from the PWM updates"
+    )
+    computation_delay: float = Field(
+        1.0,
+        ge=0.0,
+        le=10.0,
+        description="computation delay of the controller, in samples (1: duty applied next sample)",
+    )
+    feedback_filter: Frequency | None = Field(None, description="corner of the first-order current-feedback filter")
+    tuned_for_inductance: Inductance | None = Field(
+        None, description="the loop inductance the controller gains were tuned for"
+    )
 
 
 class Stage(_Model):

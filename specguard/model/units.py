@@ -231,6 +231,11 @@ _TABLE: dict[str, tuple[str, str, str, dict[str, _Conversion], tuple[str, ...]]]
         {"Wb": _c(), "mWb": _c(-3)},
         ("mWb", "Wb"),
     ),
+    "angle": (
+        "rad", "45 deg", "an angle",
+        {"rad": _c(), "deg": _c(0, math.pi / 180.0)},
+        ("deg",),
+    ),
 }
 
 # Spellings that are not accepted but whose intent is clear enough to name the fix.
