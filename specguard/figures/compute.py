@@ -23,6 +23,7 @@ import math
 from dataclasses import dataclass, field
 
 from .. import physics as P
+from ..model import conventions as C
 from ..model.spec import Spec
 from ..model.units import format_si
 from . import FigureSet, Remedy
@@ -61,14 +62,6 @@ _DC_SCHEMES = {
     "six-step-chop-both": P.hbridge.BIPOLAR,
 }
 _STRATEGIES = {"sinusoidal": P.threephase.SPWM, "space-vector": P.threephase.SVPWM}
-
-# Back-EMF conventions -> factor to the peak phase voltage per rad/s.
-_TO_PHASE_PEAK = {
-    "line-to-line-peak": 1.0 / SQRT3,
-    "line-to-line-rms": SQRT2 / SQRT3,
-    "phase-peak": 1.0,
-    "phase-rms": SQRT2,
-}
 
 
 @dataclass
@@ -260,24 +253,9 @@ def _axis(spec: Spec, settings: FigureSettings) -> _Axis:
 
 
 def _constants(spec: Spec) -> tuple[float, float]:
-    """(torque constant per the current the model uses, back-EMF constant) in SI.
-
-    dc / six-step: torque per dc (block) current and the terminal (line-to-line
-    flat-top) EMF constant; sinusoidal: torque per phase-rms current and the
-    peak-phase EMF constant."""
-    motor = spec.motor
-    kt, kt_conv = motor.torque_constant.value, motor.torque_constant.current
-    ke, ke_conv = motor.back_emf_constant.value, motor.back_emf_constant.voltage
-    if motor.type == "brushed-dc":
-        return kt, ke
-    ke_phase_peak = ke * _TO_PHASE_PEAK[ke_conv]
-    if kt_conv == "phase-peak":
-        kt_rms = kt * SQRT2  # torque per A rms = torque per A peak * sqrt2
-    elif kt_conv == "block":
-        kt_rms = kt  # used as given for six-step; see _electrical
-    else:
-        kt_rms = kt
-    return kt_rms, ke_phase_peak
+    """(torque constant per the current the model uses, back-EMF constant of the loop)
+    in SI, under the declared conventions (specguard.model.conventions)."""
+    return C.torque_constant_model(spec), C.loop_emf_constant(spec)
 
 
 def _clip(value: float, low: float, high: float) -> float:
@@ -633,18 +611,19 @@ def _supply_window(spec, ax, elec, settings, axis, missing):
 
 
 def _constant_mismatch(spec: Spec) -> float:
+    """Declared torque constant against the one the back-EMF constant implies, both read
+    under their conventions (the same reading every figure uses)."""
     motor = spec.motor
     kt, kt_conv = motor.torque_constant.value, motor.torque_constant.current
-    ke, ke_conv = motor.back_emf_constant.value, motor.back_emf_constant.voltage
     if motor.type == "brushed-dc":
-        return float(P.consistency.torque_constant_mismatch(kt, ke, "dc"))
-    # bring k_e to line-to-line peak, then use the physics conventions
-    ke_ll_peak = ke * _TO_PHASE_PEAK[ke_conv] * SQRT3
-    if kt_conv == "phase-rms":
-        return float(P.consistency.torque_constant_mismatch(kt, ke_ll_peak, "line_peak_per_phase_rms"))
+        return float(P.consistency.torque_constant_mismatch(kt, motor.back_emf_constant.value, "dc"))
+    ke_ll_peak = C.line_peak_constant(spec)
+    if C.is_six_step(spec):
+        # per A of block current: ideal 120-degree blocks give T = k_e,ll,flat I
+        return float(P.consistency.torque_constant_mismatch(C.torque_constant_model(spec), ke_ll_peak, "six_step_flat"))
     if kt_conv == "phase-peak":
         return float(P.consistency.torque_constant_mismatch(kt, ke_ll_peak, "line_peak_per_phase_peak"))
-    return float(P.consistency.torque_constant_mismatch(kt, ke_ll_peak, "six_step_flat"))
+    return float(P.consistency.torque_constant_mismatch(kt, ke_ll_peak, "line_peak_per_phase_rms"))
 
 
 # Default conduction regime of the PWM eddy loss by winding construction when the
@@ -1236,23 +1215,13 @@ KELVIN_25C = 298.15
 
 
 def _loop_emf_constant(spec: Spec) -> float:
-    """Back-EMF constant of the current loop [V*s/rad]: the terminal constant (dc),
-    the flat-top line-to-line constant 2 k_e,ph,peak for six-step (two phases
-    conduct, docs/physics.md §4.2), or the peak phase constant (sinusoidal)."""
-    _kt, ke = _constants(spec)
-    if spec.motor.type == "three-phase" and spec.stage.pwm.scheme.startswith("six-step"):
-        return 2.0 * ke
-    return ke
+    """Back-EMF constant of the current loop [V*s/rad] (specguard.model.conventions)."""
+    return C.loop_emf_constant(spec)
 
 
 def _torque_constant_model(spec: Spec) -> float:
     """Torque per ampere of the current the figures call ``current`` (dc, block or phase rms)."""
-    kt, _ke = _constants(spec)
-    motor = spec.motor
-    if motor.type == "three-phase" and spec.stage.pwm.scheme.startswith("six-step"):
-        # T = k_e,ll I for ideal 120-degree blocks (docs/physics.md §4.2) unless a block constant is given
-        return motor.torque_constant.value if motor.torque_constant.current == "block" else _loop_emf_constant(spec)
-    return kt
+    return C.torque_constant_model(spec)
 
 
 def _highest_supply(spec: Spec) -> float:

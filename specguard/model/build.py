@@ -239,6 +239,11 @@ def consistency(spec: Spec, locate: Locate) -> list[Finding]:
             )
     if motor.terminal_inductance is None and motor.inductance_vs_frequency is None:
         bad(("motor",), "give 'terminal_inductance' or a measured 'inductance_vs_frequency' table")
+    from .conventions import convention_problem
+
+    problem = convention_problem(spec)
+    if problem is not None:
+        bad(*problem)
     returned = spec.stage.supply.returned_energy
     if returned is not None and returned.takes == "battery":
         for key in ("full_charge_voltage", "charge_current_max"):
