@@ -610,6 +610,30 @@ def _supply_window(spec, ax, elec, settings, axis, missing):
         missing["supply_window_width"] = missing["supply_max"]
 
 
+def _pulse_windows(ax, pwm, rows, missing) -> None:
+    """At each operating point's leg duty: the shorter of the on- and off-time against
+    the stage's shortest pulse, and the low side's conduction time against the current
+    sense window (docs/physics.md §7.8). A leg that does not switch (duty 0 or 1) is not
+    judged."""
+    period = 1.0 / ax.f_leg
+    for name, window, why in (
+        ("pulse_window_ratio", pwm.min_pulse, "the spec does not give stage.pwm.min_pulse"),
+        ("sense_window_ratio", pwm.current_sense_window, "the spec does not give stage.pwm.current_sense_window"),
+    ):
+        if window is None:
+            missing[name] = why
+            continue
+        for row in rows:
+            duty = float(row["duty"])
+            on = float(P.control.pulse_on_time(duty, ax.f_leg)) if duty > 0 else period
+            off = float(P.control.pulse_off_time(duty, ax.f_leg)) if duty < 1 else period
+            if name == "pulse_window_ratio":
+                switching = [t for t in (on, off) if 0.0 < t < period]
+                row[name] = (min(switching) / window) if switching else math.inf
+            else:
+                row[name] = (off / window) if duty < 1 else 0.0
+
+
 def _constant_mismatch(spec: Spec) -> float:
     """Declared torque constant against the one the back-EMF constant implies, both read
     under their conventions (the same reading every figure uses)."""
@@ -1426,6 +1450,7 @@ def _plausibility(spec, ax, elec, rows, axis, missing):
             missing["min_pulse_over_dead_time"] = "the spec gives no (or a zero) stage.pwm.dead_time"
     else:
         lack(("min_pulse_fraction", "min_pulse_over_dead_time"), "the spec does not give stage.pwm.min_pulse")
+    _pulse_windows(ax, pwm, rows, missing)
     if pwm.timer_clock is not None:
         axis["timer_clock"] = pwm.timer_clock
         counts = pwm.timer_clock / ax.f_leg / (2.0 if pwm.alignment == "center" else 1.0)

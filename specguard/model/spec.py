@@ -326,6 +326,12 @@ class Pwm(_Model):
     max_duty: float = Field(gt=0.5, le=1.0, description="highest duty cycle the stage can produce (0.5 < d <= 1)")
     dead_time: DurationOrZero | None = Field(None, description="dead time per switching edge")
     min_pulse: Duration | None = Field(None, description="shortest pulse the stage can produce")
+    current_sense_window: Duration | None = Field(
+        None,
+        description=(
+            "time the low-side switch must conduct in each period for a valid current sample (low-side shunts)"
+        ),
+    )
     timer_clock: Frequency | None = Field(None, description="clock of the PWM timer")
     alignment: Literal["center", "edge"] | None = Field(None, description="carrier alignment")
 
