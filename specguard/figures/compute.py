@@ -311,6 +311,7 @@ def _electrical(spec: Spec, ax: _Axis, speed: float, torque: float) -> dict[str,
     # the fundamental sees the low-frequency (catalogue) inductance
     l_q_fundamental = motor.q_axis_inductance or ax.inductance_catalogue
     v_ph = P.operating.phase_voltage_peak_dq(speed, p, flux, ax.resistance_hot, l_q_fundamental, i_q)
+    v_d, v_q = P.operating.phase_voltage_dq(speed, p, flux, ax.resistance_hot, l_q_fundamental, i_q)
     v_ph_max = P.operating.phase_voltage_peak_max(V, ax.scheme, ax.max_duty, ax.dead_time, ax.f_leg)
     # need against what the duty range gives, the dead-time loss counted on the need's
     # side as the H-bridge's m_op does: finite and above 1 even when the dead times
@@ -337,6 +338,9 @@ def _electrical(spec: Spec, ax: _Axis, speed: float, torque: float) -> dict[str,
         "duty": duty,
         "modulation_ratio": (v_ph + dead_loss) / v_ph_duty,
         "ripple_modulation": M_top,
+        "electrical_speed": p * speed,
+        "voltage_d": float(v_d),
+        "voltage_q": float(v_q),
         "ripple_pp": ripple_pp,
         "ripple_rms": ripple_rms,
         "ripple_pp_catalogue": ripple_cat,
@@ -412,6 +416,8 @@ def compute(spec: Spec, settings: FigureSettings | None = None) -> FigureSet:
         )
         if ax.topology == "sinusoidal":
             rows[-1]["standstill_hold"] = bool(e.get("standstill_hold"))
+            for name in ("electrical_speed", "voltage_d", "voltage_q"):
+                rows[-1][name] = e[name]
         if e.get("standstill_hold"):
             notes["rms_current"] = (
                 "at standstill with torque one phase carries the current's amplitude continuously: the RMS "
@@ -422,6 +428,8 @@ def compute(spec: Spec, settings: FigureSettings | None = None) -> FigureSet:
             rows[-1]["ripple_pp_linear"] = e["ripple_pp_linear"]
     if ax.topology != "sinusoidal":
         missing["standstill_hold"] = "only a three-phase axis with sinusoidal commutation holds a standing vector"
+        for name in ("electrical_speed", "voltage_d", "voltage_q"):
+            missing[name] = "a d/q view belongs to sinusoidal commutation"
     if ax.topology == "sinusoidal":
         for name in ("current_min", "ripple_pp_linear"):
             missing[name] = "sinusoidal PWM: the ripple changes over the electrical period (see ripple_pp)"
@@ -766,6 +774,10 @@ def _thermal(spec, ax, elec, rows, axis, missing, notes, pwm: _PwmLoss | None = 
         "profile_peak_temperature",
         "profile_mean_temperature",
         "profile_margin",
+        "profile_start_temperature",
+        "copper_loss",
+        "housing_temperature",
+        "runaway_current",
     )
     if thermal is None:
         for name in names:
@@ -788,6 +800,9 @@ def _thermal(spec, ax, elec, rows, axis, missing, notes, pwm: _PwmLoss | None = 
             runaway = True
         else:
             row["winding_temperature"] = t_w
+            copper = i_rms * i_rms * float(P.thermal.resistance_at_temperature(r20, KELVIN_20C, t_w))
+            row["copper_loss"] = copper
+            row["housing_temperature"] = row["ambient"] + (copper + p_extra) * r_ha
             if limit is not None:
                 row["winding_margin"] = limit - t_w
         if limit is not None:
@@ -797,10 +812,13 @@ def _thermal(spec, ax, elec, rows, axis, missing, notes, pwm: _PwmLoss | None = 
     if runaway:
         # a figure is present at every point or absent with its reason
         for row in rows:
-            row.pop("winding_temperature", None)
-            row.pop("winding_margin", None)
+            for name in ("winding_temperature", "winding_margin", "copper_loss", "housing_temperature"):
+                row.pop(name, None)
+        missing["copper_loss"] = "thermal runaway at some operating point: no steady state"
+        missing["housing_temperature"] = missing["copper_loss"]
         missing["winding_temperature"] = "thermal runaway at some operating point: no steady state"
         missing["winding_margin"] = missing["winding_temperature"]
+    axis["runaway_current"] = float(P.thermal.runaway_current(r20, r_wh, r_ha))
     if limit is None:
         for name in ("winding_margin", "continuous_current_max", "rms_current_ratio", "profile_margin"):
             missing[name] = ax.missing.get("winding_temperature_limit", "no temperature limit")
@@ -808,11 +826,21 @@ def _thermal(spec, ax, elec, rows, axis, missing, notes, pwm: _PwmLoss | None = 
         axis["winding_temperature_limit"] = limit
     profile = spec.profile
     if profile is None:
-        for name in ("profile_peak_temperature", "profile_mean_temperature", "profile_margin"):
+        for name in (
+            "profile_peak_temperature",
+            "profile_mean_temperature",
+            "profile_margin",
+            "profile_start_temperature",
+        ):
             missing[name] = "the spec has no motion profile"
         return
     if thermal.winding_time_constant is None or thermal.motor_time_constant is None:
-        for name in ("profile_peak_temperature", "profile_mean_temperature", "profile_margin"):
+        for name in (
+            "profile_peak_temperature",
+            "profile_mean_temperature",
+            "profile_margin",
+            "profile_start_temperature",
+        ):
             missing[name] = "motor.thermal lacks winding_time_constant or motor_time_constant"
         return
     c_w, c_h = P.thermal.capacitances_from_time_constants(
@@ -821,10 +849,16 @@ def _thermal(spec, ax, elec, rows, axis, missing, notes, pwm: _PwmLoss | None = 
     segments = _profile_segments(spec, ax)
     cycle = P.thermal.winding_temperature_cyclic(segments, r20, c_w, c_h, r_wh, r_ha, profile.ambient)
     if cycle.runaway or not math.isfinite(cycle.peak_winding_temperature):
-        for name in ("profile_peak_temperature", "profile_mean_temperature", "profile_margin"):
+        for name in (
+            "profile_peak_temperature",
+            "profile_mean_temperature",
+            "profile_margin",
+            "profile_start_temperature",
+        ):
             missing[name] = "thermal runaway over the profile: no periodic steady state"
         return
     axis["profile_peak_temperature"] = float(cycle.peak_winding_temperature)
+    axis["profile_start_temperature"] = float(cycle.start_winding_temperature)
     axis["profile_mean_temperature"] = float(cycle.mean_winding_temperature)
     if limit is not None:
         axis["profile_margin"] = limit - float(cycle.peak_winding_temperature)

@@ -24,6 +24,7 @@ __all__ = [
     "torque_dq",
     "q_current_for_torque",
     "phase_voltage_peak_dq",
+    "phase_voltage_dq",
     "modulation_index",
     "supply_voltage_min_sinusoidal",
     "phase_voltage_peak_max",
@@ -107,6 +108,31 @@ def q_current_for_torque(torque, pole_pairs, flux_linkage):
     (docs/physics.md §4.3).
     """
     return torque / (1.5 * pole_pairs * flux_linkage)
+
+
+def phase_voltage_dq(
+    mechanical_speed,
+    pole_pairs,
+    flux_linkage,
+    phase_resistance,
+    q_inductance,
+    q_current,
+    d_current=0.0,
+    d_inductance=None,
+):
+    """The d and q components of the steady-state phase voltage of a PMSM ``(v_d, v_q)`` [V].
+
+    Parameters as :func:`phase_voltage_peak_dq`.
+    ``v_d = R i_d - omega_e L_q i_q``, ``v_q = R i_q + omega_e (L_d i_d + psi)``,
+    ``omega_e = p omega_m``; their magnitude is :func:`phase_voltage_peak_dq`.
+    Source: Krishnan, Permanent Magnet Synchronous and Brushless DC Motor Drives, 2010;
+    derived here (docs/physics.md §4.3).
+    """
+    omega_e = pole_pairs * mechanical_speed
+    l_d = q_inductance if d_inductance is None else d_inductance
+    v_d = phase_resistance * d_current - omega_e * q_inductance * q_current
+    v_q = phase_resistance * q_current + omega_e * (l_d * d_current + flux_linkage)
+    return v_d, v_q
 
 
 def phase_voltage_peak_dq(
