@@ -684,7 +684,12 @@ def _compare_parser(sub) -> None:
         "--output", metavar="FILE", help="write the comparison to FILE (atomically) instead of standard output"
     )
     compare.add_argument(
-        "--config", metavar="FILE", help="policy file (default: .specguard.yaml at the root, when present)"
+        "--config", metavar="FILE", help="policy file for every spec (default: the nearest .specguard.yaml)"
+    )
+    compare.add_argument(
+        "--all-changes",
+        action="store_true",
+        help="list every figure change (default: changes of at least 1 %%, sign changes and flags)",
     )
     compare.add_argument("--no-waivers", action="store_true", help="ignore every waiver in the specs (strict mode)")
     _common_options(compare)

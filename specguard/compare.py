@@ -131,7 +131,24 @@ class FigureChange:
             return None
         if o == 0 or not (math.isfinite(o) and math.isfinite(n)):
             return None
+        if (o > 0) != (n > 0) and n != 0:
+            return None  # a percent change across zero says nothing: the values speak
         return (n - o) / abs(o) * 100.0
+
+    def significant(self, threshold: float) -> bool:
+        """A change that matters: a flag flipped, a figure that appeared or went, a sign
+        change, or a relative change of at least ``threshold``."""
+        o, n = self.old, self.new
+        if isinstance(o, bool) or isinstance(n, bool) or o is None or n is None:
+            return True
+        if not (math.isfinite(o) and math.isfinite(n)) or o == 0 or (o > 0) != (n > 0):
+            return True
+        return abs(n - o) / abs(o) >= threshold
+
+
+# Relative change below which a figure change is not shown by default (1 %: below the
+# spread of datasheet values; common practice). `compare --all-changes` shows every one.
+SIGNIFICANT_CHANGE = 0.01
 
 
 @dataclass
@@ -152,6 +169,7 @@ class Comparison:
     fail_level: str
     files: list[FileComparison]
     exit_status: int
+    hidden_changes: int = 0  # figure changes below the significance threshold, not listed
 
 
 def _figure_rows(fs) -> dict[tuple[str | None, str], float | bool]:
@@ -216,13 +234,16 @@ def _match(old: tuple, new: tuple) -> tuple[list, list, list]:
     return sorted(added, key=key), sorted(gone, key=key), sorted(same, key=key)
 
 
-def compare_reports(old_report, new_report, rev: str, commit: str, fail_level: str) -> Comparison:
+def compare_reports(
+    old_report, new_report, rev: str, commit: str, fail_level: str, threshold: float | None = SIGNIFICANT_CHANGE
+) -> Comparison:
     from .findings import SEVERITY_ORDER
 
     old_files = {r.file: r for r in old_report.files}
     new_files = {r.file: r for r in new_report.files}
     files = []
-    threshold = SEVERITY_ORDER[fail_level]
+    level = SEVERITY_ORDER[fail_level]
+    hidden = 0
     failing_new = False
     for name in sorted(set(old_files) | set(new_files)):
         o, n = old_files.get(name), new_files.get(name)
@@ -234,11 +255,15 @@ def compare_reports(old_report, new_report, rev: str, commit: str, fail_level: s
         else:
             added, gone, same = _match(o.findings, n.findings)
             figs = _figure_changes(o.figures, n.figures)
+            if threshold is not None:
+                kept = [fc for fc in figs if fc.significant(threshold)]
+                hidden += len(figs) - len(kept)
+                figs = kept
             change = "changed" if (added or gone or figs) else "unchanged"
             fc = FileComparison(name, change, figs, added, gone, same, n.input_error)
         files.append(fc)
         for f in fc.new:
-            if not f.suppressed and SEVERITY_ORDER[f.severity] >= threshold:
+            if not f.suppressed and SEVERITY_ORDER[f.severity] >= level:
                 failing_new = True
     status = 1 if failing_new else 0
     new_status = new_report.exit_status()
@@ -246,7 +271,7 @@ def compare_reports(old_report, new_report, rev: str, commit: str, fail_level: s
         status = new_status
     if any(f.rule == "internal-error" for f in old_report.findings):
         status = 3
-    return Comparison(rev, commit, fail_level, files, status)
+    return Comparison(rev, commit, fail_level, files, status, hidden)
 
 
 # -------------------------------------------------------------------- output
@@ -319,6 +344,11 @@ def render_text(c: Comparison) -> str:
         f"{s['figures_changed']} figure{'s' if s['figures_changed'] != 1 else ''} changed; "
         f"findings: {s['new']} new, {s['resolved']} resolved, {s['unchanged']} unchanged"
     )
+    if c.hidden_changes:
+        lines.append(
+            f"specguard: {c.hidden_changes} figure change{'s' if c.hidden_changes != 1 else ''} under "
+            f"{SIGNIFICANT_CHANGE * 100:g} % not listed (--all-changes lists them)"
+        )
     return "\n".join(lines) + "\n"
 
 
@@ -534,7 +564,8 @@ def run_compare(args) -> int:
             )
         finally:
             progress.clear()
-    comparison = compare_reports(old_report, new_report, args.rev, commit, fail_level)
+    threshold = None if getattr(args, "all_changes", False) else SIGNIFICANT_CHANGE
+    comparison = compare_reports(old_report, new_report, args.rev, commit, fail_level, threshold)
     render = {"json": render_json, "markdown": render_markdown}.get(args.format, render_text)
     text = render(comparison)
     if output is not None:
