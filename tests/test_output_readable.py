@@ -29,7 +29,10 @@ from tests.test_properties_input import FILE, to_yaml, valid_spec
 ROOT = Path(__file__).resolve().parents[1]
 
 SCIENTIFIC_PERCENT = re.compile(r"\d[eE][+-]?\d+\s*%")
-DOUBLE_NEGATIVE = re.compile(r"-\d[\d.]*\s*\S*\s+below|exceeds by -|short by -|-\d[\d.]*\s*\S*\s+above its")
+# a minus sign of a number (not the one of an exponent, "3.8e-09 mV") before a word of direction
+DOUBLE_NEGATIVE = re.compile(
+    r"(?<![\w.])-\d[\d.]*(?:[eE][+-]?\d+)?\s*\S*\s+(?:below|above its)|exceeds by -|short by -"
+)
 RELATED = re.compile(r"^    (?!fix: )(?P<label>.*\S)  \((?P<place>[^()]+:\d+:\d+)\)$")
 
 

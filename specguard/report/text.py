@@ -56,7 +56,7 @@ def related_label(rel) -> str:
 
 def related_line(rel) -> str:
     """``    motor.terminal_inductance = 179 uH  (robot/library/motors/x.yaml:7:24)``."""
-    return f"    {escape_controls(related_label(rel))}  ({escape_controls(rel.file)}:{rel.line}:{rel.column})"
+    return f"    {escape_controls(related_label(rel))}  ({shown_path(rel.file)}:{rel.line}:{rel.column})"
 
 
 SEVERITIES = ("error", "warning", "info")
