@@ -42,7 +42,7 @@ import hashlib
 import json
 import os
 
-CACHE_FORMAT = 3  # 3: related locations carry a label
+CACHE_FORMAT = 4  # 3: related locations carry a label; 4: findings name their cause
 _SUBDIR = f"results-v{CACHE_FORMAT}"
 _READ_CAP = 16 * 1024 * 1024  # an entry larger than this is damaged
 
@@ -183,6 +183,7 @@ def finding_to_json(f, t: Tables) -> list:
         [list(m) for m in f.meta],
         f.baselined,
         [fix_to_json(x) for x in f.fixes],
+        f.explained_by,
     ]
 
 
@@ -227,7 +228,7 @@ def fix_from_json(d: list):
 def finding_from_json(d: list, t: Tables):
     from .findings import Finding
 
-    (rule, severity, message, loc, related, point, figures, remedies, help_, waived, meta, baselined, fixes) = d
+    (rule, severity, message, loc, related, point, figures, remedies, help_, waived, meta, baselined, fixes, cause) = d
     if not isinstance(rule, str) or not isinstance(message, str):
         raise ValueError("bad finding")
     return Finding(
@@ -244,6 +245,7 @@ def finding_from_json(d: list, t: Tables):
         meta=tuple((a, b) for a, b in meta),
         baselined=baselined,
         fixes=tuple(fix_from_json(x) for x in fixes),
+        explained_by=cause,
     )
 
 

@@ -107,6 +107,8 @@ class Finding:
     meta: tuple[tuple[str, str], ...] = field(default=())
     baselined: bool = False  # held by the baseline file (--baseline)
     fixes: tuple[Fix, ...] = ()  # verified, structured (``remedies`` holds their texts)
+    # the finding this one is a consequence of ("rule-id at 'point'"): one cause, reported once
+    explained_by: str | None = None
     # what a fix aims at: (threshold of the band that fired, threshold of the lowest
     # band, the lowest band's name); set by the engine for rules with remedies
     aim: tuple[float, float, str] | None = field(default=None, compare=False)

@@ -417,7 +417,9 @@ def _rule_findings(
             findings = _verified_fixes(
                 findings, data, spec, figures, locate, pack, overrides, options, settings, judged
             )
-        return findings, figures
+        from .engine.evaluate import group_consequences
+
+        return group_consequences(findings, pack), figures
     except Exception as exc:
         text = " ".join(f"{type(exc).__name__}: {exc}".split())[:300]
         return [_internal(f"the rule pack could not be evaluated on this file: {text}", loc)], figures

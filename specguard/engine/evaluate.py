@@ -294,6 +294,10 @@ def load_pack(extra_dirs: Sequence[Path] = (), pack_cache: str | None = None) ->
         by_id.setdefault(prule.id, prule)
         for alias in prule.rule.aliases:
             aliases.setdefault(alias, prule.id)
+    for prule in rules:
+        for name in prule.rule.explains:
+            if name not in by_id and name not in aliases:
+                problems.append(f"{prule.source}:1:1: explains '{name}', which is no rule of the pack")
     if problems:
         raise PackError(problems)
     return Pack(tuple(rules), by_id, aliases)
@@ -810,4 +814,41 @@ def evaluate(
                     meta=(("rule", prule.id), ("rule_file", prule.source)),
                 )
             )
+    return out
+
+
+def group_consequences(findings: list[Finding], pack: Pack) -> list[Finding]:
+    """One problem reported once: a finding whose rule ``explains`` other rules takes
+    their findings (at the same operating point, or where either is an axis finding) as
+    its consequences; each consequence names its cause (``explained_by``). Counts and the
+    exit status still include every finding. The grouping is data in the rule files."""
+    from dataclasses import replace
+
+    def canonical(rule_id: str) -> str:
+        prule = pack.get(rule_id)
+        return prule.id if prule is not None else rule_id
+
+    by_rule: dict[str, list[int]] = {}
+    for index, f in enumerate(findings):
+        by_rule.setdefault(f.rule, []).append(index)
+    cause_of: dict[int, int] = {}
+    for index, f in enumerate(findings):
+        prule = pack.get(f.rule)
+        if prule is None or not prule.rule.explains or f.suppressed:
+            continue
+        for name in prule.rule.explains:
+            for other in by_rule.get(canonical(name), ()):
+                g = findings[other]
+                if other == index or other in cause_of:
+                    continue
+                same_place = f.operating_point is None or g.operating_point in (None, f.operating_point)
+                if same_place:
+                    cause_of[other] = index
+    if not cause_of:
+        return findings
+    out = list(findings)
+    for other, index in cause_of.items():
+        cause = findings[index]
+        where = f" at '{cause.operating_point}'" if cause.operating_point else ""
+        out[other] = replace(findings[other], explained_by=f"{cause.rule}{where}")
     return out

@@ -184,6 +184,13 @@ class Rule(_Model):
         (), description="remedies to compute (names of the remedy registry)"
     )
     aliases: Annotated[tuple[RuleId, ...], AsTuple] = Field((), description="former ids of this rule")
+    explains: Annotated[tuple[RuleId, ...], AsTuple] = Field(
+        (),
+        description=(
+            "ids of rules whose findings this rule's finding explains (one cause): when both fire at the same "
+            "operating point, or either on the whole axis, those are reported as its consequences"
+        ),
+    )
     examples: Examples
 
     @property

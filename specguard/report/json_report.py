@@ -78,6 +78,7 @@ def finding(f) -> dict:
         "figures": [{"name": n, "value": _number(v), "unit": u} for n, v, u in f.figures],
         "remedies": list(f.remedies),
         "fixes": [fix(x) for x in f.fixes],
+        "explained_by": f.explained_by,
         "help": f.help,
         "waived": f.waived,
         "baselined": bool(getattr(f, "baselined", False)),

@@ -186,6 +186,10 @@ def document(report: Report) -> dict:
             result["fixes"] = sarif_fixes
         if f.help:
             properties["help"] = f.help
+        if f.explained_by is not None:
+            # one cause reported once: this result is a consequence of another
+            properties["explainedBy"] = f.explained_by
+            result["message"]["text"] = f"{result['message']['text']} (a consequence of {f.explained_by})"
         if properties:
             result["properties"] = properties
         suppressions = []
