@@ -43,7 +43,9 @@ def problems(output: str) -> list[str]:
             out.append(f"scientific percentage: {line}")
         if DOUBLE_NEGATIVE.search(line):
             out.append(f"double negative: {line}")
-        if line.startswith("    ") and not line.startswith("    fix: "):
+        # indented lines: a fix, a finding with the same cause as the one above, or a
+        # related location (which must be labelled)
+        if line.startswith("    ") and not line.startswith(("    fix: ", "    same cause: ")):
             match = RELATED.match(line)
             if match is None or "related location" in line or not match.group("label").strip():
                 out.append(f"unlabelled related location: {line}")

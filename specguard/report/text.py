@@ -128,12 +128,16 @@ def render(
     # the findings below that it also explains do not repeat it (JSON and SARIF keep
     # every finding's whole list)
     printed: set[tuple] = set()
+    consequences = _consequences(shown)
+    placed = {id(c) for group in consequences.values() for c in group}
     for finding in shown:
         group = unapplied.get(finding.location.file) if finding.rule == _UNAPPLIED else None
         if group is not None and len(group) > 1 and not finding.suppressed:
             if finding is group[0]:
                 lines.append(unapplied_line(group, colour))
             continue
+        if id(finding) in placed:
+            continue  # printed under its cause
         lines.append(finding_line(finding, colour))
         for rel in finding.related:
             key = (rel.file, rel.line, rel.column)
@@ -142,8 +146,24 @@ def render(
                 lines.append(related_line(rel))
         for remedy in finding.remedies:
             lines.append(f"    fix: {escape_controls(remedy)}")
+        for other in consequences.get(id(finding), ()):
+            lines.append("    same cause: " + finding_line(other, colour))
     lines.append(summary(report, show=show, show_baselined=show_baselined))
     return "\n".join(lines) + "\n"
+
+
+def _consequences(findings) -> dict[int, list]:
+    """id(cause) -> the findings that name it as their cause (``explained_by``), in order."""
+    causes: dict[tuple, object] = {}
+    for f in findings:
+        point = f"{f.rule} at '{f.operating_point}'" if f.operating_point else f.rule
+        causes.setdefault((f.location.file, point), f)
+    out: dict[int, list] = {}
+    for f in findings:
+        cause = causes.get((f.location.file, f.explained_by)) if f.explained_by else None
+        if cause is not None and cause is not f:
+            out.setdefault(id(cause), []).append(f)
+    return out
 
 
 def _plural(n: int, word: str) -> str:
