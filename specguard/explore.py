@@ -161,7 +161,7 @@ def explore(path: Path, root: Path, options=None) -> Exploration:
     """Explore the levers of the spec at ``path`` (raises ValueError when the spec
     cannot be read or built: ``specguard check`` says why)."""
     from .engine.evaluate import load_pack
-    from .figures.levers import PWM_FREQUENCY_MAX, AddedInductance, PwmFrequency, SupplyVoltage, topology
+    from .figures.levers import AddedInductance, PwmFrequency, SupplyVoltage, topology
     from .model import build
     from .pipeline import _overrides, figure_settings, read_spec, relpath
     from .source import Limits
@@ -180,7 +180,7 @@ def explore(path: Path, root: Path, options=None) -> Exploration:
         raise ValueError("is not a valid spec; 'specguard check' says why")
     pack = options.pack if options is not None and options.pack is not None else load_pack()
     overrides = _overrides(rel, options)
-    settings = figure_settings(pack, overrides)
+    settings = figure_settings(pack, overrides, options.config if options is not None else None)
     level = "error"
     if options is not None and options.config is not None:
         level = str(options.config.fail_level.value)
@@ -195,14 +195,14 @@ def explore(path: Path, root: Path, options=None) -> Exploration:
     per_leg = 2.0 if pwm.scheme == "unipolar-phase-shifted" and pwm.frequency_is != "leg" else 1.0
     f_leg = float(figures_now.axis["pwm_frequency_leg"])
     choke = AddedInductance(topology(spec))
-    freq = PwmFrequency(per_leg)
+    freq = PwmFrequency(per_leg, maximum=settings.pwm_frequency_max)
     motor_l = float(figures_now.axis.get("loop_inductance_catalogue") or figures_now.axis["loop_inductance"])
     l_start = max(motor_l * 0.01, 1e-7)
     # rules failing as written that these levers cannot clear: still failing with the
     # PWM frequency at its bound, and with three and with thirty times the motor's
     # inductance added (reported, not searched for)
     trials = (
-        freq.edit(data, spec, PWM_FREQUENCY_MAX),
+        freq.edit(data, spec, settings.pwm_frequency_max),
         choke.edit(data, spec, 3.0 * motor_l),
         choke.edit(data, spec, 30.0 * motor_l),
     )

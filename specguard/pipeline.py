@@ -401,7 +401,7 @@ def _rule_findings(
     try:
         pack = options.pack if options is not None and options.pack is not None else load_pack()
         overrides = _overrides(rel, options)
-        settings = figure_settings(pack, overrides)
+        settings = figure_settings(pack, overrides, options.config if options is not None else None)
     except Exception as exc:
         text = " ".join(f"{type(exc).__name__}: {exc}".split())[:300]
         return [_internal(f"the rule pack could not be evaluated on this file: {text}", loc)], None
@@ -438,18 +438,37 @@ def _no_remedy(*_args, **_kwargs):
 RIPPLE_RULE = "ripple-over-rated-current"
 
 
-def figure_settings(pack, overrides):
+def figure_settings(pack, overrides, config=None):
     """The figures' settings that come from the policy in force: the ripple limit of
-    the supply window is the lowest band of the per-point ripple rule."""
+    the supply window is the lowest band of the per-point ripple rule; the policy's
+    ``modelling`` section sets the inductance estimate, whether estimates soften
+    verdicts, the supply reserve and the PWM-frequency bound of the fixes."""
+    from dataclasses import replace as _replace
+
     from .engine.evaluate import effective_bands
     from .figures import FigureSettings
+    from .model.units import parse_quantity
 
+    settings = FigureSettings()
     prule = pack.get(RIPPLE_RULE)
-    if prule is None:
-        return FigureSettings()
-    override = overrides.get(prule.id)
-    bands = effective_bands(prule, override)
-    return FigureSettings(ripple_limit_ratio=float(bands[-1].threshold))
+    if prule is not None:
+        bands = effective_bands(prule, overrides.get(prule.id))
+        settings = _replace(settings, ripple_limit_ratio=float(bands[-1].threshold))
+    modelling = getattr(getattr(config, "modelling", None), "value", None)
+    if modelling is not None:
+        curves = dict(settings.inductance_curves)
+        for winding, curve in (modelling.inductance_estimate or {}).items():
+            curves[winding] = (curve.exponent, curve.floor)
+        settings = _replace(settings, inductance_curves=tuple(curves.items()))
+        if modelling.estimate_softens_verdicts is not None:
+            settings = _replace(settings, estimate_softens_verdicts=modelling.estimate_softens_verdicts)
+        if modelling.supply_reserve is not None:
+            settings = _replace(settings, reserve_fraction=modelling.supply_reserve)
+        if modelling.fix_pwm_frequency_max is not None:
+            settings = _replace(
+                settings, pwm_frequency_max=parse_quantity(modelling.fix_pwm_frequency_max, "frequency")
+            )
+    return settings
 
 
 # Findings a verdict on the inductance estimate never softens: the estimate's own
@@ -508,6 +527,9 @@ def _estimate_dependence(findings, spec, figures, locate, pack, overrides, setti
             f"; this rests on the estimated inductance ({estimate} in the loop; with the catalogue value "
             f"{catalogue} {shown}the rule {verdict}): measure the inductance at the ripple frequency"
         )
+        if not settings.estimate_softens_verdicts:  # the policy keeps the band; the note stays
+            out.append(_replace(f, message=f.message + note))
+            continue
         softer = lower[f.severity]
         aim = f.aim
         if aim is not None and prule is not None:
@@ -557,7 +579,7 @@ def _verified_fixes(findings, data, spec, figures, locate, pack, overrides, opti
             return None  # not written in the axis file itself (a library value, or absent)
         return (loc.file, loc.line, loc.column, loc.end_line, loc.end_column)
 
-    ctx = FixContext(data, spec, figures, level, run_variant, candidate, region)
+    ctx = FixContext(data, spec, figures, level, run_variant, candidate, region, settings.pwm_frequency_max)
     # variants are judged as evaluated (no softening for the inductance estimate), so the
     # failing findings they are compared with are those of the same judgement
     return verify(findings, ctx, remedy_names, before=judged)

@@ -143,11 +143,40 @@ class ConfigModel(_Model):
     exclude: Annotated[tuple[Glob, ...], AsTuple] = Field(
         (), max_length=100, description="files a directory search skips, even when included"
     )
+    modelling: Modelling | None = Field(
+        None, description="modelling choices: the inductance estimate, how estimates soften verdicts, reserves"
+    )
     unapplied_rules: Literal["report", "hide"] | None = Field(
         None,
         description="report (default): a rule that cannot be applied because the spec lacks what it "
         "needs gives an info finding (the text output gathers them in one line per file); hide: no "
         "such findings",
+    )
+
+
+class EstimateCurve(_Model):
+    """The estimate of a winding's inductance at the ripple frequency from its catalogue
+    value: ``L(f) = L_cat max((f/f_cat)^-exponent, floor)`` (docs/physics.md §5.3)."""
+
+    exponent: float = Field(ge=0.0, le=2.0, description="power-law exponent of the fall with frequency")
+    floor: float = Field(gt=0.0, le=1.0, description="the lowest fraction of the catalogue value")
+
+
+class Modelling(_Model):
+    """Modelling choices that are common practice rather than physics (docs/physics.md)."""
+
+    inductance_estimate: dict[Literal["iron-core", "slotless", "coreless"], EstimateCurve] | None = Field(
+        None, description="the inductance estimate curve per winding construction (missing ones keep the default)"
+    )
+    estimate_softens_verdicts: bool | None = Field(
+        None,
+        description="a finding whose verdict rests on the inductance estimate drops one band (default true)",
+    )
+    supply_reserve: float | None = Field(
+        None, ge=0.0, le=1.0, description="reserve on the lowest supply that reaches every point (default 0.1)"
+    )
+    fix_pwm_frequency_max: Threshold | None = Field(
+        None, description="the highest PWM (leg) frequency a fix may propose, with its unit (default 250 kHz)"
     )
 
 
@@ -368,6 +397,7 @@ class EffectiveConfig:
     exclude: Setting = Setting(())
     extra_rule_dirs: Setting = Setting(())
     unapplied_rules: Setting = Setting("report")  # "hide": no rule-not-applicable findings
+    modelling: Setting = Setting(None)  # a Modelling, or None for the defaults
     extra_rule_paths: tuple[Path, ...] = ()  # resolved, inside the root
     # Root-relative folder the globs and rule directories are relative to: the policy
     # file's own folder for a discovered .specguard.yaml, "" for --config or the root's.
@@ -478,6 +508,7 @@ class EffectiveConfig:
                 str(self.unapplied_rules.value),
                 self.unapplied_rules.origin.describe(),
             ),
+            Explained("run", "modelling", _modelling_text(self.modelling.value), self.modelling.origin.describe()),
         ]
         if changed:
             moved = {
@@ -486,6 +517,7 @@ class EffectiveConfig:
                 "exclude": self.exclude,
                 "extra_rule_dirs": self.extra_rule_dirs,
                 "unapplied_rules": self.unapplied_rules,
+                "modelling": self.modelling,
             }
             out = [out[0]] + [e for e in out[1:] if moved[e.key].origin.kind not in _DEFAULT_KINDS]
         for rule in sorted(self.catalogue):
@@ -773,6 +805,11 @@ def validate(
     for i, entry in enumerate(model.paths):
         if any(seg == ".." for seg in entry.match.split("/")):
             problems.append(_bad(locate, ("paths", i, "match"), f"'{entry.match}' must not contain '..'"))
+    limit = model.modelling.fix_pwm_frequency_max if model.modelling is not None else None
+    if limit is not None:
+        why = _threshold_problem(limit, "frequency")
+        if why is not None:
+            problems.append(_bad(locate, ("modelling", "fix_pwm_frequency_max"), why))
     if problems:
         raise ConfigError(problems)
 
@@ -873,8 +910,30 @@ def validate(
         exclude=top("exclude", model.exclude, ()),
         extra_rule_dirs=top("extra_rule_dirs", model.extra_rule_dirs, ()),
         unapplied_rules=top("unapplied_rules", model.unapplied_rules, "report"),
+        modelling=top("modelling", model.modelling, None),
         extra_rule_paths=tuple(resolved),
         base=base_rel,
+    )
+
+
+def _modelling_text(value: Modelling | None) -> str:
+    """The modelling choices in force, defaults included (``specguard config``)."""
+    from ..figures.compute import FigureSettings
+    from ..figures.levers import PWM_FREQUENCY_MAX
+
+    settings = FigureSettings()
+    curves = dict(settings.inductance_curves)
+    soften, reserve, f_max = True, settings.reserve_fraction, f"{PWM_FREQUENCY_MAX / 1e3:g} kHz"
+    if value is not None:
+        for winding, curve in (value.inductance_estimate or {}).items():
+            curves[winding] = (curve.exponent, curve.floor)
+        soften = soften if value.estimate_softens_verdicts is None else value.estimate_softens_verdicts
+        reserve = reserve if value.supply_reserve is None else value.supply_reserve
+        f_max = f_max if value.fix_pwm_frequency_max is None else str(value.fix_pwm_frequency_max)
+    shown = ", ".join(f"{w} (f/f_cat)^-{n:g} at least {floor:g}" for w, (n, floor) in sorted(curves.items()))
+    return (
+        f"inductance estimate: {shown}; estimate softens verdicts: {'yes' if soften else 'no'}; "
+        f"supply reserve: {reserve:g}; PWM frequency a fix may propose: at most {f_max}"
     )
 
 

@@ -45,6 +45,7 @@ class FixContext:
     # (document path) -> (file, line, column, end line, end column) of a value written
     # in the axis file itself, else None
     region: Callable[[tuple], tuple | None] = lambda _path: None
+    pwm_frequency_max: float = 0.0  # the policy's bound on the PWM-frequency lever (0: default)
     memo: dict | None = None
 
 
@@ -168,7 +169,7 @@ def verify(
         fixes: list[Fix] = []
         unhelpful: list[str] = []
         for name in names:
-            lever = lever_for(name, ctx.spec)
+            lever = lever_for(name, ctx.spec, ctx.pwm_frequency_max)
             remedy = ctx.candidate(name, ctx.spec, ctx.figures, point=finding.operating_point, limit=band_threshold)
             if remedy is None or lever is None:
                 continue

@@ -51,6 +51,10 @@ class FigureSettings:
     reserve_fraction: float = 0.1
     # Phase margin for the delay-limited loop bandwidth (docs/physics.md §7.3).
     phase_margin_deg: float = 45.0
+    # A finding whose verdict rests on the inductance estimate drops one band (policy).
+    estimate_softens_verdicts: bool = True
+    # The highest PWM (leg) frequency a fix may propose [Hz] (policy; common practice).
+    pwm_frequency_max: float = 250e3
 
 
 _DC_SCHEMES = {

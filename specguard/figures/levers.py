@@ -179,16 +179,17 @@ class PwmFrequency(Lever):
     name = "pwm_frequency"
     dimension = "frequency"
 
-    def __init__(self, written_per_leg: float, note: str = "") -> None:
+    def __init__(self, written_per_leg: float, note: str = "", maximum: float = 0.0) -> None:
         self.written_per_leg = written_per_leg  # written frequency / leg frequency
         self.note = note
+        self.maximum = maximum or PWM_FREQUENCY_MAX
 
     def current(self, spec) -> float | None:
         return spec.stage.pwm.frequency
 
     def edit(self, data: Mapping, spec, amount: float) -> Edit | None:
-        if amount > PWM_FREQUENCY_MAX:
-            return None  # not a fix a small drive can take
+        if amount > self.maximum:
+            return None  # not a fix a small drive can take (the policy may move the bound)
         shown_leg, leg = safe_text(amount, "frequency", True)
         written_text, _written = safe_text(leg * self.written_per_leg, "frequency", True)
         new = dict(data)
@@ -301,15 +302,16 @@ def topology(spec) -> str:
     return "six-step" if spec.stage.pwm.scheme.startswith("six-step") else "sinusoidal"
 
 
-def lever_for(remedy_name: str, spec) -> Lever | None:
-    """The lever a remedy of the rule pack moves (``specguard.figures.REMEDIES``)."""
+def lever_for(remedy_name: str, spec, pwm_frequency_max: float = 0.0) -> Lever | None:
+    """The lever a remedy of the rule pack moves (``specguard.figures.REMEDIES``);
+    ``pwm_frequency_max`` bounds the PWM-frequency lever (0: the default)."""
     if remedy_name == "added_inductance":
         return AddedInductance(topology(spec))
     if remedy_name in ("pwm_frequency", "pwm_frequency_inaudible"):
         pwm = spec.stage.pwm
         per_leg = 2.0 if pwm.scheme == "unipolar-phase-shifted" and pwm.frequency_is != "leg" else 1.0
         note = " (re-check the inductance table there)" if spec.motor.inductance_vs_frequency else ""
-        return PwmFrequency(per_leg, note)
+        return PwmFrequency(per_leg, note, pwm_frequency_max)
     if remedy_name in ("supply_voltage_for_ripple", "supply_voltage_for_duty"):
         return SupplyVoltage(at_least=False)
     if remedy_name == "supply_voltage_min":

@@ -1,0 +1,60 @@
+"""The policy's modelling section: the inductance estimate per winding, whether a verdict
+resting on the estimate drops a band, the supply reserve, the bound of the PWM-frequency
+fixes; `specguard config` shows them. Check values: the estimate curve of
+docs/physics.md §5.3 by hand (L_cat max((f/f_cat)^-n, floor))."""
+
+from __future__ import annotations
+
+import json
+import shutil
+
+import pytest
+
+from .helpers import EXAMPLES, run_cli
+
+AXIS = "robot/axes/sample-lift.axis.yaml"
+
+
+@pytest.fixture()
+def repo(tmp_path):
+    repo = tmp_path / "repo"
+    shutil.copytree(EXAMPLES / "robot", repo / "robot")
+    (repo / ".git").mkdir()
+    return repo
+
+
+def _figures(repo):
+    done = run_cli("check", "--format", "json", "--no-cache", AXIS, cwd=repo)
+    return json.loads(done.stdout)["files"][0]
+
+
+def _axis_value(file, name):
+    return next(f["value"] for f in file["figures"]["axis"] if f["name"] == name)
+
+
+def test_the_estimate_curve_and_the_softening_follow_the_policy(repo):
+    before = _figures(repo)
+    (repo / ".specguard.yaml").write_text(
+        "format: 1\nmodelling:\n  inductance_estimate:\n    coreless: {exponent: 0.0, floor: 1.0}\n"
+        "  estimate_softens_verdicts: false\n",
+        encoding="utf-8",
+    )
+    after = _figures(repo)
+    # exponent 0: the catalogue value as it is (the loop's motor share equals the catalogue)
+    assert _axis_value(after, "loop_inductance") == pytest.approx(_axis_value(after, "loop_inductance_catalogue"))
+    assert _axis_value(before, "loop_inductance") < _axis_value(before, "loop_inductance_catalogue")
+    # the sample lift's motor is coreless: with the catalogue value nothing rests on an estimate
+    assert not any("rests on the estimated inductance" in f["message"] for f in after["findings"])
+
+
+def test_a_bad_bound_is_a_config_error(repo):
+    (repo / ".specguard.yaml").write_text("format: 1\nmodelling:\n  fix_pwm_frequency_max: 100\n", encoding="utf-8")
+    done = run_cli("check", "--no-cache", AXIS, cwd=repo)
+    assert done.returncode == 2
+    assert "modelling.fix_pwm_frequency_max" in done.stderr.decode()
+
+
+def test_config_shows_the_modelling_choices(repo):
+    (repo / ".specguard.yaml").write_text("format: 1\nmodelling:\n  supply_reserve: 0.2\n", encoding="utf-8")
+    out = run_cli("config", AXIS, cwd=repo).stdout.decode()
+    assert "supply reserve: 0.2" in out and "iron-core (f/f_cat)^-0.367 at least 0.25" in out
