@@ -185,3 +185,21 @@ def test_policy_ripple_bands_move_the_supply_window_and_the_fixes(demo_tree):
     assert "supply-window-empty" not in {f.rule for f in loose.findings}
     assert loose.figures.value("supply_max") > default.figures.value("supply_max")
     assert not [f for f in loose.findings if f.rule == "ripple-over-rated-current"]
+
+
+def test_the_scheme_fix_of_a_two_level_bridge_closes_its_finding(demo_tree):
+    """The sample lift on a two-level (bipolar) bridge: the three-level scheme is offered
+    as a fix where it clears a ripple finding, and it closes it when applied."""
+    stage = demo_tree / "robot" / "library" / "stages" / "bridge-48v-8a.yaml"
+    stage.write_text(
+        stage.read_text(encoding="utf-8").replace("scheme: unipolar-phase-shifted", "scheme: bipolar"),
+        encoding="utf-8",
+    )
+    report = check_paths([str(demo_tree / "robot" / "axes" / "sample-lift.axis.yaml")], root=demo_tree)
+    scheme_fixes = [
+        x for f in report.findings for x in f.fixes if any(c.pointer == "/stage/pwm/scheme" for c in x.changes)
+    ]
+    assert scheme_fixes  # offered where it clears
+    tally = {"fixes": 0, "closed": 0}
+    assert not _closure(demo_tree, "robot/axes/sample-lift.axis.yaml", tally)
+    assert tally["fixes"] == tally["closed"] > 0

@@ -109,6 +109,8 @@ def _search(ctx: FixContext, lever, finding: Finding, start: float, before_faili
     edit, reached = attempt(start)
     if reached is not None:
         return edit, reached
+    if getattr(lever, "categorical", False):
+        return None  # one edit, no amount to move
     if edit is None and lever.at_least:
         return None  # beyond the lever's bound already: larger steps are too
     sign = 1.0 if lever.at_least else -1.0
@@ -185,7 +187,7 @@ def verify(
             edit, reached = found
             after = _variant(ctx, edit.data)
             text = edit.text
-            if reached != "clear" and lowest_threshold != band_threshold:
+            if reached != "clear" and lowest_threshold != band_threshold and not getattr(lever, "categorical", False):
                 text += _also_clears(ctx, lever, name, finding, lowest_threshold, lowest_band, edit, before_failing)
             fixes.append(
                 Fix(

@@ -1219,6 +1219,10 @@ def remedy(
             return None
         value = float(i_pk) / limit
         return Remedy(name, f"use chokes rated for at least {_fmt(value, 'current')} saturation current", value, "A")
+    if name == "pwm_scheme":
+        if spec.motor.type != "brushed-dc" or spec.stage.pwm.scheme != "bipolar":
+            return None
+        return Remedy(name, "switch to three-level PWM", 1.0, "")
     if name == "brake_resistor":
         window = brake_turn_on(spec)
         if window is None:

@@ -19,6 +19,8 @@ Levers (name, what changes, direction of a fix):
   least.
 - ``choke_saturation_current``: ``chokes.saturation_current``; at least.
 - ``loop_bandwidth``: ``stage.current_loop.bandwidth``; at most.
+- ``pwm_scheme``: an H-bridge's two-level (bipolar) PWM switched to three-level
+  (unipolar, phase-shifted legs); a categorical change, tried as it is.
 - ``brake_resistor``: a brake chopper and resistor (``stage.brake_resistor``) added; its
   resistance at most, its turn-on voltage between the supply's top and the bus limit.
 """
@@ -46,6 +48,7 @@ PWM_FREQUENCY_MAX = 250e3
 # costs this much). Common practice of design reviews: a higher PWM frequency and a
 # choke are cheap changes on paper; another supply voltage or stage is not.
 COST_WEIGHT = {
+    "pwm_scheme": 0.3,  # a setting of the controller, where the bridge drives both legs
     "pwm_frequency": 1.0,
     "added_inductance": 1.0,
     "choke_saturation_current": 1.0,
@@ -104,6 +107,7 @@ class Lever:
     name = ""
     dimension = ""
     at_least = True
+    categorical = False  # an edit without an amount to search (a scheme)
 
     def current(self, spec) -> float | None:
         """The lever's present amount (SI), for the cost of a change."""
@@ -270,6 +274,37 @@ class LoopBandwidth(Lever):
         return Edit(self.name, hertz, text, changes, new, self._cost(spec, hertz))
 
 
+class PwmScheme(Lever):
+    """Switching an H-bridge from two-level (bipolar) to three-level (unipolar) PWM: the
+    load sees half the voltage step, and with phase-shifted legs twice the ripple
+    frequency; the ripple and the PWM eddy loss fall (docs/physics.md §1.2). ``amount``
+    is not used: the edit is the scheme itself (a categorical lever)."""
+
+    name = "pwm_scheme"
+    dimension = ""
+    categorical = True
+    TARGET = "unipolar-phase-shifted"
+
+    def current(self, spec) -> float | None:
+        return 1.0
+
+    def edit(self, data: Mapping, spec, amount: float) -> Edit | None:
+        pwm = spec.stage.pwm
+        if spec.motor.type != "brushed-dc" or pwm.scheme != "bipolar":
+            return None
+        new = dict(data)
+        _set(new, ("stage", "pwm", "scheme"), self.TARGET)
+        changes: list[tuple[str, Any]] = [("/stage/pwm/scheme", self.TARGET)]
+        # the frequency stays the legs' frequency: say so where the spec left it open
+        _set(new, ("stage", "pwm", "frequency_is"), "leg")
+        changes.append(("/stage/pwm/frequency_is", "leg"))
+        text = (
+            "switch the H-bridge to three-level PWM (unipolar, phase-shifted legs at the same leg frequency: "
+            "half the voltage step, twice the ripple frequency)"
+        )
+        return Edit(self.name, 1.0, text, tuple(changes), new, COST_WEIGHT.get(self.name, 0.5))
+
+
 class BrakeResistorLever(Lever):
     """A brake chopper and resistor on the bus: ``amount`` is the resistance (at most);
     the turn-on voltage sits between the supply's top and the bus limit."""
@@ -322,6 +357,8 @@ def lever_for(remedy_name: str, spec, pwm_frequency_max: float = 0.0) -> Lever |
         return LoopBandwidth()
     if remedy_name == "brake_resistor":
         return BrakeResistorLever()
+    if remedy_name == "pwm_scheme":
+        return PwmScheme()
     return None
 
 

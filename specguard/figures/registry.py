@@ -1118,5 +1118,6 @@ REMEDIES: dict[str, str] = {
     "choke_saturation_current": "the saturation current a choke needs, with margin",
     "loop_bandwidth": "the highest current-loop bandwidth the PWM frequency supports",
     "loop_bandwidth_for_margin": "the highest current-loop bandwidth that keeps the phase margin, the loop as built",
+    "pwm_scheme": "three-level (unipolar, phase-shifted) PWM instead of two-level on an H-bridge",
     "brake_resistor": "the largest brake resistor that takes the peak braking power, its turn-on voltage and energy",
 }
