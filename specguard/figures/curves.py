@@ -444,3 +444,62 @@ def unavailable(spec, figures) -> dict[str, str]:
     elif spec.motor.torque_constant.current not in ("dc", "phase-rms"):
         out["profile"] = "torque constant convention is not dc or phase-rms"
     return out
+
+
+class RippleEnvelope(NamedTuple):
+    """Peak-to-peak phase ripple over one electrical revolution (sinusoidal / space-vector PWM)."""
+
+    point: str  # operating point the modulation is taken from
+    angle: np.ndarray  # [rad] electrical angle
+    ripple: np.ndarray  # [A] peak to peak per switching period at that angle
+    modulation: float  # [-] modulation index M = 2 V_ph1,pk / V
+    limit: float  # [A] peak-to-peak limit
+
+
+ENVELOPE_ANGLES = 180
+
+
+def ripple_envelope(spec, figures, fraction: float = DEFAULT_RIPPLE_FRACTION) -> RippleEnvelope | None:
+    """Phase ripple against electrical angle at the operating point with the largest ripple.
+
+    Sinusoidal and space-vector PWM only; the per-angle ripple of the ideal model
+    (resistance neglected over one period), physics.threephase.phase_ripple_numeric
+    (docs/physics.md §2.3), at the point's modulation index (figure ``ripple_modulation``
+    or ``modulation``) and the loop inductance and leg frequency of the figures.
+    """
+    loop = _loop(spec, figures)
+    limit = ripple_limit(spec, figures, fraction)
+    if loop is None or loop[4] != "sinusoidal" or limit is None:
+        return None
+    voltage, inductance, _resistance, frequency, _fam, scheme = loop
+    point = worst_point(spec, figures)
+    if point is None:
+        return None
+    modulation = _num(figures, "ripple_modulation", point)
+    if modulation is None:
+        modulation = _num(figures, "modulation", point)
+    if modulation is None or inductance <= 0.0:
+        return None
+    modulation = min(max(modulation, 0.0), threephase.modulation_index_limit(scheme))
+    numeric = threephase.phase_ripple_numeric(
+        voltage, inductance, frequency, modulation, scheme, angle_count=ENVELOPE_ANGLES
+    )
+    return RippleEnvelope(point, numeric.angles, numeric.peak_to_peak, modulation, limit)
+
+
+class SupplyWindow(NamedTuple):
+    """The supply voltages that satisfy every point (figures ``supply_min``, ``supply_max``)."""
+
+    low: float | None  # [V] supply_min
+    high: float | None  # [V] supply_max
+    voltage: float  # [V] as specified
+    empty: bool  # supply_min above supply_max
+
+
+def supply_window(spec, figures) -> SupplyWindow | None:
+    """The supply window of the figures, or None when neither bound is known."""
+    low, high = _num(figures, "supply_min"), _num(figures, "supply_max")
+    if low is None and high is None:
+        return None
+    voltage = _num(figures, "supply_voltage") or float(spec.stage.supply.voltage)
+    return SupplyWindow(low, high, voltage, low is not None and high is not None and low > high)

@@ -50,9 +50,10 @@ SOFT = "#8a8a8a"
 LIMIT = "#a0522d"
 FILL = "#c9d3dc"
 FILL_BAD = "#d9a38b"
+FIX = "#2f6b4f"
 
 _STYLE = """
-body{font-family:system-ui,sans-serif;color:#222;background:#fff;margin:0 auto;max-width:62rem;
+body{font-family:system-ui,sans-serif;color:#222;background:#fff;margin:0 auto;max-width:64rem;
 padding:1rem 1.5rem;line-height:1.4}
 h1{font-size:1.5rem;margin:.5rem 0}
 h2{font-size:1.25rem;margin:2rem 0 .5rem;border-bottom:2px solid #bbb;padding-bottom:.2rem}
@@ -60,15 +61,40 @@ h3{font-size:1.05rem;margin:1.2rem 0 .4rem}
 .caution{border:1px solid #999;background:#f4f4f4;padding:.6rem .8rem;margin:.8rem 0}
 .verdict{display:inline-block;padding:.1rem .5rem;border:1px solid #666;font-weight:600}
 .v-pass{background:#eef2ee}.v-fail{background:#f3e6e0}.v-unread{background:#eeeeee}
+.headline{margin:.4rem 0;font-size:1rem}.headline .top{font-weight:600}
 table{border-collapse:collapse;margin:.4rem 0;font-size:.9rem}
 th,td{border:1px solid #ccc;padding:.2rem .45rem;text-align:left;vertical-align:top}
 th{background:#f2f2f2}td.num{text-align:right;white-space:nowrap;font-variant-numeric:tabular-nums}
 .meaning{display:block;font-weight:400;color:#555;font-size:.8rem}
-.sev-error{font-weight:700}.sev-warning{font-weight:600}.waived{color:#666}
-.muted{color:#666}code{font-family:ui-monospace,monospace;font-size:.88em;word-break:break-all}
+.waived{color:#666}
+.muted{color:#666}code{font-family:ui-monospace,monospace;font-size:.88em;overflow-wrap:normal;word-break:normal}
+code.id{white-space:nowrap}
+table.findings{width:100%;table-layout:fixed}
+table.findings col.c-sev{width:7.2rem}table.findings col.c-where{width:12.5rem}table.findings col.c-fix{width:17rem}
+table.findings td{overflow-wrap:break-word}
+.sev{white-space:nowrap;font-weight:600}
+tr.sev-error td:first-child{border-left:5px solid #7f2a1c}
+tr.sev-warning td:first-child{border-left:5px dashed #8c6d12}
+tr.sev-info td:first-child{border-left:5px dotted #4f6f8a}
+tr.sev-error .sev{color:#7f2a1c}tr.sev-warning .sev{color:#6f560c}tr.sev-info .sev{color:#3f5d76}
+tr.sev-error{background:#fbf0ec}tr.sev-warning{background:#fbf6e6}
+tr.consequence td:nth-child(n+2){padding-left:1.4rem}tr.consequence .sev{font-weight:400}
+.because{display:block;font-size:.8rem;color:#555}
+ul.fixes{margin:0;padding-left:1rem}ul.edits{margin:.1rem 0 .3rem;padding-left:.8rem;list-style:none}
+.scroll{overflow-x:auto}
 figure{margin:.8rem 0}figcaption{font-size:.85rem;color:#444}
 svg{max-width:100%;height:auto}
 ul.toc{columns:2}
+@media print{
+body{max-width:none;padding:0;font-size:10pt;background:none}
+.caution,th,.verdict,tr.sev-error,tr.sev-warning,.v-pass,.v-fail,.v-unread{background:none}
+section.axis{break-before:page;page-break-before:always}
+tr,figure,.headline{break-inside:avoid;page-break-inside:avoid}
+thead{display:table-header-group}
+h2,h3{break-after:avoid;page-break-after:avoid}
+ul.toc{columns:1}a{color:inherit;text-decoration:none}
+.scroll{overflow:visible}
+}
 """
 
 
@@ -221,6 +247,9 @@ class _Plotter:
             "path.simplify": False,
             "savefig.dpi": 72,
             "axes.formatter.useoffset": False,
+            # a fixed title position: the automatic one measures every tick label again
+            "axes.titley": 1.0,
+            "axes.titlepad": 5.0,
         }
 
     def figure(self, panels: int = 1, height: float = 3.1, bottom: float = 0.16):
@@ -287,9 +316,26 @@ def _label(value: object) -> str:
     return " ".join(clean(value).split())
 
 
+def _legend_below(fig, axes) -> None:
+    """One legend for the figure, below the axes (it never covers data)."""
+    handles, labels, seen = [], [], set()
+    for ax in axes:
+        for h, lab in zip(*ax.get_legend_handles_labels(), strict=True):
+            if lab not in seen and not lab.startswith("_"):
+                seen.add(lab)
+                handles.append(h)
+                labels.append(lab)
+    if handles:
+        fig.legend(handles, labels, loc="lower center", ncol=min(3, len(handles)), bbox_to_anchor=(0.5, 0.0))
+
+
+def _legend_room(bottom: float, entries: int) -> float:
+    return bottom + 0.07 * ((max(entries, 1) + 2) // 3) + 0.02
+
+
 def _plot_waveform(p: _Plotter, wave, salt: str) -> str:
     with p.context():
-        fig = p.figure()
+        fig = p.figure(height=3.6, bottom=_legend_room(0.16, 3))
         ax = fig.add_subplot()
         t_us = wave.time * 1e6
         ax.plot(t_us, wave.current, color=CURVE, label="motor current")
@@ -299,14 +345,17 @@ def _plot_waveform(p: _Plotter, wave, salt: str) -> str:
         ax.set_ylabel("current [A]")
         ax.set_title(f"Current over one PWM period at '{_short(wave.point, 40)}'")
         ax.set_xlim(float(t_us[0]), float(t_us[-1]))
-        ax.legend(loc="upper right")
+        _legend_below(fig, [ax])
         return p.svg(fig, salt)
 
 
-def _plot_sweeps(p: _Plotter, freq, ind, salt: str) -> str:
+_FIX_MARKS = ("v", "^", "s", "D")
+
+
+def _plot_sweeps(p: _Plotter, freq, ind, salt: str, fixes=(), per: str = "per lead") -> str:
     with p.context():
         panels = [s for s in (freq, ind) if s is not None]
-        fig = p.figure(len(panels))
+        fig = p.figure(len(panels), height=3.9, bottom=_legend_room(0.16, 6))
         axes = fig.subplots(1, len(panels), squeeze=False)[0]
         for ax, sweep in zip(axes, panels, strict=True):
             if sweep.variable == "frequency":
@@ -318,21 +367,56 @@ def _plot_sweeps(p: _Plotter, freq, ind, salt: str) -> str:
                 ax.set_xlabel("PWM frequency per leg [kHz]")
                 ax.set_title("Worst-case ripple vs PWM frequency")
                 need_text = "lowest frequency within the limit"
+                marks = [(v / 1e3, lab) for kind, v, lab in fixes if kind == "frequency"]
             else:
                 x = sweep.x * 1e6
                 setting, needed = sweep.setting * 1e6, sweep.x_at_limit
                 needed = None if needed is None else needed * 1e6
-                ax.set_xlabel("added inductance per lead [\u00b5H]")
+                ax.set_xlabel(f"added inductance {per} [\u00b5H]")
                 ax.set_title("Worst-case ripple vs added inductance")
                 need_text = "smallest addition within the limit"
+                marks = [(v * 1e6, lab) for kind, v, lab in fixes if kind == "inductance"]
             ax.plot(x, sweep.ripple, color=CURVE, label="peak-to-peak ripple")
             ax.axhline(sweep.limit, color=LIMIT, linestyle="-.", linewidth=1.2, label="limit")
             ax.plot([setting], [sweep.ripple_at_setting], marker="o", color=INK, linestyle="none", label="as specified")
             if needed is not None and x[0] <= needed <= x[-1]:
                 ax.axvline(needed, color=SOFT, linestyle=":", linewidth=1.2, label=need_text)
+            lo, hi = float(x[0]), float(x[-1])
+            for k, (value, label) in enumerate(marks):
+                ax.axvline(value, color=FIX, linestyle="--", linewidth=1.1)
+                ax.plot(
+                    [value],
+                    [sweep.limit],
+                    marker=_FIX_MARKS[k % len(_FIX_MARKS)],
+                    color=FIX,
+                    linestyle="none",
+                    markersize=7,
+                    label=label,
+                )
+                lo, hi = min(lo, value * (0.9 if sweep.variable == "frequency" else 1.0)), max(hi, value * 1.1)
+            ax.set_xlim(lo, hi)
             ax.set_ylabel("ripple peak-to-peak [A]")
             ax.set_ylim(bottom=0.0)
-            ax.legend(loc="upper right")
+        _legend_below(fig, axes)
+        return p.svg(fig, salt)
+
+
+def _plot_envelope(p: _Plotter, env, salt: str) -> str:
+    import numpy as np
+
+    with p.context():
+        fig = p.figure(height=3.5, bottom=_legend_room(0.16, 2))
+        ax = fig.add_subplot()
+        degrees = np.degrees(env.angle)
+        ax.plot(degrees, env.ripple, color=CURVE, label=f"ripple per PWM period (M = {_g4(env.modulation)})")
+        ax.axhline(env.limit, color=LIMIT, linestyle="-.", linewidth=1.2, label="limit")
+        ax.set_xlim(0.0, 360.0)
+        ax.set_xticks([0, 60, 120, 180, 240, 300, 360])
+        ax.set_ylim(bottom=0.0, top=max(float(np.max(env.ripple)), env.limit) * 1.15)
+        ax.set_xlabel("electrical angle [\u00b0]")
+        ax.set_ylabel("phase ripple peak-to-peak [A]")
+        ax.set_title(f"Phase ripple over one electrical revolution at '{_short(env.point, 30)}'")
+        _legend_below(fig, [ax])
         return p.svg(fig, salt)
 
 
@@ -351,9 +435,14 @@ def _bars(ax, bars, scale: float, colour_bad=None):
 
     values = np.asarray(bars.values, dtype=float) * scale
     shown = np.where(np.isfinite(values), values, 0.0)
-    colours = [FILL_BAD if colour_bad is not None and colour_bad(v) else FILL for v in shown]
+    bad = [colour_bad is not None and bool(colour_bad(v)) for v in shown]
+    colours = [FILL_BAD if b else FILL for b in bad]
     pos = list(range(len(bars.points)))
-    ax.bar(pos, shown, color=colours, edgecolor="#555555", linewidth=0.6)
+    drawn = ax.bar(pos, shown, color=colours, edgecolor="#555555", linewidth=0.6)
+    for patch, b in zip(drawn, bad, strict=True):
+        if b:  # a heavy dark edge as well as the colour: it survives greyscale printing
+            patch.set_edgecolor(INK)
+            patch.set_linewidth(1.8)
     rotate = len(pos) > 4 or any(len(n) > 10 for n in bars.points)
     ax.set_xticks(
         pos, [_short(n) for n in bars.points], rotation=30 if rotate else 0, ha="right" if rotate else "center"
@@ -363,11 +452,43 @@ def _bars(ax, bars, scale: float, colour_bad=None):
             ax.text(k, 0.0, "n/a", ha="center", va="bottom", color=SOFT)
 
 
-def _plot_duty(p: _Plotter, duty, headroom, salt: str) -> str:
+def _supply_panel(ax, window, empty_finding: bool) -> None:
+    low, high, volts = window.low, window.high, window.voltage
+    known = [v for v in (low, high, volts) if v is not None]
+    top = max(known) * 1.25
+    empty = window.empty or empty_finding
+    if empty and low is not None and high is not None:
+        ax.axhspan(
+            min(low, high),
+            max(low, high),
+            facecolor=FILL_BAD,
+            edgecolor=LIMIT,
+            linewidth=1.5,
+            label="empty supply window (supply_min above supply_max)",
+        )
+    elif low is not None and high is not None:
+        ax.axhspan(low, high, facecolor=FILL, edgecolor="none", label="supply window")
+    if low is not None:
+        ax.axhline(low, color=CURVE, linestyle="--", linewidth=1.2, label="supply_min")
+    if high is not None:
+        ax.axhline(high, color=LIMIT, linestyle="-.", linewidth=1.2, label="supply_max")
+    ax.plot([0.0], [volts], marker="o", color=INK, linestyle="none", label="supply as specified")
+    if empty:
+        ax.text(0.0, top * 0.94, "no supply voltage\nmeets both", ha="center", va="top", color=LIMIT, fontsize=8)
+    ax.set_xlim(-1.0, 1.0)
+    ax.set_xticks([])
+    ax.set_ylim(0.0, top)
+    ax.set_ylabel("supply voltage [V]")
+    ax.set_title("Supply window")
+
+
+def _plot_duty(p: _Plotter, duty, headroom, salt: str, window=None, empty_finding: bool = False) -> str:
     with p.context():
         panels = [b for b in (duty, headroom) if b is not None]
-        fig = p.figure(len(panels), bottom=_bar_bottom(panels))
-        axes = fig.subplots(1, len(panels), squeeze=False)[0]
+        count = len(panels) + (window is not None)
+        fig = p.figure(2 if count > 1 else 1, height=3.9, bottom=_legend_room(_bar_bottom(panels), 6))
+        ratios = [2.0] * len(panels) + ([1.1] if window is not None else [])
+        axes = fig.subplots(1, count, squeeze=False, gridspec_kw={"width_ratios": ratios})[0]
         k = 0
         if duty is not None:
             ax = axes[k]
@@ -377,20 +498,23 @@ def _plot_duty(p: _Plotter, duty, headroom, salt: str) -> str:
             ax.set_ylabel("leg duty [%]")
             ax.set_ylim(0.0, 105.0)
             ax.set_title("Duty per operating point")
-            ax.legend(loc="lower right")
         if headroom is not None:
             ax = axes[k]
+            k += 1
             _bars(ax, headroom, 100.0, lambda v: v < 0.0)
             ax.axhline(0.0, color=LIMIT, linewidth=1.0)
             ax.set_ylabel("voltage headroom [%]")
             ax.set_title("Voltage headroom (1 \u2212 needed / available)")
+        if window is not None:
+            _supply_panel(axes[k], window, empty_finding)
+        _legend_below(fig, axes)
         return p.svg(fig, salt)
 
 
 def _plot_thermal(p: _Plotter, margin, trace, salt: str) -> str:
     with p.context():
         panels = [b for b in (margin, trace) if b is not None]
-        fig = p.figure(len(panels), bottom=_bar_bottom([margin] if margin is not None else []))
+        fig = p.figure(len(panels), height=3.6, bottom=_legend_room(_bar_bottom([margin] if margin else []), 2))
         axes = fig.subplots(1, len(panels), squeeze=False)[0]
         k = 0
         if margin is not None:
@@ -427,46 +551,393 @@ def _plot_thermal(p: _Plotter, margin, trace, salt: str) -> str:
             ax.set_xlabel("time within one profile cycle [s]")
             ax.set_ylabel("winding temperature [\u00b0C]")
             ax.set_title("Winding temperature over the profile")
-            ax.legend(loc="upper right")
+        _legend_below(fig, axes)
         return p.svg(fig, salt)
 
 
 # ------------------------------------------------------------------ sections
+_SEV_MARK = {"error": "\u25b2", "warning": "\u25c6", "info": "\u25cb"}
+
+
+def _key(f) -> str:
+    """How a consequence names its cause (``explained_by``)."""
+    return f"{f.rule} at '{f.operating_point}'" if f.operating_point else f.rule
+
+
+def grouped(findings) -> list[tuple[Any, list[Any]]]:
+    """Findings as (cause, consequences) in report order; a consequence whose cause is
+    not among the findings stands on its own."""
+    findings = list(findings)
+    causes: dict[str, int] = {}
+    for i, f in enumerate(findings):
+        if f.explained_by is None:
+            causes.setdefault(_key(f), i)
+    under: dict[int, list[Any]] = {}
+    top: list[int] = []
+    for i, f in enumerate(findings):
+        cause = causes.get(f.explained_by) if f.explained_by is not None else None
+        if cause is None or cause == i:
+            top.append(i)
+        else:
+            under.setdefault(cause, []).append(f)
+    return [(findings[i], under.get(i, [])) for i in top]
+
+
+def top_problem(result):
+    """The most severe finding that is not a consequence of another (spec order on ties)."""
+    best = None
+    for f in result.findings:
+        if f.explained_by is not None or _suppressed(f):
+            continue
+        if best is None or SEVERITY_ORDER.get(f.severity, 0) > SEVERITY_ORDER.get(best.severity, 0):
+            best = f
+    return best
+
+
+def _breakable(value: object) -> str:
+    """Escaped text that may wrap only after a '/', '.' or ':' (never inside a word)."""
+    return re.sub(r"([/.:])", r"\1<wbr>", text(value))
+
+
+def _short_path(path: str) -> str:
+    parts = path.replace("\\", "/").rsplit("/", 1)
+    return parts[-1] if len(parts) > 1 else path
+
+
+def _where(loc) -> str:
+    full = f"{clean(loc.file)}:{loc.line}:{loc.column}"
+    shown = f"{clean(_short_path(loc.file))}:{loc.line}:{loc.column}"
+    out = f'<code title="{_html.escape(full, quote=True)}">{_breakable(shown)}</code>'
+    if loc.pointer:
+        out += f"<br><code>{_breakable(loc.pointer)}</code>"
+    return out
+
+
+def _edit_value(value) -> str:
+    if isinstance(value, (tuple, list)) and value and all(isinstance(v, tuple) and len(v) == 2 for v in value):
+        return ", ".join(f"{text(k)} = {text(v)}" for k, v in value)
+    if isinstance(value, (tuple, list)):
+        return ", ".join(text(v) for v in value)
+    return text(value)
+
+
+def _fixes_cell(f) -> str:
+    fixes = getattr(f, "fixes", ()) or ()
+    if fixes:
+        items = []
+        for fx in fixes:
+            edits = "".join(
+                f"<li><code>{_breakable(c.pointer)}</code> = <code>{_edit_value(c.value)}</code></li>"
+                for c in fx.changes
+            )
+            reach = "" if fx.reaches == "clear" else f' <span class="muted">(leaves {text(fx.reaches)})</span>'
+            items.append(f"<li>{text(fx.text)}{reach}" + (f'<ul class="edits">{edits}</ul>' if edits else "") + "</li>")
+        return f'<ul class="fixes">{"".join(items)}</ul>'
+    remedies = "".join(f"<li>{text(r)}</li>" for r in f.remedies)
+    return f'<ul class="fixes">{remedies}</ul>' if remedies else DASH
+
+
+def _finding_row(f, consequence: bool = False) -> str:
+    cls = f"sev-{text(f.severity)}" + (" consequence" if consequence else "")
+    status = ""
+    if f.waived is not None:
+        status = f'<br><span class="waived">waived: {text(f.waived)}</span>'
+        cls += " waived"
+    elif getattr(f, "baselined", False):
+        status = '<br><span class="waived">held by the baseline</span>'
+        cls += " waived"
+    mark = ("\u21b3 " if consequence else "") + _SEV_MARK.get(f.severity, "?")
+    sev = f'<span class="sev">{mark} {text(f.severity)}</span>'
+    because = (
+        f'<span class="because">consequence of <code class="id">{text(f.explained_by)}</code></span>'
+        if consequence
+        else ""
+    )
+    related = "".join(
+        f'<br><span class="muted">{text(related_label(r))} '
+        f'(<span title="{text(r.file)}:{r.line}:{r.column}">{_breakable(_short_path(r.file))}:{r.line}</span>)</span>'
+        for r in f.related
+    )
+    numbers = "".join(f"<br><code>{text(n)}</code> = {text(_figure_display(n, v, u))}" for n, v, u in f.figures)
+    point = f" at <strong>{text(f.operating_point)}</strong>" if f.operating_point else ""
+    help_text = f'<br><span class="muted">{text(f.help)}</span>' if f.help else ""
+    return (
+        f'<tr class="{cls}"><td>{sev}{status}</td><td>{_where(f.location)}{related}</td>'
+        f'<td><code class="id">{text(f.rule)}</code>{point}{because}<br>{text(f.message)}{numbers}{help_text}</td>'
+        f"<td>{_fixes_cell(f)}</td></tr>"
+    )
+
+
 def _findings_table(result) -> str:
     if not result.findings:
         return '<p class="muted">No findings.</p>'
     rows = []
-    for f in result.findings:
-        loc = f.location
-        where = f"{clean(loc.file)}:{loc.line}:{loc.column}"
-        pointer = f"<br><code>{text(loc.pointer)}</code>" if loc.pointer else ""
-        related = "".join(
-            f'<br><span class="muted">{text(related_label(r))} ({text(r.file)}:{r.line}:{r.column})</span>'
-            for r in f.related
-        )
-        numbers = "<br>".join(f"<code>{text(n)}</code> = {text(_figure_display(n, v, u))}" for n, v, u in f.figures)
-        remedies = "".join(f"<li>{text(r)}</li>" for r in f.remedies)
-        remedies = f"<ul>{remedies}</ul>" if remedies else ""
-        status = ""
-        cls = f"sev-{text(f.severity)}"
-        if f.waived is not None:
-            status = f'<br><span class="waived">waived: {text(f.waived)}</span>'
-            cls += " waived"
-        elif getattr(f, "baselined", False):
-            status = '<br><span class="waived">held by the baseline</span>'
-            cls += " waived"
-        help_text = f'<br><span class="muted">{text(f.help)}</span>' if f.help else ""
-        rows.append(
-            f'<tr class="{cls}"><td>{text(f.severity)}{status}</td>'
-            f"<td><code>{_html.escape(where, quote=True)}</code>{pointer}{related}</td>"
-            f"<td>{text(f.operating_point) if f.operating_point else DASH}</td>"
-            f"<td>{text(f.message)} <code>[{text(f.rule)}]</code>{help_text}</td>"
-            f"<td>{numbers or DASH}</td><td>{remedies or DASH}</td></tr>"
-        )
+    for cause, consequences in grouped(result.findings):
+        rows.append(_finding_row(cause))
+        rows.extend(_finding_row(c, True) for c in consequences)
     return (
-        "<table><thead><tr><th>severity</th><th>location</th><th>point</th><th>message</th>"
-        "<th>numbers</th><th>remedies</th></tr></thead><tbody>" + "".join(rows) + "</tbody></table>"
+        '<table class="findings"><colgroup><col class="c-sev"><col class="c-where"><col><col class="c-fix">'
+        "</colgroup><thead><tr><th>severity</th><th>where</th><th>rule, point and message</th>"
+        "<th>fixes (pointer = value)</th></tr></thead><tbody>" + "".join(rows) + "</tbody></table>"
     )
+
+
+def fix_levers(result) -> list[tuple[str, float, str]]:
+    """The PWM frequency (leg, Hz) and the added inductance (H per lead or phase) each fix
+    of the file proposes: (kind, SI value, label), in finding order, without repeats."""
+    from ..model.units import parse_quantity
+
+    spec = result.spec
+    if spec is None:
+        return []
+    pwm = spec.stage.pwm
+    per_leg = 2.0 if pwm.scheme == "unipolar-phase-shifted" and pwm.frequency_is != "leg" else 1.0
+    chokes = spec.chokes
+    out: list[tuple[str, float, str]] = []
+    seen: set[tuple[str, float]] = set()
+
+    def add(kind: str, value: float, label: str) -> None:
+        key = (kind, round(value, 12))
+        if key not in seen and math.isfinite(value) and value > 0:
+            seen.add(key)
+            out.append((kind, value, label))
+
+    for f in result.findings:
+        for fx in getattr(f, "fixes", ()) or ():
+            for c in fx.changes:
+                try:
+                    if c.pointer == "/stage/pwm/frequency":
+                        leg = parse_quantity(str(c.value), "frequency") / per_leg
+                        add("frequency", leg, f"fix: {show_value(leg, 'frequency')} per leg")
+                    elif c.pointer == "/chokes/inductance" and chokes is not None:
+                        added = parse_quantity(str(c.value), "inductance") - float(chokes.inductance)
+                        where = "per lead" if chokes.placement == "per-lead" else "per phase"
+                        add("inductance", added, f"fix: +{show_value(added, 'inductance')} {where}")
+                    elif c.pointer == "/chokes" and isinstance(c.value, (tuple, list)):
+                        section = dict(c.value)
+                        added = parse_quantity(str(section["inductance"]), "inductance")
+                        where = "per lead" if section.get("placement") == "per-lead" else "per phase"
+                        add("inductance", added, f"fix: +{show_value(added, 'inductance')} {where}")
+                except (ValueError, KeyError, TypeError):
+                    continue
+    return out
+
+
+# ------------------------------------------------------------ feasibility map
+MAP_SIZE = 10  # cells per axis of the feasibility map (10 x 10 variants judged)
+
+
+class _MapContext:
+    """What judging variants needs, loaded once per report (the pack is the heavy part)."""
+
+    def __init__(self, root) -> None:
+        from pathlib import Path
+
+        from ..pipeline import find_root
+
+        self.root = Path(root) if root is not None else find_root(Path.cwd())
+        self._pack = None
+
+    @property
+    def pack(self):
+        if self._pack is None:
+            from ..engine.evaluate import load_pack
+
+            self._pack = load_pack()
+        return self._pack
+
+
+def feasibility(result, fail_level: str, ctx: _MapContext):
+    """Variants of one axis over PWM frequency (leg) x added inductance per lead/phase,
+    each judged by the whole pack as ``specguard explore`` judges them (its ``_Judge``,
+    the levers of figures/levers.py). Returns a dict or None when the spec cannot be
+    re-read here. Cell status: 2 passes at warning level, 1 passes at the fail level,
+    0 fails, -1 not judged (the variant cannot be built). Rules no lever here clears (still
+    failing at the highest frequency and at 3 and 30 times the motor's inductance added)
+    do not count; they are listed."""
+    import numpy as np
+
+    from ..explore import _Judge, _passes
+    from ..figures.levers import PWM_FREQUENCY_MAX, AddedInductance, PwmFrequency, topology
+    from ..model import build
+    from ..pipeline import _overrides, figure_settings, read_spec, relpath
+    from ..source import Limits
+    from ..source.library import LibraryCache, assemble
+
+    spec = result.spec
+    from pathlib import Path
+
+    path = Path(result.file)
+    if not path.is_absolute():
+        path = ctx.root / path if (ctx.root / path).is_file() else Path.cwd() / path
+    if spec is None or not path.is_file():
+        return None
+    try:
+        rel = relpath(path, ctx.root)
+        read = read_spec(path, ctx.root, rel, True)
+        if not isinstance(read, tuple):
+            return None
+        doc = assemble(read[0], read[1], path, ctx.root, Limits(), LibraryCache(Limits()))
+        if doc.data is None:
+            return None
+        spec, _ = build(doc.data, doc.locate)
+        if spec is None:
+            return None
+        pack = ctx.pack
+        overrides = _overrides(rel, None)
+        judge = _Judge(spec, doc.locate, pack, overrides, figure_settings(pack, overrides))
+        now = judge(doc.data)
+    except Exception:  # the map is an aid: a spec it cannot re-read gets none
+        return None
+    if now is None:
+        return None
+    findings_now, figures_now = now
+    pwm = spec.stage.pwm
+    per_leg = 2.0 if pwm.scheme == "unipolar-phase-shifted" and pwm.frequency_is != "leg" else 1.0
+    f_leg = float(figures_now.axis["pwm_frequency_leg"])
+    choke = AddedInductance(topology(spec))
+    freq = PwmFrequency(per_leg)
+    motor_l = float(figures_now.axis.get("loop_inductance_catalogue") or figures_now.axis["loop_inductance"])
+    fixes = fix_levers(result)
+    f_fix = [v for k, v, _ in fixes if k == "frequency"]
+    l_fix = [v for k, v, _ in fixes if k == "inductance"]
+    f_lo = f_leg / 2.0
+    f_hi = min(max([f_leg * 8.0] + [v * 1.3 for v in f_fix]), PWM_FREQUENCY_MAX)
+    l_lo = motor_l * 0.03
+    l_hi = max([motor_l * 30.0] + [v * 1.3 for v in l_fix])
+    freqs = np.geomspace(f_lo, f_hi, MAP_SIZE)
+    henries = np.geomspace(l_lo, l_hi, MAP_SIZE)
+    data = doc.data
+    trials = (
+        freq.edit(data, spec, PWM_FREQUENCY_MAX),
+        choke.edit(data, spec, 3.0 * motor_l),
+        choke.edit(data, spec, 30.0 * motor_l),
+    )
+    levels = list(dict.fromkeys((fail_level, "warning")))
+    stuck: dict[str, frozenset] = {}
+    for band in levels:
+        threshold = SEVERITY_ORDER[band]
+        rules = {f.rule for f in findings_now if SEVERITY_ORDER[f.severity] >= threshold}
+        for edit in trials:
+            judged = judge(edit.data) if edit is not None else None
+            if judged is not None:
+                rules &= {f.rule for f in judged[0] if SEVERITY_ORDER[f.severity] >= threshold}
+        stuck[band] = frozenset(rules)
+    status = np.full((MAP_SIZE, MAP_SIZE), -1, dtype=int)  # [inductance row, frequency column]
+    for j, fq in enumerate(freqs):
+        f_edit = freq.edit(data, spec, float(fq))
+        if f_edit is None:
+            continue
+        for i, henry in enumerate(henries):
+            edit = choke.edit(f_edit.data, spec, float(henry))
+            judged = judge(edit.data) if edit is not None else None
+            if judged is None:
+                continue
+            found = judged[0]
+            if _passes(found, "warning", stuck["warning"]):
+                status[i, j] = 2
+            elif _passes(found, fail_level, stuck[fail_level]):
+                status[i, j] = 1
+            else:
+                status[i, j] = 0
+    where = "per lead" if topology(spec) == "dc" else "per phase"
+    return {
+        "freqs": freqs,
+        "henries": henries,
+        "status": status,
+        "f_now": f_leg,
+        "fixes": fixes,
+        "ignored": sorted(stuck[fail_level] | stuck["warning"]),
+        "where": where,
+        "fail_level": fail_level,
+        "variants": len(judge.memo),
+    }
+
+
+def _edges(values):
+    import numpy as np
+
+    logs = np.log10(values)
+    mids = (logs[1:] + logs[:-1]) / 2.0
+    step = logs[1] - logs[0] if len(logs) > 1 else 0.5
+    return 10.0 ** np.concatenate([[logs[0] - step / 2.0], mids, [logs[-1] + step / 2.0]])
+
+
+MAP_COLOURS = ("#f2f2f2", "#8f4a3a", "#d7b56d", "#cfe0d4")  # not judged, fails, fail level only, warning too
+
+
+def _plot_feasibility(p: _Plotter, fmap, salt: str) -> str:
+    import numpy as np
+    from matplotlib.colors import ListedColormap
+    from matplotlib.patches import Patch
+
+    with p.context():
+        fig = p.figure(height=4.6, bottom=_legend_room(0.14, 7))
+        ax = fig.add_subplot()
+        fx = _edges(fmap["freqs"]) / 1e3
+        ly = _edges(fmap["henries"]) * 1e6
+        ax.pcolormesh(
+            fx,
+            ly,
+            fmap["status"] + 1,
+            cmap=ListedColormap(MAP_COLOURS),
+            vmin=-0.5,
+            vmax=3.5,
+            edgecolors="#ffffff",
+            linewidth=0.6,
+        )
+        # the failing cells also carry a cross, so the map reads in greyscale
+        rows, cols = np.nonzero(fmap["status"] == 0)
+        if len(rows):
+            centres_x = np.sqrt(fx[cols] * fx[cols + 1])
+            centres_y = np.sqrt(ly[rows] * ly[rows + 1])
+            ax.scatter(centres_x, centres_y, marker="x", s=22, color="#f3e6e0", linewidths=1.0)
+        ax.set_xscale("log")
+        ax.set_yscale("log")
+        ax.set_xlim(float(fx[0]), float(fx[-1]))
+        ax.set_ylim(float(ly[0]), float(ly[-1]))
+        ax.set_xlabel("PWM frequency per leg [kHz]")
+        ax.set_ylabel(f"added inductance {fmap['where']} [\u00b5H]")
+        ax.set_title("Feasibility: PWM frequency against added inductance")
+        ax.grid(False)
+        ax.plot(
+            [fmap["f_now"] / 1e3],
+            [float(ly[0])],
+            marker="o",
+            markersize=9,
+            color=INK,
+            linestyle="none",
+            clip_on=False,
+            label="as specified (no inductance added)",
+        )
+        for k, (kind, value, label) in enumerate(fmap["fixes"]):
+            x = value / 1e3 if kind == "frequency" else fmap["f_now"] / 1e3
+            y = value * 1e6 if kind == "inductance" else float(ly[0])
+            ax.plot(
+                [x],
+                [y],
+                marker=_FIX_MARKS[k % len(_FIX_MARKS)],
+                markersize=8,
+                color=FIX,
+                markeredgecolor="white",
+                linestyle="none",
+                clip_on=False,
+                label=label,
+            )
+        handles, labels = ax.get_legend_handles_labels()
+        level = fmap["fail_level"]
+        patches = [
+            Patch(facecolor=MAP_COLOURS[3], edgecolor="#555555", label="passes at warning level"),
+            Patch(facecolor=MAP_COLOURS[2], edgecolor="#555555", label=f"passes at the fail level ({level}) only"),
+            Patch(facecolor=MAP_COLOURS[1], edgecolor="#555555", label="fails (cell crossed)"),
+        ]
+        if bool(np.any(fmap["status"] < 0)):
+            patches.append(Patch(facecolor=MAP_COLOURS[0], edgecolor="#555555", label="not judged (cannot be built)"))
+        every = patches + handles
+        fig.legend(
+            every, [h.get_label() for h in patches] + labels, loc="lower center", ncol=3, bbox_to_anchor=(0.5, 0.0)
+        )
+        return p.svg(fig, salt)
 
 
 def _figure_display(name: str, value, unit: str) -> str:
@@ -580,15 +1051,18 @@ def _spec_summary(spec) -> str:
     return f"<table><tbody>{body}</tbody></table>"
 
 
-def _plots(plotter, spec, fs, index: int, ripple_fraction: float) -> str:
+def _plots(plotter, spec, fs, index: int, ripple_fraction: float, result=None, fmap=None) -> str:
     from ..figures import curves
+    from ..figures.levers import topology
 
     out = []
     salt = f"a{index + 1}"
     reasons = curves.unavailable(spec, fs)
+    fixes = fix_levers(result) if result is not None else []
+    per = "per lead" if topology(spec) == "dc" else "per phase"
 
-    def fig(svg: str, caption: str) -> None:
-        out.append(f"<figure>{svg}<figcaption>{caption}</figcaption></figure>")
+    def fig(svg: str, caption: str, kind: str) -> None:
+        out.append(f'<figure class="plot plot-{kind}">{svg}<figcaption>{caption}</figcaption></figure>')
 
     wave = curves.current_waveform(spec, fs) if fs is not None else None
     if wave is not None:
@@ -597,24 +1071,42 @@ def _plots(plotter, spec, fs, index: int, ripple_fraction: float) -> str:
             f"Exact periodic current at the operating point with the largest ripple ({text(wave.point)}): "
             f"ripple {text(show_value(wave.peak_to_peak, 'current'))} peak-to-peak, average "
             f"{text(show_value(wave.average, 'current'))}, rated {text(show_value(wave.rated_current, 'current'))}.",
+            "waveform",
+        )
+    env = curves.ripple_envelope(spec, fs, ripple_fraction) if fs is not None else None
+    if env is not None:
+        fig(
+            _plot_envelope(plotter, env, f"{salt}-envelope"),
+            f"Peak-to-peak phase ripple of each PWM period over one electrical revolution at "
+            f"{text(env.point)} (modulation index {_g4(env.modulation)}), resistance neglected within a period; "
+            f"largest {text(show_value(float(env.ripple.max()), 'current'))}, limit "
+            f"{text(show_value(env.limit, 'current'))}.",
+            "envelope",
         )
     freq = curves.ripple_vs_frequency(spec, fs, ripple_fraction) if fs is not None else None
     ind = curves.ripple_vs_added_inductance(spec, fs, ripple_fraction) if fs is not None else None
     drawn = freq if freq is not None else ind
     if drawn is not None:
         limit = drawn.limit
+        marked = " Triangles and squares on the limit line mark the proposed fixes." if fixes else ""
         fig(
-            _plot_sweeps(plotter, freq, ind, f"{salt}-sweep"),
+            _plot_sweeps(plotter, freq, ind, f"{salt}-sweep", fixes, per),
             f"Worst case over the reachable duty range; limit {text(show_value(limit, 'current'))} "
-            f"peak-to-peak ({_g4(ripple_fraction * 100)} % of rated current). The dot is the spec as written.",
+            f"peak-to-peak ({_g4(ripple_fraction * 100)} % of rated current). The dot is the spec as written." + marked,
+            "sweep",
         )
     duty = curves.duty_per_point(spec, fs) if fs is not None else None
     headroom = curves.voltage_headroom_per_point(spec, fs) if fs is not None else None
+    window = curves.supply_window(spec, fs) if fs is not None else None
+    empty_finding = result is not None and any(f.rule == "supply-window-empty" for f in result.findings)
     if duty is not None or headroom is not None:
-        fig(
-            _plot_duty(plotter, duty, headroom, f"{salt}-duty"),
-            "Leg duty against the stage's maximum duty; headroom below zero means the point cannot be reached.",
-        )
+        cap = "Leg duty against the stage's maximum duty; headroom below zero means the point cannot be reached."
+        if window is not None and (window.empty or empty_finding):
+            cap += (
+                f" The supply window is empty: supply_min {text(show_value(window.low, 'voltage'))} is above "
+                f"supply_max {text(show_value(window.high, 'voltage'))}."
+            )
+        fig(_plot_duty(plotter, duty, headroom, f"{salt}-duty", window, empty_finding), cap, "duty")
     margin = curves.thermal_margin_per_point(spec, fs) if fs is not None else None
     trace = curves.profile_temperature(spec, fs) if getattr(spec, "profile", None) is not None else None
     if margin is not None or trace is not None:
@@ -624,7 +1116,23 @@ def _plots(plotter, spec, fs, index: int, ripple_fraction: float) -> str:
                 f" Profile: periodic steady state, peak {text(show_value(trace.peak, 'temperature'))}, "
                 f"mean {text(show_value(trace.mean, 'temperature'))}."
             )
-        fig(_plot_thermal(plotter, margin, trace, f"{salt}-thermal"), cap)
+        fig(_plot_thermal(plotter, margin, trace, f"{salt}-thermal"), cap, "thermal")
+    if fmap is not None:
+        ignored = (
+            " Rules no lever here clears are left out of the shading: "
+            + ", ".join(f'<code class="id">{text(r)}</code>' for r in fmap["ignored"])
+            + "."
+            if fmap["ignored"]
+            else ""
+        )
+        fig(
+            _plot_feasibility(plotter, fmap, f"{salt}-map"),
+            f"Each cell is one variant (PWM frequency per leg, inductance added {text(fmap['where'])}) judged by the "
+            f"whole rule pack as <code>specguard explore</code> judges it ({fmap['variants']} variants, policy "
+            f"overrides not applied). The dot is the spec as written; the other marks are the proposed fixes."
+            + ignored,
+            "map",
+        )
     if fs is None:
         reasons = {"all plots": "no figures were computed for this file"}
     shown = {"waveform": wave, "ripple_frequency": freq, "ripple_inductance": ind, "profile": trace}
@@ -635,17 +1143,36 @@ def _plots(plotter, spec, fs, index: int, ripple_fraction: float) -> str:
     return "".join(out)
 
 
-def _axis_section(plotter, result, index: int, fail_level: str, ripple_fraction: float) -> str:
+def _needs_map(result, fail_level: str) -> bool:
+    return result.spec is not None and any(
+        not _suppressed(f) and SEVERITY_ORDER.get(f.severity, 0) >= SEVERITY_ORDER["warning"] for f in result.findings
+    )
+
+
+def _axis_section(plotter, result, index: int, fail_level: str, ripple_fraction: float, ctx=None) -> str:
     cls, words = verdict(result, fail_level)
     spec = result.spec
     name = getattr(getattr(spec, "axis", None), "name", None)
-    title = f'{text(name)} <span class="muted">({text(result.file)})</span>' if name else text(result.file)
+    title = (
+        f'{text(name)} <span class="muted" title="{text(result.file)}">({_breakable(result.file)})</span>'
+        if name
+        else _breakable(result.file)
+    )
     counts = file_counts(result)
+    top = top_problem(result)
+    if top is not None:
+        at = f" at {text(top.operating_point)}" if top.operating_point else ""
+        problem = (
+            f' \u2013 top problem: <span class="top">{_SEV_MARK.get(top.severity, "")} {text(top.severity)}'
+            f'{at}: {text(top.message)}</span> <code class="id">[{text(top.rule)}]</code>'
+        )
+    else:
+        problem = ""
     parts = [
-        f'<section id="{anchor_id(index)}"><h2>{title}</h2>',
-        f'<p><span class="verdict {cls}">{text(words)}</span> '
-        f'<span class="muted">{counts["error"]} error(s), {counts["warning"]} warning(s), '
-        f"{counts['info']} info, {counts['suppressed']} waived or baselined</span></p>",
+        f'<section class="axis" id="{anchor_id(index)}"><h2>{title}</h2>',
+        f'<p class="headline"><span class="verdict {cls}">{text(words)}</span>{problem}</p>',
+        f'<p class="muted">{counts["error"]} error(s), {counts["warning"]} warning(s), '
+        f"{counts['info']} info, {counts['suppressed']} waived or baselined</p>",
     ]
     if result.input_error is not None:
         parts.append(f"<p>Cannot read this input: {text(result.input_error)}</p>")
@@ -656,12 +1183,63 @@ def _axis_section(plotter, result, index: int, fail_level: str, ripple_fraction:
     fs = getattr(result, "figures", None)
     if spec is not None:
         parts.append("<h3>Figures</h3>")
-        parts.append(_figures_tables(fs) if fs is not None else '<p class="muted">No figures were computed.</p>')
-        plots = _plots(plotter, spec, fs, index, ripple_fraction) if plotter is not None else ""
+        parts.append(
+            f'<div class="scroll">{_figures_tables(fs)}</div>'
+            if fs is not None
+            else '<p class="muted">No figures were computed.</p>'
+        )
+        fmap = None
+        if plotter is not None and ctx is not None and fs is not None and _needs_map(result, fail_level):
+            fmap = feasibility(result, fail_level, ctx)
+        plots = _plots(plotter, spec, fs, index, ripple_fraction, result, fmap) if plotter is not None else ""
         if plots:
             parts.append("<h3>Plots</h3>" + plots)
     parts.append("</section>")
     return "".join(parts)
+
+
+_STATE: dict[str, Any] = {}
+
+
+def _section_job(index: int) -> str:
+    report, plotter, ripple_fraction, ctx = _STATE["args"]
+    r = report.files[index]
+    return _axis_section(plotter, r, index, report.fail_level_of(r), ripple_fraction, ctx)
+
+
+def _sections(report, plotter, ripple_fraction: float, ctx, jobs: int | None) -> list[str]:
+    """The axis sections, drawn in up to ``jobs`` forked processes when there are plots
+    to draw (matplotlib and the rule pack are loaded before the fork and inherited);
+    put back in file order, so the report does not depend on the number of processes."""
+    import multiprocessing
+    import sys
+
+    from ..parallel import _block_signals, _unblock_signals, default_jobs
+
+    count = len(report.files)
+    busy = [i for i, r in enumerate(report.files) if r.spec is not None]
+    workers = min(jobs if jobs is not None else min(default_jobs(), 2), len(busy))
+    _STATE["args"] = (report, plotter, ripple_fraction, ctx)
+    try:
+        if plotter is None or workers < 2 or not sys.platform.startswith("linux"):
+            return [_section_job(i) for i in range(count)]
+        if ctx is not None and any(_needs_map(report.files[i], report.fail_level_of(report.files[i])) for i in busy):
+            _ = ctx.pack  # load once, before the fork
+        previous = _block_signals()
+        try:
+            pool = multiprocessing.get_context("fork").Pool(workers)
+        finally:
+            _unblock_signals(previous)
+        try:
+            # the heaviest sections (most findings) first, so the two processes finish together
+            order = sorted(busy, key=lambda i: -len(report.files[i].findings))
+            drawn = dict(zip(order, pool.map(_section_job, order, chunksize=1), strict=True))
+        finally:
+            pool.close()
+            pool.join()
+        return [drawn[i] if i in drawn else _section_job(i) for i in range(count)]
+    finally:
+        _STATE.clear()
 
 
 def plots_unavailable() -> str | None:
@@ -686,6 +1264,9 @@ def render(
     title: str = "specguard review report",
     plots: bool = True,
     plots_note: str | None = None,
+    root=None,
+    feasibility_maps: bool = True,
+    jobs: int | None = None,
 ) -> str:
     """The whole report as one HTML document (a pure function of the report).
 
@@ -693,9 +1274,14 @@ def render(
     set); None prints no time at all. ``ripple_fraction``: the ripple limit as a
     fraction of rated current, when the rule's threshold is not known.
     ``plots=False`` leaves the plots out (and matplotlib unimported); ``plots_note``
-    says why in the report.
+    says why in the report. ``root``: the repository root the files are relative to
+    (default: found from the working directory), for the feasibility maps, which
+    re-read each spec with findings and judge 10 x 10 variants of it
+    (``feasibility_maps=False`` leaves them out). ``jobs``: processes drawing the axis
+    sections (default: the usable cores, at most 2); the output is the same for any number.
     """
     plotter = _Plotter() if plots else None
+    ctx = _MapContext(root) if plots and feasibility_maps else None
     title_note = f'<p class="muted">Plots are not drawn in this report: {text(plots_note)}.</p>' if plots_note else ""
     counts = report.counts()
     status = report.exit_status()
@@ -730,9 +1316,7 @@ def render(
         intro.append(title_note)
     if toc:
         intro.append(f'<ul class="toc">{toc}</ul>')
-    sections = [
-        _axis_section(plotter, r, i, report.fail_level_of(r), ripple_fraction) for i, r in enumerate(report.files)
-    ]
+    sections = _sections(report, plotter, ripple_fraction, ctx, jobs)
     foot = (
         '<p class="muted">Written by specguard. Values in SI internally; shown in readable units.</p></body></html>\n'
     )

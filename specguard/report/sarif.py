@@ -26,6 +26,7 @@ if TYPE_CHECKING:  # the report model sits below the reporters
 
 import hashlib
 import json
+import re
 from urllib.parse import quote
 
 from .json_report import _number, dumps
@@ -105,6 +106,32 @@ def _fix(fix) -> dict | None:
     }
 
 
+def _code_span(value: str) -> str:
+    """``value`` as one inline code span (a fence longer than any backtick run inside)."""
+    value = " ".join(value.split())
+    runs = [len(m) for m in re.findall(r"`+", value)]
+    fence = "`" * (max(runs, default=0) + 1)
+    pad = " " if value.startswith("`") or value.endswith("`") else ""
+    return f"{fence}{pad}{value}{pad}{fence}"
+
+
+def help_markdown(doc) -> str:
+    """A rule's help in Markdown: what it checks, why, the relation as code, the sources."""
+    from .markdown import escape
+
+    why, _, relation = doc.help.partition("\n\nRelation: ")
+    parts = [f"**{escape(doc.title)}**"]
+    if doc.description:
+        parts.append(escape(doc.description))
+    if why.strip():
+        parts.append(escape(why))
+    if relation.strip():
+        parts.append("Relation: " + _code_span(relation))
+    if doc.sources:
+        parts.append("Sources:\n\n" + "\n".join(f"- {escape(src)}" for src in doc.sources))
+    return "\n\n".join(parts)
+
+
 def _descriptors(report) -> list[dict]:
     from ..findings import BUILTIN_IDS
 
@@ -123,7 +150,7 @@ def _descriptors(report) -> list[dict]:
             "name": _pascal(rule_id),
             "shortDescription": {"text": doc.title},
             "fullDescription": {"text": doc.description or doc.title},
-            "help": {"text": help_text or doc.title},
+            "help": {"text": help_text or doc.title, "markdown": help_markdown(doc)},
             "defaultConfiguration": {"level": _LEVEL[doc.default_severity]},
             "properties": properties,
         }

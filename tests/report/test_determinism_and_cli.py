@@ -120,3 +120,18 @@ def test_demo_html_report_is_written(tmp_path: Path):
         env=_env("0"),
     )
     assert (tmp_path / "d.html").stat().st_size > 50_000
+
+
+def test_feasibility_map_svg_is_byte_identical_across_renders():
+    import re
+
+    from specguard.report import html as html_report
+
+    from .figset import demo_report
+
+    def maps() -> list[str]:
+        page = html_report.render(demo_report(), jobs=1)
+        return re.findall(r'<figure class="plot plot-map">(.*?)</figure>', page, re.S)
+
+    first, second = maps(), maps()
+    assert first and first == second

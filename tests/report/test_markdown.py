@@ -65,7 +65,22 @@ def _report_with(text: str) -> Report:
     return Report((result,))
 
 
-OUR_LINE_STARTS = ("### ", "> ", "| ", "|---", "**", "- **", "  - fix: ", "Written by specguard")
+OUR_LINE_STARTS = (
+    "### ",
+    "> ",
+    "| ",
+    "|---",
+    "**",
+    "- **",
+    "  - fix: ",
+    "  - **",
+    "  - consequence: ",
+    "    - fix: ",
+    "    - consequence: ",
+    "      - fix: ",
+    "- consequence: ",
+    "Written by specguard",
+)
 
 
 @settings(max_examples=100, derandomize=True, deadline=None)
@@ -82,8 +97,26 @@ def test_summary_shape_on_demo():
     out = markdown.render(demo_report())
     lines = out.split("\n")
     assert lines[0].startswith("### specguard: ")
-    assert "| file | verdict | errors | warnings | info | waived |" in lines
+    assert lines[4].startswith("| axis | verdict | errors | warnings | info | waived | worst ripple")
     assert any(line.startswith("| examples/robot/axes/sample\\-lift") or "sample-lift" in line for line in lines)
-    assert "**Figures that matter**" in out
+    assert "- **axis sample-lift (examples/robot/axes/sample-lift.axis.yaml)**" in lines
+    assert "- **\u21b3 " in out and "(consequence of " in out  # consequences stand under their cause
+    assert "left out" not in out  # the demo fits
     assert "specguard is a design aid, not a safety assessment." in out
     assert "<" not in out.replace("\u2013", "")
+
+
+def test_huge_report_stays_under_the_limit_and_says_what_it_left_out():
+    base = demo_report()
+    failing = next(r for r in base.files if r.file.endswith("pipette-x.axis.yaml"))
+    copies = tuple(dataclasses.replace(failing, file=f"axes/copy-{k:03d}.axis.yaml") for k in range(300))
+    report = Report(copies, fail_level=base.fail_level)
+    out = markdown.render(report, full_report="review.html")
+    assert len(out) <= markdown.LIMIT < 65_536
+    total = 300 * len(failing.findings)
+    last = [line for line in out.split("\n") if "findings left out" in line]
+    assert len(last) == 1, last
+    left = int(last[0].removeprefix("> ").strip("*").split(" of ")[0])
+    assert 0 < left < total and f" of {total} findings left out" in last[0]
+    assert "review.html" in last[0]
+    assert out.count("| fails |") >= 1
