@@ -397,6 +397,14 @@ def valid_spec(draw):
                 for _ in range(draw(st.integers(1, 4)))
             ],
         }
+    if three:
+        # the constants' conventions must fit the EMF shape (specguard.model.conventions):
+        # a trapezoidal (six-step) EMF has no RMS constant, a block current is six-step's
+        six_step = pwm["scheme"].startswith("six-step")
+        if six_step and motor["back_emf_constant"]["voltage"].endswith("-rms"):
+            motor["back_emf_constant"]["voltage"] = motor["back_emf_constant"]["voltage"].replace("-rms", "-peak")
+        if not six_step and motor["torque_constant"]["current"] == "block":
+            motor["torque_constant"]["current"] = "phase-rms"
     return spec
 
 

@@ -318,7 +318,10 @@ def test_every_spec_has_many_mutants(outcome):
 # (SLIP_PRONE_REQUIRED), and their all-field rates are regression floors.
 # Floors: rates reached when the plausibility rules were added (a change which
 # loses kills shows up; raise them as rules improve).
-FLOORS = {"x1000": 0.95, "x0.001": 0.92, "x9.549": 0.88, "x0.1047": 0.77, "xsqrt2": 0.45, "xsqrt3": 0.50}
+# x0.1047 was 0.77: the current-loop low-bandwidth info now fires below 20 Hz only (a loop
+# bandwidth of a few hundred hertz is a plausible design, not a unit slip), so a 2 kHz
+# bandwidth read as 209 Hz is no longer caught; measured 76.2 % after that change.
+FLOORS = {"x1000": 0.95, "x0.001": 0.92, "x9.549": 0.88, "x0.1047": 0.75, "xsqrt2": 0.45, "xsqrt3": 0.50}
 
 
 def _required_all_fields(factor: str) -> float | None:

@@ -239,7 +239,7 @@ def test_waivers_are_applied_after_the_cache(demo_repo, cache_env, monkeypatch):
     spec.write_text(
         spec.read_text(encoding="utf-8")
         + (
-            "waivers:\n  - rule: ripple-over-rated-current\n    at: hold\n"
+            "waivers:\n  - rule: ripple-over-rated-current\n    at: lift\n"
             "    reason: bench test shows it is fine\n    approved_by: lead\n"
             "    expires: 2030-01-01\n"
         ),
