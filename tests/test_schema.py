@@ -66,6 +66,7 @@ def _walk(node, schema, path=()):
 DIMENSIONLESS = {
     ("stage", "pwm", "max_duty"): "a duty cycle is a fraction",
     ("motor", "pwm_loss", "at_duty"): "a duty cycle is a fraction",
+    ("stage", "current_loop", "computation_delay"): "a count of samples",
     ("motor", "pole_pairs"): "a count",
     ("chokes", "count"): "a count",
     ("format",): "the format version",
