@@ -17,7 +17,6 @@ table holds the passing amount it found, never an untested one.
 from __future__ import annotations
 
 import json
-import math
 from collections.abc import Callable
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -130,31 +129,9 @@ def _least(lever, start: float, judge: Callable, data: dict, spec, level: str, i
             return edit, None
         return edit, judged[1]
 
-    sign = 1.0 if lever.at_least else -1.0
-    low = start
-    found = None
-    for step in _GRID:
-        amount = start * (1.0 + step) if sign > 0 else start / (1.0 + step)
-        edit, figures = attempt(amount)
-        if edit is None:
-            return None  # past the lever's bound
-        if figures is not None:
-            found = (amount, edit, figures)
-            break
-        low = amount
-    if found is None:
-        return None
-    high, edit, figures = found
-    while max(high, low) / min(high, low) - 1.0 > _RESOLUTION:
-        mid = math.sqrt(low * high)
-        trial, got = attempt(mid)
-        if trial is not None and trial.amount == edit.amount:
-            break
-        if got is not None:
-            high, edit, figures = mid, trial, got
-        else:
-            low = mid
-    return edit, figures
+    from .engine.fixes import step_and_bisect
+
+    return step_and_bisect(start, lever.at_least, attempt, _GRID, _RESOLUTION)
 
 
 def explore(path: Path, root: Path, options=None) -> Exploration:

@@ -113,31 +113,39 @@ def _search(ctx: FixContext, lever, finding: Finding, start: float, before_faili
         return None  # one edit, no amount to move
     if edit is None and lever.at_least:
         return None  # beyond the lever's bound already: larger steps are too
-    sign = 1.0 if lever.at_least else -1.0
+    return step_and_bisect(start, lever.at_least, attempt, _STEPS if steps is None else steps)
+
+
+def step_and_bisect(start: float, at_least: bool, attempt, steps=_STEPS, resolution: float = _RESOLUTION):
+    """The least passing amount of a lever beyond ``start``: step outwards by the relative
+    ``steps`` until ``attempt(amount)`` passes, then bisect (geometric mean) back until
+    the bracket is narrower than ``resolution`` or the printed amount stops moving.
+    ``attempt(amount)`` returns (edit, outcome): edit None past the lever's bound,
+    outcome None when the variant does not pass. Returns (edit, outcome) or None."""
     low = start
     found = None
-    for step in _STEPS if steps is None else steps:
-        amount = start * (1.0 + step) if sign > 0 else start / (1.0 + step)
-        edit, reached = attempt(amount)
-        if reached is not None:
-            found = (amount, edit, reached)
+    for step in steps:
+        amount = start * (1.0 + step) if at_least else start / (1.0 + step)
+        edit, outcome = attempt(amount)
+        if outcome is not None:
+            found = (amount, edit, outcome)
             break
         if edit is None:
-            break  # past the lever's bound
+            return None  # past the lever's bound
         low = amount
     if found is None:
         return None
-    high, best_edit, best_reached = found
-    while max(high, low) / min(high, low) - 1.0 > _RESOLUTION:
+    high, best_edit, best = found
+    while max(high, low) / min(high, low) - 1.0 > resolution:
         mid = math.sqrt(low * high)
-        edit, reached = attempt(mid)
+        edit, outcome = attempt(mid)
         if edit is not None and best_edit is not None and edit.amount == best_edit.amount:
             break  # the printed value no longer moves
-        if reached is not None:
-            high, best_edit, best_reached = mid, edit, reached
+        if outcome is not None:
+            high, best_edit, best = mid, edit, outcome
         else:
             low = mid
-    return best_edit, best_reached
+    return best_edit, best
 
 
 def _side_effects(ctx: FixContext, edit, after: list[Finding] | None, before: list[Finding]) -> tuple[str, ...]:
