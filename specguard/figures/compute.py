@@ -440,12 +440,9 @@ def compute(spec: Spec, settings: FigureSettings | None = None) -> FigureSet:
     worst = _worst_ripple(spec, ax, ax.inductance)
     axis["ripple_pp_worst"] = worst
     axis["ripple_ratio_worst"] = worst / rated
-    if ax.flags.get("inductance_estimated"):
-        # what the estimate of the inductance does to the worst case (the catalogue
-        # value in the loop instead)
-        axis["ripple_ratio_worst_catalogue"] = _worst_ripple(spec, ax, ax.inductance_catalogue) / rated
-    else:
-        missing["ripple_ratio_worst_catalogue"] = "the inductance at the ripple frequency is not an estimate"
+    # the worst case with the catalogue inductance in the loop instead (what an estimate,
+    # or a measured table, does to it)
+    axis["ripple_ratio_worst_catalogue"] = _worst_ripple(spec, ax, ax.inductance_catalogue) / rated
     axis["modulation_max"] = max(e["modulation"] for e in elec)
 
     # discontinuous conduction: only with diode freewheeling (docs/physics.md §1.6)

@@ -175,7 +175,7 @@ FIGURES: tuple[FigureDef, ...] = (
         "1",
         "axis",
         "worst-case ripple over the rated current with the catalogue inductance in the loop instead of the "
-        "estimate at the ripple frequency (only when the inductance is an estimate)",
+        "inductance at the ripple frequency (an estimate, or a measured table)",
         *_PWM,
         *_L,
     ),
