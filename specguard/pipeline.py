@@ -757,13 +757,16 @@ PARALLEL_MIN_FILES = 8
 
 
 def policy_text(rel: str, options: RunOptions | None) -> str:
-    """The effective policy for one file as text, for the cache key."""
+    """The effective policy for one file as text, for the cache key: the rule overrides
+    and the modelling choices (both change the figures or the findings)."""
     overrides = _overrides(rel, options)
     held = _POLICY_TEXT.get(id(overrides))
     if held is None or held[0] is not overrides:
         held = (overrides, repr(sorted((k, repr(v)) for k, v in overrides.items())))
         _POLICY_TEXT[id(overrides)] = held
-    return held[1]
+    config = options.config if options is not None else None
+    modelling = getattr(getattr(config, "modelling", None), "value", None)
+    return held[1] if modelling is None else held[1] + "|modelling=" + repr(modelling)
 
 
 _POLICY_TEXT: dict[int, tuple[dict, str]] = {}

@@ -58,3 +58,18 @@ def test_config_shows_the_modelling_choices(repo):
     (repo / ".specguard.yaml").write_text("format: 1\nmodelling:\n  supply_reserve: 0.2\n", encoding="utf-8")
     out = run_cli("config", AXIS, cwd=repo).stdout.decode()
     assert "supply reserve: 0.2" in out and "iron-core (f/f_cat)^-0.367 at least 0.25" in out
+
+
+def test_a_modelling_change_is_never_answered_from_the_cache(repo, tmp_path):
+    """The result cache keys each file by its policy; the modelling section changes the
+    figures, so it is part of that key (a warm run after the change equals a cold one)."""
+    env = {"SPECGUARD_CACHE_DIR": str(tmp_path / "cache")}
+    first = run_cli("check", "--format", "json", AXIS, cwd=repo, env=env)
+    (repo / ".specguard.yaml").write_text(
+        "format: 1\nmodelling:\n  inductance_estimate:\n    coreless: {exponent: 0.0, floor: 1.0}\n",
+        encoding="utf-8",
+    )
+    warm = run_cli("check", "--format", "json", AXIS, cwd=repo, env=env)
+    cold = run_cli("check", "--format", "json", "--no-cache", AXIS, cwd=repo)
+    assert warm.stdout == cold.stdout
+    assert warm.stdout != first.stdout
