@@ -123,6 +123,11 @@ class Finding:
         return (loc.file, loc.line, loc.column, self.rule, self.operating_point or "", self.message)
 
 
+def cause_name(finding: Finding) -> str:
+    """How a consequence names its cause (``explained_by``): "rule-id at 'point'"."""
+    return f"{finding.rule} at '{finding.operating_point}'" if finding.operating_point else finding.rule
+
+
 def dotted(path: tuple[str | int, ...]) -> str:
     """A document path for messages: ``operating_points[2].speed``."""
     out = ""

@@ -24,7 +24,7 @@ from typing import Any
 from pydantic import ValidationError
 
 from ..figures.registry import FIGURE_DEFS
-from ..findings import Finding, Location, dotted
+from ..findings import Finding, Location, cause_name, dotted
 from .pack import (
     POINT,
     CompiledBand,
@@ -849,6 +849,5 @@ def group_consequences(findings: list[Finding], pack: Pack) -> list[Finding]:
     out = list(findings)
     for other, index in cause_of.items():
         cause = findings[index]
-        where = f" at '{cause.operating_point}'" if cause.operating_point else ""
-        out[other] = replace(findings[other], explained_by=f"{cause.rule}{where}")
+        out[other] = replace(findings[other], explained_by=cause_name(cause))
     return out

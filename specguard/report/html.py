@@ -31,7 +31,7 @@ from typing import Any
 
 from ..findings import SEVERITY_ORDER
 from .safe import escape_controls
-from .text import related_label
+from .text import grouped, related_label
 
 DASH = "\u2013"
 UNDERSCORE = "_"
@@ -557,30 +557,6 @@ def _plot_thermal(p: _Plotter, margin, trace, salt: str) -> str:
 
 # ------------------------------------------------------------------ sections
 _SEV_MARK = {"error": "\u25b2", "warning": "\u25c6", "info": "\u25cb"}
-
-
-def _key(f) -> str:
-    """How a consequence names its cause (``explained_by``)."""
-    return f"{f.rule} at '{f.operating_point}'" if f.operating_point else f.rule
-
-
-def grouped(findings) -> list[tuple[Any, list[Any]]]:
-    """Findings as (cause, consequences) in report order; a consequence whose cause is
-    not among the findings stands on its own."""
-    findings = list(findings)
-    causes: dict[str, int] = {}
-    for i, f in enumerate(findings):
-        if f.explained_by is None:
-            causes.setdefault(_key(f), i)
-    under: dict[int, list[Any]] = {}
-    top: list[int] = []
-    for i, f in enumerate(findings):
-        cause = causes.get(f.explained_by) if f.explained_by is not None else None
-        if cause is None or cause == i:
-            top.append(i)
-        else:
-            under.setdefault(cause, []).append(f)
-    return [(findings[i], under.get(i, [])) for i in top]
 
 
 def top_problem(result):

@@ -14,7 +14,7 @@ and e-mail autolinks; every line starts with text of our own (``|``, ``-``,
 
 from __future__ import annotations
 
-from typing import TYPE_CHECKING, Any
+from typing import TYPE_CHECKING
 
 if TYPE_CHECKING:  # the report model sits below the reporters
     from ..results import Report
@@ -24,6 +24,7 @@ import re
 
 from ..findings import SEVERITY_ORDER
 from .safe import escape_controls
+from .text import grouped
 
 CAUTION = (
     "specguard is a design aid, not a safety assessment. Drive electronics work with high "
@@ -115,28 +116,6 @@ def _axis_name(r) -> str:
     return getattr(getattr(r.spec, "axis", None), "name", None) or ""
 
 
-def _key(f) -> str:
-    return f"{f.rule} at '{f.operating_point}'" if f.operating_point else f.rule
-
-
-def _grouped(findings) -> list[tuple[Any, list]]:
-    """(cause, consequences) in report order; a consequence whose cause is absent stands alone."""
-    findings = list(findings)
-    causes: dict[str, int] = {}
-    for i, f in enumerate(findings):
-        if f.explained_by is None:
-            causes.setdefault(_key(f), i)
-    under: dict[int, list] = {}
-    top = []
-    for i, f in enumerate(findings):
-        cause = causes.get(f.explained_by) if f.explained_by is not None else None
-        if cause is None or cause == i:
-            top.append(i)
-        else:
-            under.setdefault(cause, []).append(f)
-    return [(findings[i], under.get(i, [])) for i in top]
-
-
 def _change_text(value) -> str:
     if isinstance(value, (tuple, list)) and value and all(isinstance(v, tuple) and len(v) == 2 for v in value):
         return ", ".join(f"{escape(k)} = {escape(v)}" for k, v in value)
@@ -175,7 +154,7 @@ def _file_blocks(r) -> list[tuple[int, list[str]]]:
     name = _axis_name(r)
     title = f"{escape(name)} ({escape(r.file)})" if name else escape(r.file)
     blocks: list[tuple[int, list[str]]] = [(0, ["", f"- **axis {title}**"])]
-    groups = _grouped(r.findings)
+    groups = grouped(r.findings)
     order: list[str | None] = []
     for cause, _ in groups:
         if cause.operating_point not in order:

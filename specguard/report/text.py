@@ -8,8 +8,9 @@ if TYPE_CHECKING:  # the report model sits below the reporters
     from ..results import Report
 
 import os
-from typing import TextIO
+from typing import Any, TextIO
 
+from ..findings import cause_name
 from .safe import escape_controls
 
 _COLOURS = {"error": "\x1b[31m", "warning": "\x1b[33m", "info": "\x1b[36m"}
@@ -152,12 +153,31 @@ def render(
     return "\n".join(lines) + "\n"
 
 
+def grouped(findings) -> list[tuple[Any, list[Any]]]:
+    """Findings as (cause, consequences) in report order (the HTML and Markdown reports
+    of one file); a consequence whose cause is not among the findings stands alone."""
+    findings = list(findings)
+    causes: dict[str, int] = {}
+    for i, f in enumerate(findings):
+        if f.explained_by is None:
+            causes.setdefault(cause_name(f), i)
+    under: dict[int, list[Any]] = {}
+    top: list[int] = []
+    for i, f in enumerate(findings):
+        cause = causes.get(f.explained_by) if f.explained_by is not None else None
+        if cause is None or cause == i:
+            top.append(i)
+        else:
+            under.setdefault(cause, []).append(f)
+    return [(findings[i], under.get(i, [])) for i in top]
+
+
 def _consequences(findings) -> dict[int, list]:
-    """id(cause) -> the findings that name it as their cause (``explained_by``), in order."""
+    """id(cause) -> the findings that name it as their cause (``explained_by``), in order;
+    the whole report's findings, so a cause is looked up in the consequence's own file."""
     causes: dict[tuple, object] = {}
     for f in findings:
-        point = f"{f.rule} at '{f.operating_point}'" if f.operating_point else f.rule
-        causes.setdefault((f.location.file, point), f)
+        causes.setdefault((f.location.file, cause_name(f)), f)
     out: dict[int, list] = {}
     for f in findings:
         cause = causes.get((f.location.file, f.explained_by)) if f.explained_by else None
