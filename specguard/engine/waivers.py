@@ -70,7 +70,9 @@ def apply_waivers(
             loc, related = locate(base + ((field,) if field else ()))
             problems.append(Finding("waiver-invalid", severity, message, loc, related))
 
-        label = f"waiver {index} for '{waiver.rule}'"
+        # numbered as a reader counts them (the first waiver is waiver 1); the
+        # location gives the line, the document path keeps the list index
+        label = f"waiver {index + 1} for '{waiver.rule}'"
         if rule in BUILTIN_IDS and rule not in WAIVABLE_BUILTINS:
             problem(
                 f"{label}: built-in finding '{rule}' cannot be waived; fix the spec instead",

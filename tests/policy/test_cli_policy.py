@@ -210,7 +210,7 @@ def test_unused_waiver_is_a_warning(repo):
         WAIVER.replace("at: lift", "at: hold").replace("ripple-over-rated-current", "pwm-audible"),
     )
     out = text(check(repo, path, env={"SOURCE_DATE_EPOCH": JAN_2027}))
-    assert "warning: waiver 0 for 'pwm-audible': unused" in out
+    assert "warning: waiver 1 for 'pwm-audible': unused" in out
 
 
 def test_bad_source_date_epoch_is_exit_2(repo):
