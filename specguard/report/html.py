@@ -71,7 +71,7 @@ th{background:#f2f2f2}td.num{text-align:right;white-space:nowrap;font-variant-nu
 code.id{white-space:nowrap}
 table.findings{width:100%;table-layout:fixed}
 table.findings col.c-sev{width:7.2rem}table.findings col.c-where{width:12.5rem}table.findings col.c-fix{width:17rem}
-table.findings td{overflow-wrap:break-word}
+table.findings td{overflow-wrap:break-word}table.findings code{white-space:normal;overflow-wrap:anywhere}
 .sev{white-space:nowrap;font-weight:600}
 tr.sev-error td:first-child{border-left:5px solid #7f2a1c}
 tr.sev-warning td:first-child{border-left:5px dashed #8c6d12}
