@@ -259,10 +259,13 @@ def _rgb(colour: str) -> str:
     return "rgb({}, {}, {})".format(*(int(c[i : i + 2], 16) for i in (0, 2, 4)))
 
 
-# matplotlib draws axis labels in axes.labelcolor, tick labels in the tick colours,
-# titles and legends in black (the rcParams of report/html.py _Plotter).
-LABEL_FILL = _rgb(html_report._Plotter().rc["axes.labelcolor"])
-assert LABEL_FILL not in {_rgb(html_report._Plotter().rc[k]) for k in ("xtick.color", "ytick.color")}
+def label_fill() -> str:
+    """matplotlib draws axis labels in axes.labelcolor, tick labels in the tick colours,
+    titles and legends in black (the rcParams of report/html.py _Plotter)."""
+    rc = html_report._Plotter().rc
+    fill = _rgb(rc["axes.labelcolor"])
+    assert fill not in {_rgb(rc[k]) for k in ("xtick.color", "ytick.color")}
+    return fill
 
 
 def _inside(box, frame, slack: float) -> bool:
@@ -283,10 +286,10 @@ def plot_problems(m: dict) -> list[tuple[str, str, str]]:
     y axis label (vertical) present, drawn with a size, inside the SVG and clear of
     other text; no tick label left as unparsed mathtext; no text clipped at the SVG edge
     (2 px slack for glyph side bearings)."""
-    out = []
+    out, fill = [], label_fill()
     for p in m["plots"]:
         kind = next(c for c in p["kind"].split() if c.startswith("plot-"))
-        labels = [t for t in p["texts"] if t["fill"] == LABEL_FILL and t["text"].strip()]
+        labels = [t for t in p["texts"] if t["fill"] == fill and t["text"].strip()]
         if not any(abs(t["rotate"]) < 1 for t in labels):
             out.append((kind, "no x-axis label", ", ".join(t["text"] for t in labels)))
         if not any(abs(abs(t["rotate"]) - 90) < 1 for t in labels):
