@@ -239,7 +239,7 @@ MICRO_UNITS = [(d, u) for d, u in ALL_UNITS if u.startswith("u")]
 
 
 def test_micro_units_exist():
-    assert {u for _, u in MICRO_UNITS} == {"uA", "uH", "uF", "us", "uN*m"}
+    assert {u for _, u in MICRO_UNITS} == {"uA", "uH", "uF", "us", "uN*m", "uohm*m", "uohm*cm"}
 
 
 @pytest.mark.parametrize(("dimension", "unit"), MICRO_UNITS, ids=[u for _, u in MICRO_UNITS])

@@ -20,6 +20,7 @@ Topologies:
 from __future__ import annotations
 
 import math
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
 
 from .. import physics as P
@@ -676,6 +677,68 @@ class _PwmLoss:
     low: tuple[float, ...]
     estimated: bool
     node_resistance: float  # K/W from the heated node to ambient
+    law: Callable[[Mapping[str, float]], float] | None = None  # W in the budget for one electrical state
+    winding_node: bool = False  # the loss heats the winding (coreless), else the housing
+
+
+class _LossLaw:
+    """The calibrated PWM loss of one electrical state (a point or a profile segment)."""
+
+    def __init__(self, cal, regime: str, ax: _Axis) -> None:
+        self.cal, self.regime, self.ax = cal, regime, ax
+
+    def __call__(self, e: Mapping[str, float]) -> float:
+        pp, duty = _ripple_load(self.ax, e)
+        if self.regime == P.eddy.TRANSITION:
+            # neither law holds between the edges: the larger of the two (docs/pwm-losses.md)
+            return max(float(P.eddy.ripple_loss(c, pp, self.ax.f_ripple, duty)) for c in self.cal)
+        return float(P.eddy.ripple_loss(self.cal, pp, self.ax.f_ripple, duty))
+
+
+def _ripple_load(ax: _Axis, e: Mapping[str, float]) -> tuple[float, float]:
+    """(peak-to-peak ripple, duty of the ripple wave) of one electrical state."""
+    if ax.topology == "sinusoidal":
+        duty = 0.5  # a sinusoidal axis' ripple duty sweeps the period; its mean is taken
+    else:
+        duty = float(P.hbridge.load_wave_duty(_clip(e["ripple_modulation"], 0.0, 1.0), ax.scheme))
+    return float(e["ripple_pp"]), _clip(duty, 1e-6, 1.0 - 1e-6)
+
+
+# Resistivity [ohm m] and small-signal relative permeability of the materials an eddy
+# path may name (typical handbook values at room temperature, common practice, no
+# published source; docs/pwm-losses.md lists them). A spec may give its own values.
+EDDY_MATERIALS: dict[str, tuple[float, float]] = {
+    "electrical-steel": (0.48e-6, 1000.0),
+    "soft-iron": (0.12e-6, 500.0),
+    "ndfeb": (1.5e-6, 1.05),
+    "smco": (0.8e-6, 1.05),
+    "ferrite": (1.0e2, 1.1),
+    "copper": (17.24e-9, 1.0),
+    "aluminium": (28.2e-9, 1.0),
+    "stainless-steel": (0.72e-6, 1.0),
+}
+
+
+def _pwm_regime(motor, ax: _Axis, axis, notes) -> str:
+    """The conduction regime of the PWM eddy loss: the calibration's, else the declared
+    eddy path's half-thickness against its skin depth at the ripple frequency, else the
+    default of the winding construction."""
+    calibration = motor.pwm_loss
+    if calibration is not None and calibration.regime is not None:
+        return calibration.regime
+    part = motor.eddy_path
+    if part is None:
+        return _PWM_REGIME[motor.winding]
+    rho_default, mu_default = EDDY_MATERIALS[part.material]
+    rho = part.resistivity if part.resistivity is not None else rho_default
+    mu = part.relative_permeability if part.relative_permeability is not None else mu_default
+    depth = float(P.eddy.skin_depth(ax.f_ripple, rho, mu))
+    axis["eddy_path_thickness_ratio"] = 0.5 * part.thickness / depth
+    regime = str(P.eddy.plate_regime(ax.f_ripple, part.thickness, rho, mu))
+    notes["eddy_path_thickness_ratio"] = (
+        f"{part.material}, {regime} at the ripple frequency (skin depth {depth * 1e3:.3g} mm)"
+    )
+    return regime
 
 
 def _pwm_loss(spec, ax, elec, rows, axis, missing, notes) -> _PwmLoss | None:
@@ -683,6 +746,8 @@ def _pwm_loss(spec, ax, elec, rows, axis, missing, notes) -> _PwmLoss | None:
     motor = spec.motor
     thermal = motor.thermal
     names = ("pwm_loss", "pwm_loss_low", "pwm_loss_to_copper", "pwm_loss_temperature_rise", "pwm_loss_margin_share")
+    if motor.eddy_path is None:
+        missing["eddy_path_thickness_ratio"] = "the spec has no motor.eddy_path"
     if thermal is None:
         for name in names:
             missing[name] = "the spec has no motor.thermal data"
@@ -692,45 +757,46 @@ def _pwm_loss(spec, ax, elec, rows, axis, missing, notes) -> _PwmLoss | None:
     winding_node = motor.winding == "coreless"
     node = thermal.housing_to_ambient + (thermal.winding_to_housing if winding_node else 0.0)
     calibration = motor.pwm_loss
-    regime = (calibration.regime if calibration is not None else None) or _PWM_REGIME[motor.winding]
+    regime = _pwm_regime(motor, ax, axis, notes)
     three = ax.topology == "sinusoidal"
     phases = 3 if three else 1
     # the DC resistance of the path one ripple flows in: the loop (dc, six-step), one phase
     r_dc = ax.loss_resistance_20 / (1.5 if three else 1.0)
     r_dc = r_dc / 2.0 if three else r_dc
-    loads = []
-    for e in elec:
-        if three:
-            duty = 0.5  # a sinusoidal axis' ripple duty sweeps the period; its mean is taken
-        else:
-            scheme = ax.scheme
-            duty = float(P.hbridge.load_wave_duty(_clip(e["ripple_modulation"], 0.0, 1.0), scheme))
-        duty = _clip(duty, 1e-6, 1.0 - 1e-6)
-        loads.append((float(e["ripple_pp"]), duty))
+    loads = [_ripple_load(ax, e) for e in elec]
+    laws = (P.eddy.RESISTANCE_LIMITED, P.eddy.SKIN_LIMITED) if regime == P.eddy.TRANSITION else (regime,)
     if calibration is not None:
         reference = calibration.extra_loss
         if reference is None:
             reference = calibration.extra_temperature_rise / node
-        cal = P.eddy.calibrate_ripple_loss(
-            reference, calibration.at_ripple, calibration.at_frequency, calibration.at_duty, regime
+        cals = tuple(
+            P.eddy.calibrate_ripple_loss(
+                reference, calibration.at_ripple, calibration.at_frequency, calibration.at_duty, law
+            )
+            for law in laws
         )
-        values = tuple(float(P.eddy.ripple_loss(cal, pp, ax.f_ripple, d)) for pp, d in loads)
+        law_fn = _LossLaw(cals if len(cals) > 1 else cals[0], regime, ax)
+        values = tuple(law_fn(e) for e in elec)
         notes["pwm_loss"] = f"calibrated from motor.pwm_loss ({regime}); in the thermal budget"
-        return _PwmLoss(values, values, values, False, node)
-    k_low, k_high = P.eddy.ripple_loss_coefficient_default(motor.winding, r_dc, regime)
-    low = tuple(
-        phases * float(P.eddy.ripple_loss_from_coefficient(k_low, pp, ax.f_ripple, d, regime)) for pp, d in loads
-    )
-    high = tuple(
-        phases * float(P.eddy.ripple_loss_from_coefficient(k_high, pp, ax.f_ripple, d, regime)) for pp, d in loads
-    )
+        return _PwmLoss(values, values, values, False, node, law_fn, winding_node)
+    lows, highs = [], []
+    for law in laws:
+        k_low, k_high = P.eddy.ripple_loss_coefficient_default(motor.winding, r_dc, law)
+        lows.append(
+            [phases * float(P.eddy.ripple_loss_from_coefficient(k_low, pp, ax.f_ripple, d, law)) for pp, d in loads]
+        )
+        highs.append(
+            [phases * float(P.eddy.ripple_loss_from_coefficient(k_high, pp, ax.f_ripple, d, law)) for pp, d in loads]
+        )
+    low = tuple(min(v) for v in zip(*lows, strict=True))
+    high = tuple(max(v) for v in zip(*highs, strict=True))
     notes["pwm_loss"] = (
         f"estimate for a {motor.winding} winding ({regime}; common practice, no published source): not in the "
         "thermal budget; give motor.pwm_loss from one bench measurement"
     )
     notes["pwm_loss_low"] = notes["pwm_loss"]
     axis["pwm_loss_estimated"] = True
-    return _PwmLoss(tuple(0.0 for _ in loads), high, low, True, node)
+    return _PwmLoss(tuple(0.0 for _ in loads), high, low, True, node, None, winding_node)
 
 
 def _pwm_loss_effect(spec, ax, rows, pwm: _PwmLoss | None, missing) -> None:
@@ -826,36 +892,28 @@ def _thermal(spec, ax, elec, rows, axis, missing, notes, pwm: _PwmLoss | None = 
     else:
         axis["winding_temperature_limit"] = limit
     profile = spec.profile
+    profile_names = (
+        "profile_peak_temperature",
+        "profile_mean_temperature",
+        "profile_margin",
+        "profile_start_temperature",
+        "profile_pwm_loss_temperature_rise",
+    )
     if profile is None:
-        for name in (
-            "profile_peak_temperature",
-            "profile_mean_temperature",
-            "profile_margin",
-            "profile_start_temperature",
-        ):
+        for name in profile_names:
             missing[name] = "the spec has no motion profile"
         return
     if thermal.winding_time_constant is None or thermal.motor_time_constant is None:
-        for name in (
-            "profile_peak_temperature",
-            "profile_mean_temperature",
-            "profile_margin",
-            "profile_start_temperature",
-        ):
+        for name in profile_names:
             missing[name] = "motor.thermal lacks winding_time_constant or motor_time_constant"
         return
     c_w, c_h = P.thermal.capacitances_from_time_constants(
         thermal.winding_time_constant, thermal.motor_time_constant, r_wh, r_ha
     )
-    segments = _profile_segments(spec, ax)
+    segments = _profile_segments(spec, ax, pwm)
     cycle = P.thermal.winding_temperature_cyclic(segments, r20, c_w, c_h, r_wh, r_ha, profile.ambient)
     if cycle.runaway or not math.isfinite(cycle.peak_winding_temperature):
-        for name in (
-            "profile_peak_temperature",
-            "profile_mean_temperature",
-            "profile_margin",
-            "profile_start_temperature",
-        ):
+        for name in profile_names:
             missing[name] = "thermal runaway over the profile: no periodic steady state"
         return
     axis["profile_peak_temperature"] = float(cycle.peak_winding_temperature)
@@ -864,28 +922,46 @@ def _thermal(spec, ax, elec, rows, axis, missing, notes, pwm: _PwmLoss | None = 
     if limit is not None:
         axis["profile_margin"] = limit - float(cycle.peak_winding_temperature)
     notes["profile_peak_temperature"] = "two-node model, periodic steady state of the repeated profile"
+    if pwm is not None and pwm.law is not None:
+        # the calibrated PWM loss is in the cycle; its share of the peak, shown apart
+        copper_only = [seg._replace(housing_loss=0.0, winding_loss=0.0) for seg in segments]
+        bare = P.thermal.winding_temperature_cyclic(copper_only, r20, c_w, c_h, r_wh, r_ha, profile.ambient)
+        if not bare.runaway and math.isfinite(bare.peak_winding_temperature):
+            axis["profile_pwm_loss_temperature_rise"] = float(
+                cycle.peak_winding_temperature - bare.peak_winding_temperature
+            )
+        notes["profile_peak_temperature"] += "; the calibrated PWM eddy loss of each segment included"
+    else:
+        missing["profile_pwm_loss_temperature_rise"] = "the PWM loss is not calibrated (motor.pwm_loss)"
 
 
-def _profile_segments(spec: Spec, ax: _Axis) -> list:
-    """Thermal segments of the motion profile: duration and RMS current with ripple."""
+def _profile_segments(spec: Spec, ax: _Axis, pwm: _PwmLoss | None = None) -> list:
+    """Thermal segments of the motion profile: duration, RMS current with ripple and,
+    when calibrated, the PWM eddy loss of the segment's ripple in the node it heats."""
     profile = spec.profile
     assert profile is not None  # called for specs with a profile only
-    return [
-        P.thermal.Segment(s.duration, _electrical(spec, ax, s.speed, s.torque)["rms_current"], 0.0)
-        for s in profile.segments
-    ]
+    out = []
+    for s in profile.segments:
+        e = _electrical(spec, ax, s.speed, s.torque)
+        extra = pwm.law(e) if pwm is not None and pwm.law is not None else 0.0
+        if pwm is not None and pwm.winding_node:
+            out.append(P.thermal.Segment(s.duration, e["rms_current"], 0.0, extra))
+        else:
+            out.append(P.thermal.Segment(s.duration, e["rms_current"], extra, 0.0))
+    return out
 
 
 def profile_segments(spec: Spec, settings: FigureSettings | None = None):
     """(thermal segments, loss resistance at 20 degC [ohm]) of the spec's profile, or None.
 
-    The same segments the figure ``profile_peak_temperature`` is computed from,
-    for plots of the temperature over the cycle.
+    The same segments the figure ``profile_peak_temperature`` is computed from (the
+    calibrated PWM loss included), for plots of the temperature over the cycle.
     """
     if spec.profile is None:
         return None
     ax = _axis(spec, settings or FigureSettings())
-    return _profile_segments(spec, ax), ax.loss_resistance_20
+    pwm = _pwm_loss(spec, ax, [], [], {}, {}, {}) if spec.motor.thermal is not None else None
+    return _profile_segments(spec, ax, pwm), ax.loss_resistance_20
 
 
 def _chokes(spec, ax, elec, axis, missing, notes):

@@ -393,7 +393,7 @@ def profile_temperature(spec, figures=None) -> ProfileTrace | None:
     budget = max(PROFILE_SAMPLES, len(segments))
     for seg in segments:
         n = max(1, round(budget * seg.duration / total))
-        pieces.extend(thermal.Segment(seg.duration / n, seg.current_rms) for _ in range(n))
+        pieces.extend(seg._replace(duration=seg.duration / n) for _ in range(n))
     times, temps = [], []
     t = 0.0
     for k in range(len(pieces)):

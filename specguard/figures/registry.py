@@ -543,6 +543,25 @@ FIGURES: tuple[FigureDef, ...] = (
         "motor/thermal",
     ),
     _d(
+        "profile_pwm_loss_temperature_rise",
+        "temperature_difference",
+        "K",
+        "axis",
+        "part of the profile's peak winding temperature that the calibrated PWM eddy loss causes",
+        "motor/pwm_loss",
+        "profile",
+    ),
+    _d(
+        "eddy_path_thickness_ratio",
+        "ratio",
+        "",
+        "axis",
+        "half-thickness of the eddy path over its skin depth at the ripple frequency (at most 0.5: "
+        "resistance-limited, at least 2: skin-limited)",
+        "motor/eddy_path",
+        "stage/pwm/frequency",
+    ),
+    _d(
         "pwm_loss_estimated",
         "flag",
         "",

@@ -99,6 +99,7 @@ Capacitance = Annotated[float, Quantity("capacitance", "capacitance", gt=0)]
 Length = Annotated[float, Quantity("length", "length", gt=0)]
 Power = Annotated[float, Quantity("power", "power", gt=0)]
 TemperatureRise = Annotated[float, Quantity("temperature_difference", "temperature difference", gt=0)]
+Resistivity = Annotated[float, Quantity("resistivity", "resistivity", gt=0)]
 
 
 # --------------------------------------------------------------------- axis
@@ -205,6 +206,26 @@ class PwmLoss(_Model):
     )
 
 
+EddyMaterial = Literal[
+    "electrical-steel", "soft-iron", "ndfeb", "smco", "ferrite", "copper", "aluminium", "stainless-steel"
+]
+
+
+class EddyPath(_Model):
+    """The conductive part where the PWM ripple's field induces most of its eddy current
+    (the stator laminations, the magnets, a sleeve): its material and thickness set
+    the loss's conduction regime at the ripple frequency (docs/pwm-losses.md)."""
+
+    material: EddyMaterial = Field(description="material of the part (typical resistivity and permeability)")
+    thickness: Length = Field(description="thickness of the part across the field (a lamination sheet, a magnet)")
+    resistivity: Resistivity | None = Field(
+        None, description="resistivity, when known (else the material's typical value)"
+    )
+    relative_permeability: float | None = Field(
+        None, gt=0.0, le=1.0e6, description="small-signal relative permeability, when known (else typical)"
+    )
+
+
 class Motor(_Model):
     """The motor's electrical, mechanical and thermal data."""
 
@@ -261,6 +282,9 @@ class Motor(_Model):
     thermal: Thermal | None = Field(None, description="thermal data")
     pwm_loss: PwmLoss | None = Field(
         None, description="a bench measurement of the extra loss under PWM that calibrates the PWM eddy loss"
+    )
+    eddy_path: EddyPath | None = Field(
+        None, description="material and thickness of the part the PWM eddy loss flows in (sets its regime)"
     )
 
 

@@ -226,6 +226,11 @@ _TABLE: dict[str, tuple[str, str, str, dict[str, _Conversion], tuple[str, ...]]]
         {"m": _c(), "mm": _c(-3), "cm": _c(-2), "km": _c(3)},
         ("mm", "m", "km"),
     ),
+    "resistivity": (
+        "ohm*m", "0.48 uohm*m", "a resistivity",
+        {"ohm*m": _c(), "mohm*m": _c(-3), "uohm*m": _c(-6), "nohm*m": _c(-9), "uohm*cm": _c(-8)},
+        ("nohm*m", "uohm*m", "mohm*m", "ohm*m"),
+    ),
     "flux_linkage": (
         "Wb", "8.5 mWb", "a flux linkage",
         {"Wb": _c(), "mWb": _c(-3)},
@@ -559,6 +564,10 @@ def _diagnose(value: object, dimension: str, table: dict[str, tuple[int, float, 
         )
     hint = _HINTS.get(dimension, {}).get(unit) or _squash_match(unit, accepted)
     if hint:
+        # a hint that names one accepted unit gives the whole value to write
+        head, _, note = hint.partition(" ")
+        if head in accepted and (not note or note.startswith("(")):
+            hint = f"'{number} {head}'" + (f" {note}" if note else "")
         raise fail(
             "unknown_unit",
             f"{shown}: {_show(unit)} is not accepted for {phrase}; write {hint}; accepted: {listing}",

@@ -412,7 +412,7 @@ def _segment_maps(segments, resistance_20, c_w, c_h, r_wh, r_ha, alpha_20, loss_
         dt = float(seg.duration)
         e1, p1, q1 = _phi_functions(lam1, dt, xp)
         e2, p2, q2 = _phi_functions(lam2, dt, xp)
-        b = (i2r * loss_factor / c_w, float(seg.housing_loss) / c_h)
+        b = ((i2r * loss_factor + float(seg.winding_loss)) / c_w, float(seg.housing_loss) / c_h)
         maps.append(
             (
                 a,
@@ -433,7 +433,8 @@ class Segment(NamedTuple):
 
     duration: float  # [s]
     current_rms: float  # [A] RMS over the segment, ripple included
-    housing_loss: float = 0.0  # [W]
+    housing_loss: float = 0.0  # [W] into the housing node (e.g. PWM eddy loss in the stator iron)
+    winding_loss: float = 0.0  # [W] into the winding node, not scaled with R(T) (e.g. eddy loss in a coreless winding)
 
 
 class CycleResult(NamedTuple):
@@ -461,7 +462,7 @@ def winding_temperature_cyclic(
     """Periodic steady state of a cyclic profile with R(T): peak and mean temperature.
 
     Parameters: segments sequence of :class:`Segment` (duration [s], RMS current [A],
-    housing loss [W]); resistance_20 [Ohm] loss-equivalent at 20 degC; capacitances
+    housing loss [W], winding loss beyond copper [W]); resistance_20 [Ohm] loss-equivalent at 20 degC; capacitances
     [J/K]; thermal resistances [K/W]; ambient_temperature [K]; alpha_20 [1/K];
     samples_per_segment [-] interior points where the peak is also looked for.
 
