@@ -252,13 +252,14 @@ class _Plotter:
             "axes.titlepad": 5.0,
         }
 
-    def figure(self, panels: int = 1, height: float = 3.1, bottom: float = 0.16):
+    def figure(self, panels: int = 1, height: float = 3.1, bottom: float = 0.16, left: float | None = None):
         """A figure with fixed margins (the constrained layout doubled the drawing time,
         the 3 s budget for the demo); labels are short and fixed in size,
         spec names in tick labels are shortened to :data:`TICK_CHARS`."""
         width = 6.4 if panels == 1 else 9.2
         fig = self._Figure(figsize=(width, height), facecolor="white")
-        left = 0.1 if panels == 1 else 0.07
+        if left is None:
+            left = 0.1 if panels == 1 else 0.07
         fig.subplots_adjust(left=left, right=0.98, bottom=bottom, top=0.9, wspace=0.22)
         return fig
 
@@ -307,8 +308,8 @@ def _short(name: object, limit: int = TICK_CHARS) -> str:
 def _bar_bottom(panels) -> float:
     names = [n for b in panels for n in getattr(b, "points", ())]
     if len(names) > 4 or any(len(n) > 10 for n in names):
-        return 0.3
-    return 0.16
+        return 0.36  # rotated point names and the x label under them
+    return 0.22
 
 
 def _label(value: object) -> str:
@@ -329,8 +330,8 @@ def _legend_below(fig, axes) -> None:
         fig.legend(handles, labels, loc="lower center", ncol=min(3, len(handles)), bbox_to_anchor=(0.5, 0.0))
 
 
-def _legend_room(bottom: float, entries: int) -> float:
-    return bottom + 0.07 * ((max(entries, 1) + 2) // 3) + 0.02
+def _legend_room(bottom: float, entries: int, columns: int = 3) -> float:
+    return bottom + 0.07 * ((max(entries, 1) + columns - 1) // columns) + 0.02
 
 
 def _plot_waveform(p: _Plotter, wave, salt: str) -> str:
@@ -430,6 +431,17 @@ def _log_ticks(ax, centre: float) -> None:
     ax.xaxis.set_minor_formatter(NullFormatter())
 
 
+def _plain_log_axis(axis) -> None:
+    """Ticks at 1, 2 and 5 of each decade, labelled in plain digits (with text.parse_math
+    off, matplotlib's default log labels would print as raw '$\\mathdefault{...}$')."""
+    from matplotlib.ticker import FuncFormatter, LogLocator, NullFormatter, NullLocator
+
+    axis.set_major_locator(LogLocator(base=10.0, subs=(1.0, 2.0, 5.0)))
+    axis.set_major_formatter(FuncFormatter(lambda v, _pos: f"{v:.0f}" if v >= 1000.0 else _g4(v)))
+    axis.set_minor_locator(NullLocator())
+    axis.set_minor_formatter(NullFormatter())
+
+
 def _bars(ax, bars, scale: float, colour_bad=None):
     import numpy as np
 
@@ -447,6 +459,7 @@ def _bars(ax, bars, scale: float, colour_bad=None):
     ax.set_xticks(
         pos, [_short(n) for n in bars.points], rotation=30 if rotate else 0, ha="right" if rotate else "center"
     )
+    ax.set_xlabel("operating point")
     for k, v in enumerate(values):
         if not math.isfinite(v):
             ax.text(k, 0.0, "n/a", ha="center", va="bottom", color=SOFT)
@@ -848,7 +861,10 @@ def _plot_feasibility(p: _Plotter, fmap, salt: str) -> str:
     from matplotlib.patches import Patch
 
     with p.context():
-        fig = p.figure(height=4.6, bottom=_legend_room(0.14, 7))
+        rows = (4 + len(fmap["fixes"]) + 1) // 2  # legend rows, two columns
+        height = 3.6 + 0.2 * rows
+        # in inches: tick labels and the x label (0.55), then 0.2 a legend row
+        fig = p.figure(height=height, bottom=(0.6 + 0.2 * rows) / height, left=0.13)
         ax = fig.add_subplot()
         fx = _edges(fmap["freqs"]) / 1e3
         ly = _edges(fmap["henries"]) * 1e6
@@ -870,6 +886,8 @@ def _plot_feasibility(p: _Plotter, fmap, salt: str) -> str:
             ax.scatter(centres_x, centres_y, marker="x", s=22, color="#f3e6e0", linewidths=1.0)
         ax.set_xscale("log")
         ax.set_yscale("log")
+        _plain_log_axis(ax.xaxis)
+        _plain_log_axis(ax.yaxis)
         ax.set_xlim(float(fx[0]), float(fx[-1]))
         ax.set_ylim(float(ly[0]), float(ly[-1]))
         ax.set_xlabel("PWM frequency per leg [kHz]")
@@ -911,7 +929,7 @@ def _plot_feasibility(p: _Plotter, fmap, salt: str) -> str:
             patches.append(Patch(facecolor=MAP_COLOURS[0], edgecolor="#555555", label="not judged (cannot be built)"))
         every = patches + handles
         fig.legend(
-            every, [h.get_label() for h in patches] + labels, loc="lower center", ncol=3, bbox_to_anchor=(0.5, 0.0)
+            every, [h.get_label() for h in patches] + labels, loc="lower center", ncol=2, bbox_to_anchor=(0.5, 0.0)
         )
         return p.svg(fig, salt)
 

@@ -313,16 +313,7 @@ def plot_problems(m: dict) -> list[tuple[str, str, str]]:
 
 # Defects of the plot drawing (report/html.py) these checks found; the drawing code
 # is not this file's business. Remove an entry when it is fixed (the last test says which).
-KNOWN_PLOT_DEFECTS = {
-    ("plot-duty", "no x-axis label"): "the bar charts name the points on the ticks but set no x label (_bars)",
-    ("plot-thermal", "no x-axis label"): "the same, where the axis has no duty-cycle profile (margin bars only)",
-    ("plot-map", "raw mathtext tick label"): (
-        "the log axes of the feasibility map keep matplotlib's LogFormatterSciNotation; with "
-        "text.parse_math off its '$\\mathdefault{10^{2}}$' is printed as it is"
-    ),
-    ("plot-map", "axis label outside the SVG"): "those long tick labels push the y label past the left edge",
-    ("plot-map", "text clipped at the SVG edge"): "those tick labels, and three legend columns wider than the figure",
-}
+KNOWN_PLOT_DEFECTS: dict[tuple[str, str], str] = {}
 
 
 def _new(problems):
