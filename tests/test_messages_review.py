@@ -5,10 +5,13 @@ prints, and fails on the code before the point was fixed."""
 from __future__ import annotations
 
 import datetime as dt
+import shutil
+from pathlib import Path
 
 from specguard.engine.waivers import apply_waivers
+from specguard.pipeline import check_paths
 
-from .policy.helpers import fake_locate, finding, spec_with
+from .policy.helpers import EXAMPLES, fake_locate, finding, spec_with
 
 TODAY = dt.date(2026, 12, 2)
 
@@ -24,3 +27,87 @@ def test_waivers_are_numbered_from_one():
         "waiver 2 for 'ripple-over-rated-curent'",
     ]
     assert [p.location.line for p in problems] == [40, 51]  # the first waiver, the 'rule' key of the second
+
+
+# ------------------------------------------------------- 9. schema and unit messages
+CAROUSEL = """format: 1
+axis:
+  name: carousel
+motor:
+  from: ../library/motors/pm-42mm-48v.yaml
+stage:
+  from: ../library/stages/inverter-48v-10a.yaml
+load:
+  inertia: 2.1 kg*cm^2
+operating_points:
+  - { name: index, speed: 600 rpm, torque: 0.25 N*m, ambient: 35 degC }
+"""
+
+
+def _demo(tmp: Path) -> Path:
+    """A copy of the demo robot as a repository of its own."""
+    repo = tmp / "repo"
+    shutil.copytree(EXAMPLES / "robot", repo / "robot")
+    (repo / ".git").mkdir()
+    return repo
+
+
+def _check(repo: Path, name: str, body: str) -> list[str]:
+    path = repo / "robot" / "axes" / name
+    path.write_text(body, encoding="utf-8")
+    report = check_paths([str(path)], root=repo)
+    return [f"{f.location.line}:{f.location.column}: {f.message} [{f.rule}]" for f in report.findings]
+
+
+def test_missing_keys_of_a_mapping_are_one_finding_naming_what_it_needs(tmp_path):
+    body = CAROUSEL + "  - { name: slew, speed: 600 rpm }\n"
+    assert _check(_demo(tmp_path), "slew.axis.yaml", body) == [
+        "12:5: operating_points[1]: missing required keys 'torque' and 'ambient' "
+        "(this mapping needs name, speed, torque, ambient) [schema-violation]"
+    ]
+
+
+def test_a_slip_in_a_closed_list_value_names_the_nearest_allowed_value(tmp_path):
+    repo = _demo(tmp_path)
+    scheme = CAROUSEL.replace(
+        "inverter-48v-10a.yaml\n", "inverter-48v-10a.yaml\n  pwm: { scheme: svpmw, alignment: Centre }\n"
+    )
+    assert _check(repo, "scheme.axis.yaml", scheme) == [
+        "8:18: stage.pwm.scheme: 'svpmw' is not allowed; did you mean 'space-vector'? (a spec writes svpwm as "
+        "'space-vector'; allowed: 'bipolar', 'unipolar-single', 'unipolar-phase-shifted', 'six-step-chop-one', "
+        "'six-step-chop-both', 'sinusoidal', 'space-vector') [schema-violation]",
+        "8:36: stage.pwm.alignment: 'Centre' is not allowed; did you mean 'center'? (a spec writes centre as "
+        "'center'; allowed: 'center', 'edge') [schema-violation]",
+    ]
+    motor = CAROUSEL.replace(
+        "  from: ../library/motors", "  type: bdlc\n  winding: iron-cor\n  from: ../library/motors"
+    )
+    assert _check(repo, "motor.axis.yaml", motor) == [
+        "5:9: motor.type: 'bdlc' is not allowed; did you mean 'three-phase'? (a spec writes bldc as "
+        "'three-phase'; allowed: 'brushed-dc', 'three-phase') [schema-violation]",
+        "6:12: motor.winding: 'iron-cor' is not allowed; did you mean 'iron-core'? "
+        "(allowed: 'iron-core', 'coreless', 'slotless') [schema-violation]",
+    ]
+
+
+def test_a_temperature_in_degrees_sign_says_exactly_what_to_write(tmp_path):
+    body = CAROUSEL.replace("ambient: 35 degC", "ambient: 35 \u00b0C")
+    assert _check(_demo(tmp_path), "degrees.axis.yaml", body) == [
+        "11:63: operating_points[0].ambient: '35 \u00b0C': '\u00b0C' is not accepted for an absolute temperature; "
+        "write '35 degC'; accepted: degC, K [unit-invalid]"
+    ]
+
+
+# --------------------------------------------------- 10. another format: one error
+def test_another_format_version_is_one_error_and_nothing_follows(tmp_path):
+    body = CAROUSEL.replace("format: 1", "format: 2").replace("name: carousel", "name: carousel\n  colour: red")
+    body = body.replace("pm-42mm-48v.yaml", "no-such-motor.yaml").replace("35 degC", "35 C")
+    assert _check(_demo(tmp_path), "v2.axis.yaml", body) == [
+        "1:9: format: 2 is a spec format this version of specguard does not read (it reads format 1); "
+        "the rest of the file was not checked [schema-violation]"
+    ]
+    boolean = CAROUSEL.replace("format: 1", "format: true")
+    assert _check(_demo(tmp_path / "b"), "bool.axis.yaml", boolean) == [
+        "1:9: format: true is not a format version; write 'format: 1' (the format this version of specguard "
+        "reads); the rest of the file was not checked [schema-violation]"
+    ]

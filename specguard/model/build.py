@@ -114,17 +114,13 @@ def _error_to_finding(err: Mapping[str, Any], data: dict, locate: Locate) -> Fin
         loc, rel = locate(path, key=True)
         return Finding("schema-violation", "error", message, loc, rel)
     if kind == "missing":
-        parent_where = dotted(path[:-1]) or "the top level"
-        loc, rel = locate(path[:-1])
-        message = f"{parent_where}: missing required key '{path[-1]}'"
-        return Finding("schema-violation", "error", message, loc, rel)
+        return _missing_keys(path[:-1], [str(path[-1])], locate)
 
     loc, rel = locate(path)
     if kind == "value_range":
         message = f"{where}: {err['ctx']['message']}"
     elif kind == "literal_error":
-        expected = err.get("ctx", {}).get("expected", "")
-        message = f"{where}: {value!r} is not allowed; expected one of {expected}"
+        message = _not_allowed(where, path, value, err.get("ctx", {}).get("expected", ""))
     elif kind in _KIND:
         message = f"{where}: expected {_KIND[kind]}, got {kind_of(value) if exists else 'nothing'}"
         if kind == "bool_type" and isinstance(value, str) and value in _YAML11_BOOLEANS:
@@ -149,6 +145,117 @@ def _error_to_finding(err: Mapping[str, Any], data: dict, locate: Locate) -> Fin
     else:
         message = f"{where}: {err.get('msg', 'invalid value')}"
     return Finding("schema-violation", "error", message, loc, rel)
+
+
+def _required_keys(path: tuple) -> list[str]:
+    """The keys the mapping at ``path`` must have, in the order of the format."""
+    model = model_at(path)
+    if model is None:
+        return []
+    return [f.alias or name for name, f in model.model_fields.items() if f.is_required()]
+
+
+def _quoted_list(keys: list[str]) -> str:
+    quoted = [f"'{k}'" for k in keys]
+    return quoted[0] if len(quoted) == 1 else ", ".join(quoted[:-1]) + " and " + quoted[-1]
+
+
+def _missing_keys(parent: tuple, keys: list[str], locate: Locate) -> Finding:
+    """One finding for the required keys missing from one mapping, at the mapping,
+    naming every key the mapping needs."""
+    needed = _required_keys(parent)
+    keys = sorted(keys, key=lambda k: needed.index(k) if k in needed else len(needed))
+    where = dotted(parent) or "the top level"
+    noun = "key" if len(keys) == 1 else "keys"
+    message = f"{where}: missing required {noun} {_quoted_list(keys)}"
+    if needed and needed != keys:
+        message += f" (this mapping needs {', '.join(needed)})"
+    loc, rel = locate(parent)
+    return Finding("schema-violation", "error", message, loc, rel)
+
+
+# Names a value of a closed list is often written with elsewhere, and the value the
+# format uses for it (checked before the nearest spelling, so "brushless" never
+# reads as "brushed-dc").
+_ALSO_WRITTEN = {
+    "bldc": "three-phase",
+    "pmsm": "three-phase",
+    "brushless": "three-phase",
+    "brushless-dc": "three-phase",
+    "3-phase": "three-phase",
+    "3phase": "three-phase",
+    "dc": "brushed-dc",
+    "brushed": "brushed-dc",
+    "svpwm": "space-vector",
+    "svm": "space-vector",
+    "space-vector-pwm": "space-vector",
+    "spwm": "sinusoidal",
+    "sine": "sinusoidal",
+    "sinusoidal-pwm": "sinusoidal",
+    "ironless": "coreless",
+    "slotted": "iron-core",
+    "centre": "center",
+    "center-aligned": "center",
+    "edge-aligned": "edge",
+}
+
+
+def _shown(value: Any) -> str:
+    """A plain value as it reads in YAML."""
+    if value is None:
+        return "null"
+    if value is True or value is False:
+        return "true" if value else "false"
+    return repr(value)
+
+
+def _allowed_values(path: tuple) -> list[Any]:
+    """The values a closed-list field accepts, in the order of the format."""
+    if not path or not isinstance(path[-1], str):
+        return []
+    model = model_at(path[:-1])
+    field = model.model_fields.get(path[-1]) if model is not None else None
+    if field is None:
+        return []
+    out: list[Any] = []
+    for literal in _unwrap(field.annotation):
+        if typing.get_origin(literal) is typing.Literal:
+            out.extend(typing.get_args(literal))
+    return out
+
+
+def _nearest_allowed(value: str, allowed: list[Any]) -> tuple[str, str] | None:
+    """(allowed value, a clause saying how ``value`` relates to it: "" or ending in
+    "; ") for a slip in a closed-list value: another case or separator, a name the
+    format writes differently, or the nearest spelling; None when nothing is near."""
+    words = [a for a in allowed if isinstance(a, str)]
+    key = "-".join(value.strip().lower().replace("_", " ").split())
+    for word in words:
+        if key == word.lower():
+            return word, ""
+    if _ALSO_WRITTEN.get(key) in words:
+        return _ALSO_WRITTEN[key], f"a spec writes {key} as '{_ALSO_WRITTEN[key]}'; "
+    names = words + [k for k, v in _ALSO_WRITTEN.items() if v in words]
+    close = difflib.get_close_matches(key, names, n=1, cutoff=0.6)
+    if not close:
+        return None
+    if close[0] in words:
+        return close[0], ""
+    word = _ALSO_WRITTEN[close[0]]
+    return word, f"a spec writes {close[0]} as '{word}'; "
+
+
+def _not_allowed(where: str, path: tuple, value: Any, expected: str) -> str:
+    allowed = _allowed_values(path)
+    listing = ", ".join(_shown(a) for a in allowed) if allowed else expected
+    message = f"{where}: {_shown(value)} is not allowed"
+    if isinstance(value, str):
+        if any(not isinstance(a, str) and str(a) == value for a in allowed):
+            return f"{message}; write {value} without quotes (allowed: {listing})"
+        near = _nearest_allowed(value, allowed)
+        if near is not None:
+            return f"{message}; did you mean '{near[0]}'? ({near[1]}allowed: {listing})"
+    return f"{message}; allowed: {listing}"
 
 
 def _pattern_hint(pattern: str) -> str:
@@ -183,7 +290,14 @@ def build(data: dict, locate: Locate) -> tuple[Spec | None, list[Finding]]:
                 )
             )
         ]
-        findings = [_error_to_finding(err, data, locate) for err in errors]
+        # the required keys missing from one mapping are one finding naming them all
+        missing: dict[tuple, list[str]] = {}
+        for e in errors:
+            if e.get("type") == "missing":
+                p = _field_path(e.get("loc", ()))
+                missing.setdefault(p[:-1], []).append(str(p[-1]))
+        findings = [_error_to_finding(err, data, locate) for err in errors if err.get("type") != "missing"]
+        findings.extend(_missing_keys(parent, keys, locate) for parent, keys in missing.items())
         return None, findings
     findings = consistency(spec, locate)
     return (None if any(f.severity == "error" for f in findings) else spec), findings

@@ -285,6 +285,21 @@ def format_reference() -> str:
         "`rule-not-applicable` at info level. Where the figures take a value in place of an",
         'absent key, the default column says which ("when absent").',
         "",
+        "## What a check says about a malformed spec",
+        "",
+        "- A spec whose `format` is not 1 is not checked further: one `schema-violation` at",
+        "  the value says which format this version reads, and nothing follows from keys",
+        "  that mean other things in another format.",
+        "- The required keys a mapping lacks are one `schema-violation` at the mapping, naming",
+        "  the missing keys and every key the mapping needs.",
+        "- A value outside a closed list (a scheme, a motor type, a winding) names the allowed",
+        "  values and the nearest one: another case or separator (`Leg`), a slip of the",
+        "  keyboard (`iron-cor`), or a name the format writes differently (`svpwm` and its",
+        "  slips are `space-vector`, `bldc` is `three-phase`).",
+        "- A unit spelt in a common way the table does not take (`40 \u00b0C`, `3000 r/min`,",
+        "  `48 Vdc`) is an error that gives the value to write (`'40 degC'`); see",
+        "  [units.md](units.md).",
+        "",
     ]
     seen: set[str] = set()
     queue: list[tuple[str, dict]] = [("Spec (top level)", schema)]

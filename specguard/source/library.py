@@ -19,7 +19,7 @@ import posixpath
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from ..findings import Finding, Location
+from ..findings import Finding, Location, kind_of
 from ..findings import dotted as _dotted
 from . import Limits, LoadResult, ReferenceProblem, load_bytes, open_reference
 
@@ -159,6 +159,11 @@ def assemble(
     if result.data is None:
         return doc
     _index(doc, result, rel, (), 0)
+    problem = format_problem(result.data)
+    if problem is not None:  # another format: its fields mean other things, stop here
+        at, _ = doc.locate(("format",))
+        doc.findings.append(Finding("schema-violation", "error", problem, at))
+        return doc
     data = dict(result.data)
     state = _Closure(root=root, limits=limits, cache=cache, doc=doc, denied=tuple(denied))
     for section in LIBRARY_SECTIONS:
@@ -170,6 +175,41 @@ def assemble(
             data[section] = resolved
     doc.data = data
     return doc
+
+
+def is_format_one(value: object) -> bool:
+    """Whether ``value`` is the format version this specguard reads: the number 1
+    (1.0 too, as JSON Schema's const reads it; never true, which a Python comparison
+    would take for 1)."""
+    return type(value) in (int, float) and value == 1
+
+
+def format_problem(data: object) -> str | None:
+    """Why a spec's ``format`` stops the check before anything else is read, or None.
+
+    A spec of another format version is not checked further: its keys and values
+    mean other things, so every later message would be a follow-on error. A missing
+    ``format`` and a quoted "1" are left to the model, which names them among the
+    spec's other problems."""
+    if not isinstance(data, dict) or "format" not in data:
+        return None
+    value = data["format"]
+    if is_format_one(value) or (isinstance(value, str) and value.strip() == "1"):
+        return None
+    if type(value) in (int, float):
+        shown = int(value) if float(value).is_integer() else value
+        return (
+            f"format: {shown} is a spec format this version of specguard does not read (it reads format 1); "
+            "the rest of the file was not checked"
+        )
+    if value is None or isinstance(value, (bool, str)):
+        shown = "null" if value is None else ("true" if value is True else "false" if value is False else repr(value))
+    else:
+        shown = kind_of(value)
+    return (
+        f"format: {shown} is not a format version; write 'format: 1' (the format this version of "
+        "specguard reads); the rest of the file was not checked"
+    )
 
 
 @dataclass
@@ -245,7 +285,7 @@ class _Closure:
         lib = result.data
         first = Location(target_rel, 1, 1)
         fmt = lib.get("format")
-        if fmt != 1:
+        if not is_format_one(fmt):
             self._fail(
                 f"library file {target_rel} must declare 'format: 1' (found {fmt!r})",
                 first,
