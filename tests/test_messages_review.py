@@ -111,3 +111,21 @@ def test_another_format_version_is_one_error_and_nothing_follows(tmp_path):
         "1:9: format: true is not a format version; write 'format: 1' (the format this version of specguard "
         "reads); the rest of the file was not checked [schema-violation]"
     ]
+
+
+# ------------------------------------------- 5. read but invalid is not "unreadable"
+def test_a_file_read_but_invalid_is_never_called_unreadable(tmp_path):
+    from specguard.report import html, markdown
+
+    repo = _demo(tmp_path)
+    broken = repo / "robot" / "broken" / "door-latch.axis.yaml"
+    report = check_paths([str(broken)], root=repo)
+    assert report.files[0].input_error is None and report.files[0].spec is None
+    summary = markdown.render(report)
+    page = html.render(report, plots=False, feasibility_maps=False)
+    for out in (summary, page):
+        assert "could not be read" not in out
+        assert "not a valid spec" in out
+    # a file that really cannot be read still says so
+    gone = check_paths([str(repo / "robot" / "axes" / "gone.axis.yaml")], root=repo)
+    assert "could not be read" in markdown.render(gone)

@@ -175,7 +175,8 @@ def verdict(result, fail_level: str) -> tuple[str, str]:
     failing = [f for f in result.findings if not _suppressed(f) and SEVERITY_ORDER.get(f.severity, 2) >= threshold]
     if any(f.rule in _UNREADABLE for f in failing) and result.spec is None:
         plural = "s" if len(failing) != 1 else ""
-        return "v-unread", f"could not be read ({len(failing)} finding{plural} at or above {fail_level})"
+        # read, but not a spec this format accepts: never "could not be read"
+        return "v-unread", f"not a valid spec ({len(failing)} finding{plural} at or above {fail_level})"
     if failing:
         return "v-fail", f"fails: {len(failing)} finding{'s' if len(failing) != 1 else ''} at or above {fail_level}"
     return "v-pass", "passes"

@@ -90,8 +90,8 @@ def _verdict(result, fail_level: str) -> str:
         return "could not be read"
     threshold = SEVERITY_ORDER[fail_level]
     n = sum(1 for f in result.findings if not _suppressed(f) and SEVERITY_ORDER[f.severity] >= threshold)
-    if n and result.spec is None:
-        return "could not be read"
+    if n and result.spec is None:  # read, but not a spec this format accepts
+        return "not a valid spec"
     return "fails" if n else "passes"
 
 
