@@ -727,6 +727,7 @@ class _MapContext:
 
         self.root = Path(root) if root is not None else find_root(Path.cwd())
         self._pack = None
+        self.judged: dict[str, Any] = {}
 
     @property
     def pack(self):
@@ -737,30 +738,26 @@ class _MapContext:
         return self._pack
 
 
-def feasibility(result, fail_level: str, ctx: _MapContext):
-    """Variants of one axis over PWM frequency (leg) x added inductance per lead/phase,
-    each judged by the whole pack as ``specguard explore`` judges them (its ``_Judge``,
-    the levers of figures/levers.py). Returns a dict or None when the spec cannot be
-    re-read here. Cell status: 2 passes at warning level, 1 passes at the fail level,
-    0 fails, -1 not judged (the variant cannot be built). Rules no lever here clears (still
-    failing at the highest frequency and at 3 and 30 times the motor's inductance added)
-    do not count; they are listed."""
-    import numpy as np
+def _rejudge(result, ctx: _MapContext):
+    """(spec, assembled data, judge, (findings, figures) as written) of one axis re-read
+    for judging its variants (explore's ``_Judge``; policy overrides not applied), or None
+    when the spec cannot be re-read here. Kept per file on ``ctx``: the map and the
+    scheme comparison share the judge's memo."""
+    from pathlib import Path
 
-    from ..explore import _Judge, _passes
-    from ..figures.levers import PWM_FREQUENCY_MAX, AddedInductance, PwmFrequency, topology
+    from ..explore import _Judge
     from ..model import build
     from ..pipeline import _overrides, figure_settings, read_spec, relpath
     from ..source import Limits
     from ..source.library import LibraryCache, assemble
 
-    spec = result.spec
-    from pathlib import Path
-
+    if result.file in ctx.judged:
+        return ctx.judged[result.file]
+    ctx.judged[result.file] = None
     path = Path(result.file)
     if not path.is_absolute():
         path = ctx.root / path if (ctx.root / path).is_file() else Path.cwd() / path
-    if spec is None or not path.is_file():
+    if result.spec is None or not path.is_file():
         return None
     try:
         rel = relpath(path, ctx.root)
@@ -777,10 +774,31 @@ def feasibility(result, fail_level: str, ctx: _MapContext):
         overrides = _overrides(rel, None)
         judge = _Judge(spec, doc.locate, pack, overrides, figure_settings(pack, overrides))
         now = judge(doc.data)
-    except Exception:  # the map is an aid: a spec it cannot re-read gets none
+    except Exception:  # an aid: a spec it cannot re-read gets none
         return None
     if now is None:
         return None
+    ctx.judged[result.file] = (spec, doc.data, judge, now)
+    return ctx.judged[result.file]
+
+
+def feasibility(result, fail_level: str, ctx: _MapContext):
+    """Variants of one axis over PWM frequency (leg) x added inductance per lead/phase,
+    each judged by the whole pack as ``specguard explore`` judges them (its ``_Judge``,
+    the levers of figures/levers.py). Returns a dict or None when the spec cannot be
+    re-read here. Cell status: 2 passes at warning level, 1 passes at the fail level,
+    0 fails, -1 not judged (the variant cannot be built). Rules no lever here clears (still
+    failing at the highest frequency and at 3 and 30 times the motor's inductance added)
+    do not count; they are listed."""
+    import numpy as np
+
+    from ..explore import _passes
+    from ..figures.levers import PWM_FREQUENCY_MAX, AddedInductance, PwmFrequency, topology
+
+    again = _rejudge(result, ctx)
+    if again is None:
+        return None
+    spec, data, judge, now = again
     findings_now, figures_now = now
     pwm = spec.stage.pwm
     per_leg = 2.0 if pwm.scheme == "unipolar-phase-shifted" and pwm.frequency_is != "leg" else 1.0
@@ -797,7 +815,6 @@ def feasibility(result, fail_level: str, ctx: _MapContext):
     l_hi = max([motor_l * 30.0] + [v * 1.3 for v in l_fix])
     freqs = np.geomspace(f_lo, f_hi, MAP_SIZE)
     henries = np.geomspace(l_lo, l_hi, MAP_SIZE)
-    data = doc.data
     trials = (
         freq.edit(data, spec, PWM_FREQUENCY_MAX),
         choke.edit(data, spec, 3.0 * motor_l),
@@ -844,6 +861,90 @@ def feasibility(result, fail_level: str, ctx: _MapContext):
     }
 
 
+SCHEME_VARIANTS = (
+    ("bipolar", "two-level (bipolar), as written"),
+    ("unipolar-single", "three-level, one leg switching (unipolar single)"),
+    ("unipolar-phase-shifted", "three-level, phase-shifted legs (unipolar)"),
+)
+
+
+def scheme_comparison(result, ctx: _MapContext):
+    """For an H-bridge axis on two-level (bipolar) PWM: the same axis on each three-level
+    scheme at the same leg frequency, judged by the whole pack. Rows of (label, figures,
+    findings) with the spec as written first; None when the axis is not two-level or
+    cannot be re-read."""
+    from ..figures.levers import _set
+    from ..model import build
+    from ..pipeline import _estimate_dependence
+
+    spec = result.spec
+    if spec is None or spec.motor.type != "brushed-dc" or spec.stage.pwm.scheme != "bipolar":
+        return None
+    again = _rejudge(result, ctx)
+    if again is None:
+        return None
+    written, data, judge, _ = again
+    rows = []
+    for scheme, label in SCHEME_VARIANTS:
+        variant = dict(data)
+        if scheme != written.stage.pwm.scheme:
+            _set(variant, ("stage", "pwm", "scheme"), scheme)
+            _set(variant, ("stage", "pwm", "frequency_is"), "leg")
+        judged = judge(variant)
+        built, _ = build(variant, judge.locate)
+        if judged is None or built is None:
+            continue
+        found, figures = judged
+        # the verdicts as `check` gives them: one resting on the inductance estimate drops a band
+        found = _estimate_dependence(found, built, figures, judge.locate, judge.pack, judge.overrides, judge.settings)
+        rows.append((label, figures, found))
+    return rows if len(rows) > 1 else None
+
+
+def _worst(fs, name: str):
+    values = [v for _, vals in fs.points if isinstance(v := vals.get(name), (int, float)) and not isinstance(v, bool)]
+    return max(values) if values else None
+
+
+def _scheme_table(rows, fail_level: str) -> str:
+    """The schemes side by side: what the motor sees and what the pack says of each."""
+    head = (
+        "<tr><th>PWM scheme (same leg frequency)</th><th>ripple frequency</th><th>worst ripple peak-to-peak</th>"
+        "<th>worst PWM eddy loss</th><th>hottest winding</th><th>findings</th></tr>"
+    )
+    body = []
+    for label, fs, found in rows:
+        counts = {k: sum(1 for f in found if f.severity == k) for k in ("error", "warning")}
+        loss = _worst(fs, "pwm_loss")
+        loss_text = DASH if loss is None else show_value(loss, "power")
+        if loss is not None and fs.axis.get("pwm_loss_estimated"):
+            low = _worst(fs, "pwm_loss_low")
+            loss_text = f"{show_value(low, 'power')} to {loss_text} (estimate)" if low is not None else loss_text
+        hot = _worst(fs, "winding_temperature")
+        ripple = fs.axis.get("ripple_pp_worst", _worst(fs, "ripple_pp"))
+        cells = (
+            text(label),
+            text(show_value(fs.axis.get("ripple_frequency"), "frequency")),
+            text(DASH if ripple is None else show_value(ripple, "current")),
+            text(loss_text),
+            text(DASH if hot is None else show_value(hot, "temperature")),
+            f"{counts['error']} error(s), {counts['warning']} warning(s)",
+        )
+        body.append("<tr>" + "".join(f"<td>{c}</td>" for c in cells) + "</tr>")
+    return (
+        '<h4>PWM schemes side by side</h4><div class="scroll"><table class="schemes"><thead>'
+        + head
+        + "</thead><tbody>"
+        + "".join(body)
+        + "</tbody></table></div>"
+        + '<p class="muted">Each row is the axis with only the PWM scheme changed, judged by the whole rule pack '
+        f"as <code>specguard check</code> judges it (policy overrides not applied; fail level {text(fail_level)}). "
+        "A three-level scheme halves the voltage "
+        "step the motor sees; with phase-shifted legs the ripple frequency doubles as well. Whether the stage can "
+        "run it is the stage's question.</p>"
+    )
+
+
 def _edges(values):
     import numpy as np
 
@@ -862,10 +963,10 @@ def _plot_feasibility(p: _Plotter, fmap, salt: str) -> str:
     from matplotlib.patches import Patch
 
     with p.context():
-        rows = (4 + len(fmap["fixes"]) + 1) // 2  # legend rows, two columns
-        height = 3.6 + 0.2 * rows
-        # in inches: tick labels and the x label (0.55), then 0.2 a legend row
-        fig = p.figure(height=height, bottom=(0.6 + 0.2 * rows) / height, left=0.13)
+        legend_rows = (4 + len(fmap["fixes"]) + 1) // 2  # two columns
+        height = 3.6 + 0.2 * legend_rows
+        # in inches: tick labels and the x label (0.6), then 0.2 a legend row
+        fig = p.figure(height=height, bottom=(0.6 + 0.2 * legend_rows) / height, left=0.13)
         ax = fig.add_subplot()
         fx = _edges(fmap["freqs"]) / 1e3
         ly = _edges(fmap["henries"]) * 1e6
@@ -1189,6 +1290,10 @@ def _axis_section(plotter, result, index: int, fail_level: str, ripple_fraction:
         plots = _plots(plotter, spec, fs, index, ripple_fraction, result, fmap) if plotter is not None else ""
         if plots:
             parts.append("<h3>Plots</h3>" + plots)
+        if ctx is not None and fs is not None and _needs_map(result, fail_level):
+            schemes = scheme_comparison(result, ctx)
+            if schemes is not None:
+                parts.append(_scheme_table(schemes, fail_level))
     parts.append("</section>")
     return "".join(parts)
 
@@ -1303,7 +1408,7 @@ def render(
         f'<p class="caution"><strong>Caution.</strong> {text(CAUTION)}</p>',
         f'<p>Overall: <span class="verdict {"v-pass" if status == 0 else "v-fail"}">{text(overall)}</span> '
         f"\u2013 {counts['error']} error(s), {counts['warning']} warning(s), {counts['info']} info in "
-        f"{len(report.files)} file(s); fail level {text(report.fail_level)}.</p>",
+        f"{report.file_count} file(s); fail level {text(report.fail_level)}.</p>",
     ]
     if generated:
         intro.append(f'<p class="muted">Generated {text(generated)}.</p>')
