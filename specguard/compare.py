@@ -506,7 +506,11 @@ def run_compare(args) -> int:
     for raw in args.paths or [str(root)]:
         rel = relpath(Path(raw), root)
         if Path(rel).is_absolute() or rel == ".." or rel.startswith("../"):
-            return rs.fail(f"{raw}: outside the repository root {root.as_posix()}", "input-unreadable")
+            return rs.fail(
+                f"{raw}: outside the repository root {root.as_posix()}; compare reads the files of this "
+                f"repository at {args.rev}; check a file elsewhere with 'specguard check'",
+                "input-outside-root",
+            )
         rels.append(rel)
     prefix = relpath(root, top)
     prefix = "" if prefix == "." else prefix

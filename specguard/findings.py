@@ -17,6 +17,7 @@ SEVERITY_ORDER: dict[str, int] = {"info": 0, "warning": 1, "error": 2}
 # Reserved ids of the built-in findings, with a one-line meaning each.
 BUILTIN_IDS: dict[str, str] = {
     "input-unreadable": "an input path is missing, unreadable or not a regular file (exit 2)",
+    "input-outside-root": "compare was given a path outside the repository it reads at a revision (exit 2)",
     "text-encoding": "the file is not valid UTF-8 text, or holds forbidden characters",
     "yaml-syntax": "the YAML text cannot be parsed",
     "yaml-structure": (

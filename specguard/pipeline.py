@@ -97,6 +97,7 @@ class Target:
     root: Path
     options: RunOptions | None = None
     shown_as: str = ""
+    not_a_file: str | None = None  # see FileResult.not_a_file
 
 
 class Policies:
@@ -144,18 +145,17 @@ def _discover(paths: list[str], root: Path, policies: Policies | None = None) ->
     out: dict[str, Target] = {}
 
     def target(path: Path, real: Path, error: str | None = None, named: bool = False) -> Target:
-        if _under(Path(os.path.abspath(path)) if named else real, real_root):
-            try:
-                rel, inside = real.relative_to(real_root).as_posix(), True
-            except ValueError:  # named inside the root, but a link leads out of it
-                rel, inside = path.as_posix(), False
-            return Target(path, error, rel, inside, root, policies.options_for(root, rel))
-        # Named on the command line outside the run's root: checked within a root
-        # of its own, shown with a path the user can open.
+        if _under(Path(os.path.abspath(path)) if named else real, real_root) and _under(real, real_root):
+            rel = real.relative_to(real_root).as_posix()
+            return Target(path, error, rel, True, root, policies.options_for(root, rel))
+        # Outside the run's root (named there, or named inside it through a link
+        # that leads out, as a directory walk meets it too): checked within a root
+        # of its own, shown with a path the user can open; never an input error.
         own = find_root(real.parent)
         rel = real.relative_to(own).as_posix()
         shown = str(own) if path.is_absolute() else os.path.relpath(own)
-        return Target(path, error, rel, True, own, policies.options_for(own, rel), Path(shown).as_posix())
+        # read where it is, so that its references resolve as written next to it
+        return Target(real, error, rel, True, own, policies.options_for(own, rel), Path(shown).as_posix())
 
     for raw in paths:
         p = Path(raw)
@@ -194,14 +194,20 @@ def _discover(paths: list[str], root: Path, policies: Policies | None = None) ->
                 out.setdefault(
                     str(p.absolute()),
                     Target(
-                        p, "no spec files matching the search patterns in this directory", relpath(p, root), False, root
+                        p,
+                        "no spec files matching the search patterns in this directory",
+                        relpath(p, root),
+                        False,
+                        root,
+                        not_a_file="directory",
                     ),
                 )
         elif p.exists() or p.is_symlink():
             real = _real(p)
             out.setdefault(str(real), target(p, real, named=True))
         else:
-            out.setdefault(str(p.absolute()), Target(p, "no such file or directory", relpath(p, root), False, root))
+            missing = Target(p, "no such file or directory", relpath(p, root), False, root, not_a_file="missing")
+            out.setdefault(str(p.absolute()), missing)
     return sorted(out.values(), key=lambda t: (t.shown_as, t.rel))
 
 
@@ -259,6 +265,8 @@ def relpath(path: Path, root: Path) -> str:
 
 def check_file(path: Path, root: Path, cache=None, options: RunOptions | None = None) -> FileResult:
     """Check one spec file (the library files it references are read through ``cache``)."""
+    if not _inside(path, root):  # within a root of its own, as the command line does
+        root = find_root(_real(path).parent)
     rel = relpath(path, root)
     read = read_spec(path, root, rel, _inside(path, root))
     if isinstance(read, FileResult):
@@ -680,7 +688,7 @@ def run_targets(
     work: list[tuple[int, Path, str, bytes, int, str | None, int]] = []
     for index, t in enumerate(found):
         if t.error is not None:
-            results[index] = _shown(FileResult(t.rel, (), input_error=t.error), t)
+            results[index] = _shown(FileResult(t.rel, (), input_error=t.error, not_a_file=t.not_a_file), t)
             continue
         read = read_spec(t.path, t.root, t.rel, t.inside)
         if isinstance(read, FileResult):

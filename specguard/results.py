@@ -26,6 +26,10 @@ class FileResult:
     links: tuple[tuple[str, str], ...] = ()  # references reached through a symbolic link
     figures: FigureSet | None = None  # when computed
     fail_level: str | None = None  # the file's policy's, where it differs from the run's
+    # a path named on the command line that holds no file to check: "missing" (no
+    # such path) or "directory" (no spec file in it); listed with its input error,
+    # never counted as a file
+    not_a_file: str | None = None
 
 
 @dataclass(frozen=True)
@@ -65,6 +69,11 @@ class Report:
     def fail_level_of(self, result: FileResult) -> str:
         """The fail level a file is judged by: its policy's, else the run's."""
         return result.fail_level or self.fail_level
+
+    @property
+    def file_count(self) -> int:
+        """The files of the run: every input but the paths that hold no file."""
+        return sum(1 for r in self.files if r.not_a_file is None)
 
     @property
     def input_errors(self) -> tuple[FileResult, ...]:

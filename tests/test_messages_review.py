@@ -10,8 +10,10 @@ from pathlib import Path
 
 from specguard.engine.waivers import apply_waivers
 from specguard.pipeline import check_paths
+from specguard.report import text as text_report
+from specguard.results import FileResult, Report
 
-from .policy.helpers import EXAMPLES, fake_locate, finding, spec_with
+from .policy.helpers import EXAMPLES, fake_locate, finding, run_cli, spec_with
 
 TODAY = dt.date(2026, 12, 2)
 
@@ -129,3 +131,49 @@ def test_a_file_read_but_invalid_is_never_called_unreadable(tmp_path):
     # a file that really cannot be read still says so
     gone = check_paths([str(repo / "robot" / "axes" / "gone.axis.yaml")], root=repo)
     assert "could not be read" in markdown.render(gone)
+
+
+# ------------------------------------------- 7. a missing path is not a file of the run
+def test_a_missing_path_is_not_counted_as_a_file(tmp_path):
+    from specguard.report import json_report, markdown
+
+    repo = _demo(tmp_path)
+    axes = repo / "robot" / "axes"
+    report = check_paths([str(axes / "gone.axis.yaml"), str(axes / "carousel.axis.yaml")], root=repo)
+    assert report.file_count == 1 and report.exit_status() == 2
+    assert text_report.summary(report) == "specguard: 0 errors, 0 warnings, 0 info in 1 file, 1 missing path"
+    assert json_report.document(report)["summary"]["files"] == 1
+    assert "in 1 file(s)" in markdown.render(report)
+    # an unreadable file is still a file of the run
+    unreadable = FileResult("robot/axes/locked.axis.yaml", (), input_error="permission denied")
+    both = Report((*report.files, unreadable))
+    assert text_report.summary(both).endswith("in 2 files, 1 unreadable, 1 missing path")
+
+
+# ------------------------------------------- 8. outside the root is not "unreadable"
+def test_a_file_outside_the_root_is_not_an_unreadable_input(tmp_path):
+    here = tmp_path / "here"
+    (here / ".git").mkdir(parents=True)
+    other = _demo(tmp_path / "elsewhere")
+    # named inside the root, but a symbolic link leads out of it
+    (here / "lift.axis.yaml").symlink_to(other / "robot" / "axes" / "sample-lift.axis.yaml")
+    report = check_paths([str(here / "lift.axis.yaml")], root=here)
+    assert [r.input_error for r in report.files] == [None]
+    assert report.files[0].spec is not None  # checked within the root of its own, references resolved
+    assert not [f for f in report.findings if f.rule in ("input-unreadable", "reference-invalid")]
+
+
+def test_compare_names_a_path_outside_the_repository_for_what_it_is(tmp_path):
+    import subprocess
+
+    repo = tmp_path / "repo"
+    shutil.copytree(EXAMPLES / "robot", repo / "robot")
+    git = ["git", "-c", "user.name=t", "-c", "user.email=t@example.invalid"]
+    for args in (["init", "-q", "."], ["add", "-A"], ["commit", "-q", "-m", "demo"]):
+        subprocess.run(git + args, cwd=repo, check=True, capture_output=True)
+    outside = _demo(tmp_path / "elsewhere") / "robot" / "axes" / "carousel.axis.yaml"
+    done = run_cli("compare", "HEAD", str(outside), cwd=repo)
+    err = done.stderr.decode()
+    assert done.returncode == 2, err
+    assert "[input-outside-root]" in err and "input-unreadable" not in err
+    assert "outside the repository root" in err and "check a file elsewhere with 'specguard check'" in err

@@ -181,7 +181,7 @@ def document(report: Report) -> dict:
         "files": files,
         "baseline": baseline,
         "summary": {
-            "files": len(report.files),
+            "files": report.file_count,
             "unreadable": len(report.input_errors),
             "error": counts["error"],
             "warning": counts["warning"],

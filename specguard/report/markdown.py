@@ -183,7 +183,7 @@ def render(report: Report, limit: int = LIMIT, full_report: str | None = None) -
     counts = report.counts()
     status = report.exit_status()
     word = {0: "PASS", 1: "FAIL", 2: "INCOMPLETE", 3: "INTERNAL ERROR"}.get(status, "FAIL")
-    files = len(report.files)
+    files = report.file_count
     lines = [
         f"### specguard: {word} \u2013 {counts['error']} error(s), {counts['warning']} warning(s), "
         f"{counts['info']} info in {files} file(s) (fail level {report.fail_level})",

@@ -215,7 +215,7 @@ def file_summary(report: Report, result) -> str:
 
 def summary(report: Report, *, show: tuple[str, ...] = SEVERITIES, show_baselined: bool = True) -> str:
     counts = report.counts()
-    files = len(report.files)
+    files = report.file_count
     parts = [
         f"{counts['error']} error{'s' if counts['error'] != 1 else ''}",
         f"{counts['warning']} warning{'s' if counts['warning'] != 1 else ''}",
@@ -224,8 +224,15 @@ def summary(report: Report, *, show: tuple[str, ...] = SEVERITIES, show_baseline
     waived = sum(1 for f in report.findings if f.waived is not None)
     if waived:
         parts.append(f"{waived} waived")
-    unread = len(report.input_errors)
+    unread = sum(1 for r in report.input_errors if r.not_a_file is None)
     tail = f", {unread} unreadable" if unread else ""
+    # paths named on the command line that hold no file: said, never counted as files
+    missing = sum(1 for r in report.files if r.not_a_file == "missing")
+    if missing:
+        tail += f", {missing} missing path{'s' if missing != 1 else ''}"
+    empty = sum(1 for r in report.files if r.not_a_file == "directory")
+    if empty:
+        tail += f", {empty} director{'ies' if empty != 1 else 'y'} without spec files"
     hidden = [s for s in SEVERITIES if s not in show and counts[s]]
     if hidden:
         tail += f" ({' and '.join(hidden)} not printed: --show {','.join(show)})"
