@@ -97,19 +97,6 @@ WRONG_WINDOW = (
     "never declares, and reads 40.3 V > the stage's 36 V; without that term the points need "
     "18.7 V (hand calculation in the file)"
 )
-WRONG_TABLE = (
-    "inductance-table-rising (warning) fires on a +0.34 % step (585 -> 587 uH) inside the "
-    "accuracy of an LCR meter; every rise counts, however small, so a level table measured "
-    "with ordinary noise is told to check for self-resonance, a fixture fault or a unit mix-up"
-)
-WRONG_BLOCK = (
-    "stage-current-over-continuous (error) compares the six-step BLOCK current 2.356 A with "
-    "stage.current_limit.continuous, which docs/format.md defines as the RMS phase current of "
-    "a three-phase stage; the RMS phase current of 120-degree blocks is 2.356 x sqrt(2/3) = "
-    "1.924 A = 87 % of the 2.2 A rating (quiet), and the switches see the same I^2/3 either way "
-    "(hand calculation in the file); the message calls 2.356 A 'the RMS current'"
-)
-
 CASES = (
     # (1) worst case over the supply range
     Case(
@@ -180,8 +167,8 @@ CASES = (
     Case(
         "class2-inductance-table-level-pass.axis.yaml",
         2,
-        checks=(("ripple_ratio_worst", None, 0.1339),),
-        wrong=WRONG_TABLE,
+        # the table's one rise, 585 -> 587 uH: 587 / 585 - 1 = 0.342 %, inside the 2 % band
+        checks=(("ripple_ratio_worst", None, 0.1339), ("inductance_table_rise", None, 587.0 / 585.0 - 1.0)),
     ),
     # (3) exact peak current against the stage and motor limits
     Case(
@@ -227,8 +214,8 @@ CASES = (
     Case(
         "class4-six-step-block-current-pass.axis.yaml",
         4,
-        checks=(("current", "spin", 2.356),),
-        wrong=WRONG_BLOCK,
+        # RMS phase current of 120-degree blocks: 2.356 A x sqrt(2/3) = 1.924 A, 87.4 % of 2.2 A
+        checks=(("current", "spin", 2.356), ("stage_current_ratio", "spin", 2.356 * (2.0 / 3.0) ** 0.5 / 2.2)),
     ),
     # (5) braking into a battery or a supply that cannot sink
     Case(
@@ -504,16 +491,6 @@ def test_the_working_counterpart_has_nothing_to_group():
     assert loud == []
 
 
-@pytest.mark.xfail(
-    strict=True,
-    reason=(
-        "one overheating winding is reported as two independent errors: "
-        "rms_current_ratio > 1 and winding_margin < 0 are the same condition of the same "
-        "steady-state model (docs/physics.md §6.3-6.4: I_max(T_a) is the current at which the "
-        "winding settles at its limit), yet neither rule explains the other (press: ratio 1.422, "
-        "winding 360 degC against 130 degC, hand calculation in class10-rms-far-past-fail)"
-    ),
-)
 def test_one_overheating_winding_is_one_primary_finding():
     thermal = ("rms-current-near-continuous-limit", "winding-temperature-margin")
     at_press = [

@@ -69,6 +69,7 @@ DIMENSIONLESS = {
     ("stage", "current_loop", "computation_delay"): "a count of samples",
     ("motor", "pole_pairs"): "a count",
     ("chokes", "count"): "a count",
+    ("motor", "eddy_path", "relative_permeability"): "a relative permeability is a ratio of permeabilities",
     ("format",): "the format version",
 }
 

@@ -393,6 +393,13 @@ def compute(spec: Spec, settings: FigureSettings | None = None) -> FigureSet:
     }
     axis.update(ax.flags)
     missing = dict(ax.missing)
+    table = spec.motor.inductance_vs_frequency
+    if table:
+        axis["inductance_table_rise"] = float(
+            P.inductance.table_largest_rise([r.frequency for r in table], [r.inductance for r in table])
+        )
+    else:
+        missing["inductance_table_rise"] = "the spec has no motor.inductance_vs_frequency table"
     notes = dict(ax.notes)
 
     rows: list[dict[str, float]] = []
@@ -1576,8 +1583,13 @@ def _plausibility(spec, ax, elec, rows, axis, missing):
     # stage currents against the motor and the operating points
     limits = stage.current_limit
     if limits is not None:
-        for row, e in zip(rows, elec, strict=True):
-            row["stage_current_ratio"] = e["rms_current"] / limits.continuous
+        for row, e, point in zip(rows, elec, spec.operating_points, strict=True):
+            # the continuous rating is an RMS phase current (docs/format.md); a six-step
+            # phase carries the block current two thirds of the period while turning,
+            # all of it when the axis holds at standstill (one commutation state)
+            share = math.sqrt(2.0 / 3.0) if ax.topology == "six-step" and point.speed > 0.0 else 1.0
+            row["stage_current_rms"] = share * e["rms_current"]
+            row["stage_current_ratio"] = row["stage_current_rms"] / limits.continuous
         axis["stage_to_motor_current"] = limits.continuous / rated
         if limits.peak is not None:
             axis["stage_peak_over_continuous"] = limits.peak / limits.continuous
@@ -1587,7 +1599,7 @@ def _plausibility(spec, ax, elec, rows, axis, missing):
         for row in rows:
             row.pop("stage_current_ratio", None)
         lack(
-            ("stage_current_ratio", "stage_to_motor_current", "stage_peak_over_continuous"),
+            ("stage_current_rms", "stage_current_ratio", "stage_to_motor_current", "stage_peak_over_continuous"),
             "the spec has no stage.current_limit",
         )
     if stage.current_loop is not None:

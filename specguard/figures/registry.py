@@ -140,6 +140,14 @@ FIGURES: tuple[FigureDef, ...] = (
         "motor/inductance_vs_frequency",
     ),
     _d(
+        "inductance_table_rise",
+        "ratio",
+        "",
+        "axis",
+        "largest rise of the measured inductance from one table row to the next, relative (0 when it never rises)",
+        "motor/inductance_vs_frequency",
+    ),
+    _d(
         "ripple_period_over_tau",
         "ratio",
         "1",
@@ -1048,11 +1056,20 @@ FIGURES: tuple[FigureDef, ...] = (
         "stage/pwm/alignment",
     ),
     _d(
+        "stage_current_rms",
+        "current",
+        "A",
+        "point",
+        "RMS current of one stage output at the operating point, ripple included (a six-step phase conducts "
+        "two thirds of the period while turning, all of it holding at standstill)",
+        "operating_points",
+    ),
+    _d(
         "stage_current_ratio",
         "ratio",
         "1",
         "point",
-        "RMS current at the operating point divided by the stage's continuous current",
+        "RMS current of one stage output at the operating point divided by the stage's continuous current",
         "stage/current_limit",
     ),
     _d(

@@ -142,6 +142,18 @@ def table_non_monotonic(table_frequencies, table_inductances) -> bool:
     return any(b > a for a, b in zip(v, v[1:], strict=False))
 
 
+def table_largest_rise(table_frequencies, table_inductances) -> float:
+    """Largest relative rise of the inductance from one row to the next, ``max(L_i+1/L_i - 1)``,
+    or 0 when the table never rises [-].
+
+    A rise of a few tenths of a percent is within the accuracy of an LCR meter and its
+    fixture; the rule that judges this figure warns only above a band (docs/physics.md §5.2).
+    Source: derived here (docs/physics.md §5.2).
+    """
+    _, v = _table_floats(table_frequencies, table_inductances)
+    return max([0.0] + [b / a - 1.0 for a, b in zip(v, v[1:], strict=False)])
+
+
 # The catalogue-to-PWM-frequency curve per winding construction (common practice, no
 # published source; docs/physics.md §5.3): ``L(f) = L_cat max((f/f_cat)^-n, floor)``.
 # Iron-core windings fall to about one third of a 1 kHz catalogue value by 20 kHz

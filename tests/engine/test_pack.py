@@ -69,7 +69,7 @@ def test_every_figure_of_the_catalogue_section_is_judged():
         "ripple_frequency",
         "inductance_estimated",
         "inductance_extrapolated",
-        "inductance_table_rising",
+        "inductance_table_rise",
         "winding_margin",
         "runaway_number",
         "profile_margin",
