@@ -177,3 +177,92 @@ def test_compare_names_a_path_outside_the_repository_for_what_it_is(tmp_path):
     assert done.returncode == 2, err
     assert "[input-outside-root]" in err and "input-unreadable" not in err
     assert "outside the repository root" in err and "check a file elsewhere with 'specguard check'" in err
+
+
+# ----------------------------------- 1-3. messages that say only what is true of the spec
+def _judged(overlay: dict, rule: str, base: str = "dc-axis", figures=None) -> list[str]:
+    """The messages of one rule of the pack on a base example spec with an overlay
+    (figures computed, or the given FigureSet)."""
+    from specguard.engine.evaluate import evaluate, load_pack
+    from specguard.figures import compute
+
+    from .engine.helpers import base_spec
+
+    spec, locate = base_spec(base, overlay)
+    figs = figures if figures is not None else compute(spec)
+    return [f.message for f in evaluate(spec, figs, locate, load_pack(), remedy=lambda *a, **k: None) if f.rule == rule]
+
+
+def test_an_empty_supply_window_at_zero_volts_says_no_supply_keeps_the_ripple_under_the_limit():
+    from .engine.helpers import figures
+
+    def window(top: float) -> list[str]:
+        axis = {"supply_min": 14.42, "supply_max": top, "supply_window_width": top - 14.42}
+        return _judged({}, "supply-window-empty", figures=figures(axis=axis))
+
+    assert window(0.0) == [
+        "no supply voltage keeps the ripple under its limit: lowering the supply lowers the ripple only down to "
+        "a floor set by the voltage an operating point needs, the inductance and the PWM frequency, and at one "
+        "point that floor is already above the limit (the points need at least 14.42 V); add inductance or "
+        "raise the PWM frequency"
+    ]
+    # a window that closes above 0 V keeps the general wording
+    assert window(5.6) == [
+        "no supply voltage works: the operating points need at least 14.42 V but the ripple and duty limits end "
+        "8.82 V below that; add inductance, raise the PWM frequency or change the scheme"
+    ]
+
+
+def test_an_audible_ripple_names_the_chokes_only_when_there_are_chokes():
+    slow = {"stage": {"pwm": {"frequency": "6 kHz"}}}
+    with_chokes = _judged(slow, "pwm-audible")
+    without = _judged({**slow, "chokes": None}, "pwm-audible")
+    assert with_chokes == [
+        "the current ripple at 12 kHz is audible (limit 16 kHz); the motor and the chokes will whine"
+    ]
+    assert without == ["the current ripple at 12 kHz is audible (limit 16 kHz); the motor will whine"]
+
+
+def test_the_choke_peak_message_says_what_the_peak_is_made_of():
+    small = {"chokes": {"saturation_current": "4 A"}}
+    stage = _judged(small, "choke-saturation")
+    motor = _judged({**small, "stage": {"current_limit": {"peak": None}}}, "choke-saturation")
+    neither = _judged(
+        {
+            "chokes": {"saturation_current": "0.5 A"},
+            "stage": {"current_limit": {"peak": None}},
+            "motor": {"peak_current": None},
+        },
+        "choke-saturation",
+    )
+    assert len(stage) == len(motor) == len(neither) == 1
+    assert "(the stage's peak current limit plus half the worst-case ripple " in stage[0]
+    assert "(the motor's peak current plus half the worst-case ripple " in motor[0]
+    assert (
+        "(the largest operating current, as an amplitude on a sinusoidal axis, plus half the worst-case" in neither[0]
+    )
+    for text in stage + motor + neither:
+        assert ", the highest supply) is " in text
+
+
+def test_a_message_case_is_checked_like_the_message():
+    from specguard.engine.pack import Rule, semantic_problems
+
+    text = (EXAMPLES.parent / "rules" / "pwm-audible.yaml").read_text(encoding="utf-8")
+    from specguard.source import load_bytes
+
+    data = load_bytes(text.encode(), "pwm-audible.yaml").data
+    assert semantic_problems(Rule.model_validate(data)) == []
+    data["message_cases"] = [
+        {"when": {}, "message": "ripple {ripple_frequncy}"},
+        {"when": {"figure": "supply_max", "above": "3 A"}, "message": "x"},
+        {"when": {"present": ["chokes/colour"]}, "message": "x"},
+    ]
+    problems = [(path, text) for path, text in semantic_problems(Rule.model_validate(data))]
+    assert (
+        ("message_cases", 0, "message"),
+        "unknown placeholder {ripple_frequncy}; did you mean {ripple_frequency}?",
+    ) in problems
+    assert (("message_cases", 0, "when"), "give at least one of present, absent and figure") in problems
+    assert any(path == ("message_cases", 1, "when", "above") for path, _ in problems)
+    assert (("message_cases", 2, "when", "present", 0), "'chokes/colour' is not a path of the spec format") in problems

@@ -441,9 +441,9 @@ def _resolve(parts: tuple[str, ...], index: int | None) -> tuple:
     return tuple(index if p == POINT else p for p in parts)
 
 
-def _render(prule: PackRule, values: Mapping[str, Any], limit: str, point: str | None) -> str:
+def _render(prule: PackRule, values: Mapping[str, Any], limit: str, point: str | None, template=None) -> str:
     out = []
-    for literal, name in prule.template:
+    for literal, name in template if template is not None else prule.template:
         out.append(literal)
         if name is None:
             continue
@@ -707,6 +707,7 @@ def _evaluate_rule(
                         point,
                         point_index,
                         remedy_fn,
+                        values,
                     )
                 )
             continue
@@ -724,11 +725,39 @@ def _evaluate_rule(
     return out
 
 
-def _finding(prule, spec, figures, locate, override, band, lowest, values, point, point_index, remedy_fn) -> Finding:
+def _message_case(prule: PackRule, spec: Any, figures, point_values: Mapping[str, Any], index: int | None):
+    """(template, the values of the figures it shows beyond the rule's own) of the first
+    message case whose conditions hold and whose figures are computed; the rule's
+    message template otherwise."""
+    for case in prule.cases:
+        if any(not _present(spec, _resolve(p, index)) for p in case.present):
+            continue
+        if any(_present(spec, _resolve(p, index)) for p in case.absent):
+            continue
+
+        def value(name: str) -> Any:
+            return point_values.get(name) if FIGURE_DEFS[name].scope == "point" else figures.axis.get(name)
+
+        if case.figure is not None:
+            v = value(case.figure)
+            if v is None or case.band is None or not _matches(v, case.band):
+                continue
+        shown = {name: value(name) for name in case.message_figures}
+        if any(v is None for v in shown.values()):
+            continue
+        return case.template, shown
+    return prule.template, {}
+
+
+def _finding(
+    prule, spec, figures, locate, override, band, lowest, values, point, point_index, remedy_fn, point_values=None
+) -> Finding:
     rule = prule.rule
     index = point_index.get(point) if point is not None else None
     limit = limit_text(band.threshold, prule.figure.dimension, figure_form(prule.figure.name))
-    message = _render(prule, values, limit, point)
+    template, shown = _message_case(prule, spec, figures, point_values or {}, index)
+    values = {**shown, **values}
+    message = _render(prule, values, limit, point, template)
     loc, via = locate(_resolve(prule.at, index))
     related = related_locations(prule, spec, locate, index, loc, via)
     remedies: list[str] = []
@@ -749,7 +778,7 @@ def _finding(prule, spec, figures, locate, override, band, lowest, values, point
         loc,
         related,
         operating_point=point,
-        figures=tuple((name, values[name], _unit(name)) for name in prule.figures_used),
+        figures=tuple((name, values[name], _unit(name)) for name in dict.fromkeys((*prule.figures_used, *shown))),
         remedies=tuple(remedies),
         help=one_line(rule.why),
         aim=aim,

@@ -150,6 +150,38 @@ class Examples(_Model):
     fail: dict[str, Any] = Field(description="overlay for the failing example (same merge rules)")
 
 
+class When(_Model):
+    """When another wording of the message fits: every condition given must hold.
+    A figure condition takes one comparator, like a band; a figure that could not be
+    computed never matches."""
+
+    present: Annotated[tuple[DocPath, ...], AsTuple] = Field((), description="spec paths that must be present")
+    absent: Annotated[tuple[DocPath, ...], AsTuple] = Field((), description="spec paths that must be absent")
+    figure: FigureName | None = Field(None, description="a figure compared with the one threshold given")
+    above: Threshold | None = Field(None, description="the figure is greater than this")
+    below: Threshold | None = Field(None, description="the figure is less than this")
+    at_least: Threshold | None = Field(None, description="the figure is this or more")
+    at_most: Threshold | None = Field(None, description="the figure is this or less")
+    is_: bool | None = Field(None, alias="is", description="for flag figures: the flag has this value")
+
+    @property
+    def comparators(self) -> list[str]:
+        return [n for n in COMPARATORS if getattr(self, "is_" if n == "is" else n) is not None]
+
+    @property
+    def threshold(self) -> float | str | bool | None:
+        names = self.comparators
+        return getattr(self, "is_" if names[0] == "is" else names[0]) if names else None
+
+
+class MessageCase(_Model):
+    """Another wording of the message for the findings it fits (say only what is true
+    of this spec: no chokes named where none are fitted, the reason a bound is zero)."""
+
+    when: When = Field(description="the conditions under which this wording is used")
+    message: Paragraph = Field(description="the message template for these findings (same placeholders)")
+
+
 class Rule(_Model):
     """One rule of the pack: a figure, its threshold bands and everything a
     reviewer needs to act on a finding."""
@@ -172,6 +204,12 @@ class Rule(_Model):
     message: Paragraph = Field(
         description="message template: {figure_name} shows a figure with its unit (ratios as percent), "
         "{limit} the crossed threshold, {point} the operating point's name"
+    )
+    message_cases: Annotated[tuple[MessageCase, ...], AsTuple] = Field(
+        (),
+        max_length=4,
+        description="other wordings of the message: the first case whose conditions hold (and whose "
+        "figures are computed) gives the finding's message; otherwise 'message'",
     )
     checks: Paragraph = Field(description="what the rule checks, in plain words")
     why: Paragraph = Field(description="why it matters")
@@ -353,32 +391,10 @@ def semantic_problems(rule: Rule, file_stem: str | None = None) -> list[tuple[tu
                 out.append((("bands", i, key), str(exc)))
     if figure is not None and figure.dimension == "flag" and rule.remedies:
         out.append((("remedies",), "a rule on a flag figure has no threshold to compute remedies for"))
-    try:
-        names = template_names(rule.message)
-    except ValueError as exc:
-        out.append((("message",), str(exc)))
-        names = []
-    for name in names:
-        if name in SPECIAL_PLACEHOLDERS:
-            if name == "point" and rule.scope != "point":
-                out.append((("message",), "{point} needs 'scope: point'"))
-            continue
-        fdef = FIGURE_DEFS.get(name)
-        if fdef is None:
-            hint = _close(name, [*FIGURE_DEFS, *SPECIAL_PLACEHOLDERS])
-            out.append(
-                (
-                    ("message",),
-                    f"unknown placeholder {{{name}}}" + (f"; did you mean {{{hint}}}?" if hint else ""),
-                )
-            )
-        elif fdef.scope == "point" and rule.scope == "axis":
-            out.append(
-                (
-                    ("message",),
-                    f"{{{name}}} is a per-point figure; an axis rule can only show axis figures",
-                )
-            )
+    out.extend(_template_problems(rule.message, ("message",), rule.scope))
+    for i, case in enumerate(rule.message_cases):
+        out.extend(_template_problems(case.message, ("message_cases", i, "message"), rule.scope))
+        out.extend(_when_problems(case.when, ("message_cases", i, "when"), rule.scope))
     for key, paths in (("at", (rule.at,)), ("related", rule.related)):
         for j, text in enumerate(paths):
             where = (key,) if key == "at" else (key, j)
@@ -406,6 +422,62 @@ def semantic_problems(rule: Rule, file_stem: str | None = None) -> list[tuple[tu
     return out
 
 
+def _template_problems(template: str, where: tuple, scope: str) -> list[tuple[tuple, str]]:
+    out: list[tuple[tuple, str]] = []
+    try:
+        names = template_names(template)
+    except ValueError as exc:
+        return [(where, str(exc))]
+    for name in names:
+        if name in SPECIAL_PLACEHOLDERS:
+            if name == "point" and scope != "point":
+                out.append((where, "{point} needs 'scope: point'"))
+            continue
+        fdef = FIGURE_DEFS.get(name)
+        if fdef is None:
+            hint = _close(name, [*FIGURE_DEFS, *SPECIAL_PLACEHOLDERS])
+            out.append((where, f"unknown placeholder {{{name}}}" + (f"; did you mean {{{hint}}}?" if hint else "")))
+        elif fdef.scope == "point" and scope == "axis":
+            out.append((where, f"{{{name}}} is a per-point figure; an axis rule can only show axis figures"))
+    return out
+
+
+def _when_problems(when: When, where: tuple, scope: str) -> list[tuple[tuple, str]]:
+    out: list[tuple[tuple, str]] = []
+    comps = when.comparators
+    if when.figure is None:
+        if comps:
+            out.append((where, "a threshold needs 'figure:', the figure it compares"))
+        if not when.present and not when.absent:
+            out.append((where, "give at least one of present, absent and figure"))
+    else:
+        fdef = FIGURE_DEFS.get(when.figure)
+        if fdef is None:
+            hint = _close(when.figure, FIGURE_DEFS)
+            out.append(
+                (where + ("figure",), f"unknown figure '{when.figure}'" + (f"; did you mean '{hint}'?" if hint else ""))
+            )
+        elif fdef.scope == "point" and scope == "axis":
+            out.append(
+                (where + ("figure",), f"'{when.figure}' is a per-point figure; an axis rule compares axis figures")
+            )
+        elif len(comps) != 1:
+            out.append((where, "a figure condition takes exactly one of above, below, at_least, at_most, is"))
+        else:
+            try:
+                threshold_si(when.threshold, fdef, comps[0])
+            except ValueError as exc:
+                out.append((where + (comps[0],), str(exc)))
+    for key in ("present", "absent"):
+        for j, text in enumerate(getattr(when, key)):
+            parts = split_path(text)
+            if POINT in parts and scope != "point":
+                out.append((where + (key, j), "{point} needs 'scope: point'"))
+            if not spec_path_exists(parts):
+                out.append((where + (key, j), f"'{text}' is not a path of the spec format"))
+    return out
+
+
 def _close(word: str, candidates) -> str | None:
     import difflib
 
@@ -423,6 +495,18 @@ class CompiledBand:
 
 
 @dataclass(frozen=True)
+class CompiledCase:
+    """A message case ready for evaluation."""
+
+    present: tuple[tuple[str, ...], ...]
+    absent: tuple[tuple[str, ...], ...]
+    figure: str | None
+    band: CompiledBand | None  # the figure condition as a band (severity unused)
+    template: tuple[tuple[str, str | None], ...]
+    message_figures: tuple[str, ...]
+
+
+@dataclass(frozen=True)
 class PackRule:
     """A validated rule with what evaluation needs precomputed."""
 
@@ -435,6 +519,7 @@ class PackRule:
     at: tuple[str, ...]
     related: tuple[tuple[str, ...], ...]
     builtin: bool = True
+    cases: tuple[CompiledCase, ...] = ()
 
     @property
     def id(self) -> str:
@@ -459,6 +544,23 @@ def compile_rule(rule: Rule, source: str, examples_dirs: tuple[Any, ...], builti
     ]
     bands.sort(key=lambda b: -SEVERITY_RANK[b.severity])
     names = template_names(rule.message)
+    cases = []
+    for case in rule.message_cases:
+        when, band = case.when, None
+        if when.figure is not None:
+            comparator = when.comparators[0]
+            threshold = threshold_si(when.threshold, FIGURE_DEFS[when.figure], comparator)
+            band = CompiledBand("info", comparator, threshold, when.threshold)
+        cases.append(
+            CompiledCase(
+                present=tuple(split_path(p) for p in when.present),
+                absent=tuple(split_path(p) for p in when.absent),
+                figure=when.figure,
+                band=band,
+                template=compile_template(case.message),
+                message_figures=tuple(n for n in template_names(case.message) if n in FIGURE_DEFS),
+            )
+        )
     return PackRule(
         rule=rule,
         source=source,
@@ -469,6 +571,7 @@ def compile_rule(rule: Rule, source: str, examples_dirs: tuple[Any, ...], builti
         at=split_path(rule.at),
         related=tuple(split_path(p) for p in rule.related),
         builtin=builtin,
+        cases=tuple(cases),
     )
 
 
@@ -517,6 +620,8 @@ FIGURE_FORMS: dict[str, str] = {
     "runaway_number": "number",
     "ripple_period_over_tau": "factor",
     "inertia_ratio": "factor",
+    "loop_bandwidth_over_mechanical": "factor",
+    "eddy_path_thickness_ratio": "factor",
     "choke_to_motor_inductance": "factor",
     "cable_resistance_ratio": "factor",
     "choke_saturation_over_rated": "factor",
