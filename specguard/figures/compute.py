@@ -1482,9 +1482,24 @@ def _plausibility(spec, ax, elec, rows, axis, missing):
             axis["inertia_ratio"] = spec.load.inertia / motor.rotor_inertia
         else:
             missing["inertia_ratio"] = "the spec gives no load.inertia"
+        # the loaded axis' mechanical corner: a current loop slower than it is slower than
+        # the speed it drives (docs/physics.md §7.2)
+        inertia = motor.rotor_inertia + (spec.load.inertia if spec.load is not None else 0.0)
+        tau_loaded = float(P.control.mechanical_time_constant(ax.loss_resistance_20, inertia, kt, kt))
+        axis["mechanical_corner_frequency"] = 1.0 / (2.0 * math.pi * tau_loaded)
+        if stage.current_loop is not None:
+            axis["loop_bandwidth_over_mechanical"] = stage.current_loop.bandwidth / axis["mechanical_corner_frequency"]
+        else:
+            missing["loop_bandwidth_over_mechanical"] = "the spec has no stage.current_loop"
     else:
         lack(
-            ("mechanical_time_constant", "mechanical_time_constant_mismatch", "inertia_ratio"),
+            (
+                "mechanical_time_constant",
+                "mechanical_time_constant_mismatch",
+                "inertia_ratio",
+                "mechanical_corner_frequency",
+                "loop_bandwidth_over_mechanical",
+            ),
             "the spec does not give motor.rotor_inertia",
         )
     v_high = _highest_supply(spec)

@@ -562,7 +562,7 @@ FIGURES: tuple[FigureDef, ...] = (
     _d(
         "eddy_path_thickness_ratio",
         "ratio",
-        "",
+        "1",
         "axis",
         "half-thickness of the eddy path over its skin depth at the ripple frequency (at most 0.5: "
         "resistance-limited, at least 2: skin-limited)",
@@ -905,6 +905,27 @@ FIGURES: tuple[FigureDef, ...] = (
         "motor/rotor_inertia",
         "motor/terminal_resistance",
         "motor/torque_constant",
+    ),
+    _d(
+        "mechanical_corner_frequency",
+        "frequency",
+        "Hz",
+        "axis",
+        "corner frequency of the loaded axis' mechanics, 1 / (2 pi R (J_rotor + J_load) / (k_t k_e))",
+        "motor/rotor_inertia",
+        "load/inertia",
+        "motor/terminal_resistance",
+        "motor/torque_constant",
+    ),
+    _d(
+        "loop_bandwidth_over_mechanical",
+        "ratio",
+        "1",
+        "axis",
+        "current-loop bandwidth over the loaded axis' mechanical corner frequency",
+        "stage/current_loop/bandwidth",
+        "motor/rotor_inertia",
+        "load/inertia",
     ),
     _d(
         "inertia_ratio",

@@ -34,12 +34,15 @@ def shown(name: str, value) -> str:
         return "yes" if value else "no"
     if not math.isfinite(value):
         return str(value)
+    from ..engine.pack import figure_form, format_value, plain_number
+
     fdef = FIGURE_DEFS.get(name)
     if fdef is None or fdef.dimension == "flag":
-        return f"{value:.4g}"
-    if fdef.dimension == "ratio":
-        return f"{value * 100:.3g} %"
-    return format_si(value, fdef.dimension)
+        return plain_number(value, 4)
+    form = figure_form(name)
+    if form in ("under", "over"):  # a table shows the signed value, not its words
+        return format_si(value, fdef.dimension)
+    return format_value(value, fdef.dimension, form)
 
 
 def render_text(report: Report) -> str:

@@ -162,8 +162,10 @@ def show_value(value: float | bool | None, dimension: str, unit: str = "") -> st
 
 
 def _g4(v: float) -> str:
-    out = f"{v:.4g}"
-    return "0" if out in ("-0", "0") else out
+    """Four significant digits, never in scientific notation (30800, not 3.08e+04)."""
+    from ..engine.pack import plain_number
+
+    return plain_number(v, 4)
 
 
 # -------------------------------------------------------------- verdicts
