@@ -197,7 +197,7 @@ def test_an_empty_supply_window_at_zero_volts_says_no_supply_keeps_the_ripple_un
     from .engine.helpers import figures
 
     def window(top: float) -> list[str]:
-        axis = {"supply_min": 14.42, "supply_max": top, "supply_window_width": top - 14.42}
+        axis = {"supply_min_static": 14.42, "supply_max": top, "supply_window_width_static": top - 14.42}
         return _judged({}, "supply-window-empty", figures=figures(axis=axis))
 
     assert window(0.0) == [
@@ -208,8 +208,9 @@ def test_an_empty_supply_window_at_zero_volts_says_no_supply_keeps_the_ripple_un
     ]
     # a window that closes above 0 V keeps the general wording
     assert window(5.6) == [
-        "no supply voltage works: the operating points need at least 14.42 V but the ripple and duty limits end "
-        "8.82 V below that; add inductance, raise the PWM frequency or change the scheme"
+        "no supply voltage works: the operating points need at least 14.42 V but the ripple, duty and stage limits "
+        "end 8.82 V below that (at 5.6 V); add inductance, raise the PWM frequency or change the scheme, or choose "
+        "a stage rated higher"
     ]
 
 

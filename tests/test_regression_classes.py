@@ -89,14 +89,6 @@ class Case:
     wrong: str | None = None
 
 
-WRONG_WINDOW = (
-    "supply-window-empty (error) fires on a drive that reaches every declared point with a "
-    "quarter of the duty range to spare (ratio 0.712 at 24 V): the minimum supply of "
-    "docs/physics.md §4.5 adds w_c L_cat I_rated = 2pi x 800 Hz x 1 mH x 4 A = 20.1 V of "
-    "headroom for a full rated-current step at full loop bandwidth at top speed, which the spec "
-    "never declares, and reads 40.3 V > the stage's 36 V; without that term the points need "
-    "18.7 V (hand calculation in the file)"
-)
 CASES = (
     # (1) worst case over the supply range
     Case(
@@ -136,8 +128,14 @@ CASES = (
     Case(
         "class1-supply-window-headroom-pass.axis.yaml",
         1,
-        checks=(("modulation_ratio", "index", 0.7116), ("modulation_ratio", "start", 0.4648)),
-        wrong=WRONG_WINDOW,
+        # the step headroom 2 pi x 800 Hz x 1 mH x 4 A = 20.106 V is judged apart: a warning
+        # that transients slow, not an error that no supply works
+        checks=(
+            ("modulation_ratio", "index", 0.7116),
+            ("modulation_ratio", "start", 0.4648),
+            ("control_headroom_voltage", None, 2.0 * 3.141592653589793 * 800.0 * 1e-3 * 4.0),
+            ("supply_min_static", None, 18.7),
+        ),
     ),
     # (2) inductance against frequency
     Case(
@@ -500,3 +498,13 @@ def test_one_overheating_winding_is_one_primary_finding():
     ]
     assert sorted(f["rule"] for f in at_press) == sorted(thermal)
     assert len([f for f in at_press if f["explained_by"] is None]) == 1
+
+
+def test_the_step_headroom_alone_is_a_warning_that_says_what_it_costs(results):
+    found = [
+        f
+        for f in results["class1-supply-window-headroom-pass.axis.yaml"].findings
+        if f.rule in ("supply-window-empty", "supply-window-without-control-headroom")
+    ]
+    assert [(f.rule, f.severity) for f in found] == [("supply-window-without-control-headroom", "warning")]
+    assert "20.11 V" in found[0].message and "slower than the loop bandwidth" in found[0].message

@@ -638,6 +638,7 @@ FIGURE_FORMS: dict[str, str] = {
     "trip_margin": "under",
     "supply_range_low_margin": "over",
     "supply_window_width": "over",
+    "supply_window_width_static": "over",
     "winding_limit_over_class": "over",
 }
 

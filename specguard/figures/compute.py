@@ -536,11 +536,18 @@ def _scalar(value) -> float | bool:
 
 def _no_window(missing):
     why = "the dead times leave no usable duty at this PWM frequency: no supply voltage reaches the load"
-    for name in ("supply_min", "supply_max", "supply_window_width"):
+    for name in _WINDOW_NAMES:
         missing[name] = why
 
 
+_WINDOW_NAMES = ("supply_min", "supply_max", "supply_window_width", "supply_min_static", "supply_window_width_static")
+
+
 def _supply_window(spec, ax, elec, settings, axis, missing):
+    """The supply window twice: with the control headroom for a step of the rated current
+    at the loop bandwidth (a dynamic reserve, docs/physics.md §4.5), and without it (what
+    the operating points need to be reached at all). Only the second can make the axis
+    impossible; the first shortens transients."""
     stage = spec.stage
     rated = spec.motor.rated_current
     loop = stage.current_loop
@@ -549,37 +556,45 @@ def _supply_window(spec, ax, elec, settings, axis, missing):
     headroom = 0.0
     if loop is not None:
         headroom = float(P.control.current_step_headroom_voltage(loop.bandwidth, ax.inductance_catalogue, rated))
+        axis["control_headroom_voltage"] = headroom
+    else:
+        missing["control_headroom_voltage"] = "the spec has no stage.current_loop"
     ceiling = stage.max_supply_voltage if stage.max_supply_voltage is not None else math.inf
     worst = max(elec, key=lambda e: e["terminal_voltage"])
+    limit = settings.ripple_limit_ratio * rated
     if ax.topology in ("dc", "six-step"):
         legs = P.hbridge.switching_leg_count(ax.scheme)
         usable = float(P.operating.modulation_max(ax.max_duty, ax.scheme)) - legs * ax.dead_time * ax.f_leg
         if usable <= 0.0:  # the dead times eat the whole duty range (dead-time-large says so)
             _no_window(missing)
             return
-        window = P.operating.supply_voltage_window(
-            worst["terminal_voltage"],
-            worst["terminal_voltage"],
-            worst["current"],
-            worst["current"],
-            ax.max_duty,
-            ax.scheme,
-            ax.inductance,
-            ax.resistance_hot,
-            ax.f_leg,
-            settings.ripple_limit_ratio * rated,
-            series_resistance=ax.series_resistance,
-            headroom_voltage=headroom,
-            reserve_fraction=settings.reserve_fraction,
-            modulation_floor=settings.modulation_floor,
-            dead_time=ax.dead_time,
-            controller_voltage_max=ceiling,
-        )
-        v_min, v_max = float(window.minimum), float(window.maximum)
+
+        def window(headroom_voltage: float) -> tuple[float, float]:
+            found = P.operating.supply_voltage_window(
+                worst["terminal_voltage"],
+                worst["terminal_voltage"],
+                worst["current"],
+                worst["current"],
+                ax.max_duty,
+                ax.scheme,
+                ax.inductance,
+                ax.resistance_hot,
+                ax.f_leg,
+                limit,
+                series_resistance=ax.series_resistance,
+                headroom_voltage=headroom_voltage,
+                reserve_fraction=settings.reserve_fraction,
+                modulation_floor=settings.modulation_floor,
+                dead_time=ax.dead_time,
+                controller_voltage_max=ceiling,
+            )
+            return float(found.minimum), float(found.maximum)
+
+        v_min, v_max = window(headroom)
+        v_min_static = window(0.0)[0] if headroom > 0.0 else v_min
         # the ripple bound holds at every point, not only the most demanding one: the
         # bipolar bound is tightest at low terminal voltage (2 L f dI_max at
         # standstill, docs/physics.md §4.6), the unipolar one is not monotonic in V_req
-        limit = settings.ripple_limit_ratio * rated
         for e in elec:
             if e is worst:
                 continue
@@ -606,11 +621,11 @@ def _supply_window(spec, ax, elec, settings, axis, missing):
             _no_window(missing)
             return
         v_min *= 1.0 + settings.reserve_fraction
+        v_min_static = v_min  # the sinusoidal minimum carries no step headroom
         # duty floor: M = 2 V_ph / V >= floor at the most demanding point
         v_max = min(ceiling, 2.0 * v_ph / settings.modulation_floor) if v_ph > 0 else ceiling
         # ripple: the maximum peak-to-peak phase ripple rises with the supply at a
         # fixed operating point (docs/physics.md §2.3); every point must stay within it
-        limit = settings.ripple_limit_ratio * rated
         for e in elec:
             v_max = min(
                 v_max,
@@ -619,12 +634,15 @@ def _supply_window(spec, ax, elec, settings, axis, missing):
                 ),
             )
     axis["supply_min"] = v_min
+    axis["supply_min_static"] = v_min_static
     if math.isfinite(v_max):
         axis["supply_max"] = v_max
         axis["supply_window_width"] = v_max - v_min
+        axis["supply_window_width_static"] = v_max - v_min_static
     else:
         missing["supply_max"] = "no upper bound applies (no duty floor, ripple or controller limit reached)"
         missing["supply_window_width"] = missing["supply_max"]
+        missing["supply_window_width_static"] = missing["supply_max"]
 
 
 def _pulse_windows(ax, pwm, rows, missing) -> None:

@@ -497,8 +497,12 @@ class SupplyWindow(NamedTuple):
 
 
 def supply_window(spec, figures) -> SupplyWindow | None:
-    """The supply window of the figures, or None when neither bound is known."""
-    low, high = _num(figures, "supply_min"), _num(figures, "supply_max")
+    """The supply window of the figures, or None when neither bound is known: from the
+    lowest supply that reaches the points (the step headroom of the current loop is
+    judged apart, as the rules do) to the highest the ripple, duty and stage allow."""
+    low, high = _num(figures, "supply_min_static"), _num(figures, "supply_max")
+    if low is None:
+        low = _num(figures, "supply_min")
     if low is None and high is None:
         return None
     voltage = _num(figures, "supply_voltage") or float(spec.stage.supply.voltage)

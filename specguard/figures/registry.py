@@ -447,6 +447,36 @@ FIGURES: tuple[FigureDef, ...] = (
         "supply_max minus supply_min (negative: no supply voltage satisfies both)",
         "stage/supply/voltage",
     ),
+    _d(
+        "supply_min_static",
+        "voltage",
+        "V",
+        "axis",
+        "lowest supply voltage that reaches every operating point with the reserve, without the control "
+        "headroom for a current step (what the points need to be reached at all)",
+        "operating_points",
+        "stage/supply/voltage",
+    ),
+    _d(
+        "supply_window_width_static",
+        "voltage",
+        "V",
+        "axis",
+        "supply_max minus supply_min_static (negative: no supply voltage reaches the points within the ripple "
+        "and duty limits)",
+        "stage/supply/voltage",
+    ),
+    _d(
+        "control_headroom_voltage",
+        "voltage",
+        "V",
+        "axis",
+        "voltage a step of the rated current at the current-loop bandwidth needs across the catalogue "
+        "inductance, 2 pi f_c L I_rated (part of supply_min)",
+        "stage/current_loop/bandwidth",
+        "motor/terminal_inductance",
+        "motor/rated_current",
+    ),
     # --- audible, control
     _d(
         "loop_bandwidth_ratio",
