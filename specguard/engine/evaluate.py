@@ -385,6 +385,12 @@ def _present(spec: Any, parts: tuple) -> bool:
     return _get(spec, parts) is not _MISSING
 
 
+@functools.lru_cache(maxsize=4096)
+def _parts(text: str) -> tuple[str, ...]:
+    """A rule file's spec path ``a/b/c`` as its parts (parsed once, not per variant)."""
+    return tuple(text.split("/"))
+
+
 def applicability(prule: PackRule, spec: Any, figures) -> tuple[str, str, tuple]:
     """("skip" | "not-applicable" | "applies", reason, document path to point at)."""
     ap = prule.rule.applies
@@ -397,20 +403,20 @@ def applicability(prule: PackRule, spec: Any, figures) -> tuple[str, str, tuple]
     if ap.tags and not set(ap.tags) & set(spec.axis.tags):
         return "skip", "axis has none of the tags " + ", ".join(ap.tags), ()
     for text in ap.present:
-        if not _present(spec, tuple(text.split("/"))):
+        if not _present(spec, _parts(text)):
             return "skip", f"the spec does not give {text.replace('/', '.')}", ()
     for text in ap.absent:
-        if _present(spec, tuple(text.split("/"))):
+        if _present(spec, _parts(text)):
             return "skip", f"the spec gives {text.replace('/', '.')}", ()
     for text in (*ap.requires, *ap.equals):
-        if not _present(spec, tuple(text.split("/"))):
+        if not _present(spec, _parts(text)):
             return (
                 "not-applicable",
                 f"the spec does not give {text.replace('/', '.')}",
-                tuple(text.split("/")),
+                _parts(text),
             )
     for text, wanted in ap.equals.items():
-        value = _get(spec, tuple(text.split("/")))
+        value = _get(spec, _parts(text))
         if value != wanted or isinstance(value, bool) != isinstance(wanted, bool):
             return "skip", f"{text.replace('/', '.')} is {value!r}", ()
     for name in prule.figures_used:

@@ -22,6 +22,7 @@ import re
 import string
 from collections.abc import Mapping
 from dataclasses import dataclass, field
+from functools import cached_property
 from typing import Annotated, Any, Literal
 
 from pydantic import BaseModel, BeforeValidator, ConfigDict, Field, StringConstraints
@@ -529,8 +530,9 @@ class PackRule:
     def figure(self) -> FigureDef:
         return FIGURE_DEFS[self.rule.figure]
 
-    @property
+    @cached_property
     def figures_used(self) -> tuple[str, ...]:
+        """The judged figure, then the message's (computed once: judged for every variant)."""
         names = [self.rule.figure]
         names.extend(n for n in self.message_figures if n not in names)
         return tuple(names)
