@@ -267,3 +267,20 @@ def test_a_message_case_is_checked_like_the_message():
     assert (("message_cases", 0, "when"), "give at least one of present, absent and figure") in problems
     assert any(path == ("message_cases", 1, "when", "above") for path, _ in problems)
     assert (("message_cases", 2, "when", "present", 0), "'chokes/colour' is not a path of the spec format") in problems
+
+
+# ----------------------------------- 4. the estimate is the motor's, not the loop's
+def test_inductance_estimated_speaks_of_the_motors_inductance():
+    from specguard.figures import compute
+
+    from .engine.helpers import base_spec
+
+    overlay = {"motor": {"inductance_vs_frequency": None}}
+    messages = _judged(overlay, "inductance-estimated")
+    figs = compute(base_spec("dc-axis", overlay)[0])
+    # the loop holds the chokes too: its totals are not the motor's inductance
+    assert figs.value("loop_inductance") > figs.value("motor_inductance_ripple")
+    assert len(messages) == 1
+    text = messages[0]
+    assert text.startswith("no measured inductance table: the motor's terminal inductance at the ripple frequency ")
+    assert "an estimate, 50.16 uH from its catalogue value 150 uH," in text and "loop" not in text

@@ -385,6 +385,12 @@ def compute(spec: Spec, settings: FigureSettings | None = None) -> FigureSet:
         "pwm_frequency_leg": ax.f_leg,
         "loop_inductance": ax.inductance,
         "loop_inductance_catalogue": ax.inductance_catalogue,
+        "motor_inductance_ripple": ax.terminal_inductance,
+        "motor_inductance_catalogue": (
+            motor.terminal_inductance.value
+            if motor.terminal_inductance is not None
+            else motor.inductance_vs_frequency[0].inductance  # type: ignore[index]  # the model gives one of the two
+        ),
         "loop_resistance_hot": ax.resistance_hot,
         "electrical_time_constant": ax.inductance / ax.resistance_hot,
         "ripple_period_over_tau": float(

@@ -104,6 +104,25 @@ FIGURES: tuple[FigureDef, ...] = (
         *_L,
     ),
     _d(
+        "motor_inductance_ripple",
+        "inductance",
+        "H",
+        "axis",
+        "the motor's terminal inductance at the ripple frequency: interpolated in the measured table, else "
+        "the catalogue value, derated to an estimate when it was measured well below the ripple frequency",
+        "motor/terminal_inductance",
+        "motor/inductance_vs_frequency",
+    ),
+    _d(
+        "motor_inductance_catalogue",
+        "inductance",
+        "H",
+        "axis",
+        "the motor's catalogue terminal inductance (else the first row of its measured table)",
+        "motor/terminal_inductance",
+        "motor/inductance_vs_frequency",
+    ),
+    _d(
         "loop_resistance_hot",
         "resistance",
         "ohm",
