@@ -361,7 +361,7 @@ def test_current_extremes_of_the_figures(figures, case, point):
     assert abs(w.leg_duty - 0.5) > 0.15 or abs(w.duty - 0.5) > 0.3
     if case.supply_range is None:  # the duty figure is judged at the bottom of a range
         assert fig["duty"] == pytest.approx(w.leg_duty, rel=TOL)
-    assert fig["current"] == pytest.approx(w.current, rel=TOL)  # T / k_t, hand calculation
+    assert fig["operating_current"] == pytest.approx(w.current, rel=TOL)  # T / k_t, hand calculation
     assert fig["current_max"] == pytest.approx(i_max, rel=TOL), SOURCE
     assert fig["current_min"] == pytest.approx(i_min, rel=TOL), SOURCE
     assert fig["ripple_pp"] == pytest.approx(i_max - i_min, rel=TOL), SOURCE

@@ -73,7 +73,7 @@ def test_e4_operating_point():
     assert fs.value("terminal_voltage", "e4") == pytest.approx(14.990, rel=1e-4)
     assert fs.value("modulation", "e4") == pytest.approx(0.62460, rel=1e-4)
     assert fs.value("duty", "e4") == pytest.approx(0.81230, rel=1e-4)
-    assert fs.value("current", "e4") == pytest.approx(2.0, rel=1e-12)
+    assert fs.value("operating_current", "e4") == pytest.approx(2.0, rel=1e-12)
     # docs/physics.md, worked example E4: tau_e = 0.2 ms with R = R25 = 1 ohm; here R is hot (80 degC),
     # R(80 degC) = 1.21198 ohm (E4), so tau = 0.2 mH / 1.21198 ohm
     assert fs.value("electrical_time_constant") == pytest.approx(0.2e-3 / 1.21198, rel=1e-4)
@@ -235,13 +235,13 @@ def test_rms_rating_standing_in_for_a_peak_counts_as_its_amplitude():
     data["motor"]["terminal_inductance"]["value"] = "4 mH"  # a small ripple beside 1.22 A amplitude
     data["stage"]["current_limit"] = {"continuous": "2 A"}
     fs = figures_of(data)
-    peak = fs.value("peak_current")
+    peak = fs.value("peak_current_reached")
     assert fs.value("peak_current_ratio_motor") == pytest.approx(peak / (math.sqrt(2) * 1.0), rel=1e-12)
     assert fs.value("peak_current_ratio_stage") == pytest.approx(peak / (math.sqrt(2) * 2.0), rel=1e-12)
     assert fs.value("peak_current_ratio_motor") < 1.0  # below rated: no peak-current error
     # a brushed DC axis keeps the DC rating as it is (docs/physics.md, worked example E4: 2.0 A)
     dc = figures_of(E4)
-    assert dc.value("peak_current_ratio_motor") == pytest.approx(dc.value("peak_current") / 2.0, rel=1e-12)
+    assert dc.value("peak_current_ratio_motor") == pytest.approx(dc.value("peak_current_reached") / 2.0, rel=1e-12)
 
 
 def test_choke_peak_from_an_rms_operating_current_is_its_amplitude():
@@ -252,7 +252,7 @@ def test_choke_peak_from_an_rms_operating_current_is_its_amplitude():
     data = _e5_axis(points=[{"name": "p", "speed": "1000 rpm", "torque": "0.075 N*m", "ambient": "25 degC"}])
     data["chokes"] = {"inductance": "100 uH", "placement": "per-phase", "count": 3, "saturation_current": "5 A"}
     fs = figures_of(data)
-    i_rms = fs.value("current", "p")
+    i_rms = fs.value("operating_current", "p")
     expected = math.sqrt(2) * i_rms + fs.value("ripple_pp_worst") / 2
     assert fs.value("choke_peak_current") == pytest.approx(expected, rel=1e-12)
 

@@ -51,7 +51,7 @@ def test_json_is_si_and_matches_definitions():
     assert axis["pwm_frequency_leg"]["value"] == 25e3
     assert axis["ripple_frequency"]["value"] == 50e3
     lift = next(p for p in figures["points"] if p["name"] == "lift")
-    speed = next(f for f in lift["figures"] if f["name"] == "speed")
+    speed = next(f for f in lift["figures"] if f["name"] == "point_speed")
     assert math.isclose(speed["value"], 5200 * 2 * math.pi / 60, rel_tol=1e-12)
 
 

@@ -264,7 +264,7 @@ def test_a_message_case_is_checked_like_the_message():
         ("message_cases", 0, "message"),
         "unknown placeholder {ripple_frequncy}; did you mean {ripple_frequency}?",
     ) in problems
-    assert (("message_cases", 0, "when"), "give at least one of present, absent and figure") in problems
+    assert (("message_cases", 0, "when"), "give at least one of present, absent, equals and figure") in problems
     assert any(path == ("message_cases", 1, "when", "above") for path, _ in problems)
     assert (("message_cases", 2, "when", "present", 0), "'chokes/colour' is not a path of the spec format") in problems
 
@@ -284,3 +284,76 @@ def test_inductance_estimated_speaks_of_the_motors_inductance():
     text = messages[0]
     assert text.startswith("no measured inductance table: the motor's terminal inductance at the ripple frequency ")
     assert "an estimate, 50.16 uH from its catalogue value 150 uH," in text and "loop" not in text
+
+
+# --------------------------------- 11. no figure is named like a key of the spec format
+def _spec_keys() -> set[str]:
+    """Every key name of the spec format, at any depth (the leaf of each path)."""
+    import typing
+
+    from pydantic import BaseModel
+
+    from specguard.model.spec import Spec
+
+    keys: set[str] = set()
+    seen: set[type] = set()
+
+    def walk(model: type[BaseModel]) -> None:
+        if model in seen:
+            return
+        seen.add(model)
+        for name, field in model.model_fields.items():
+            keys.add(field.alias or name)
+
+            def inner(annotation) -> None:
+                if isinstance(annotation, type) and issubclass(annotation, BaseModel):
+                    walk(annotation)
+                for arg in typing.get_args(annotation):
+                    inner(arg)
+
+            inner(field.annotation)
+
+    walk(Spec)
+    return keys
+
+
+def test_no_figure_name_equals_a_spec_key():
+    from specguard.figures.registry import FIGURES
+
+    keys = _spec_keys()
+    assert {"rated_current", "winding_time_constant", "speed", "dead_time"} <= keys  # the walk reaches the leaves
+    assert sorted(f.name for f in FIGURES if f.name in keys) == []
+
+
+def test_a_rule_file_may_still_name_a_renamed_figure_by_its_former_name(tmp_path):
+    from specguard.engine.baseline import values_digest
+    from specguard.engine.evaluate import load_pack
+
+    from .engine.helpers import write_rule
+
+    write_rule(
+        tmp_path / "team",
+        "id: team-slow-point\n"
+        "title: a slow point\n"
+        "figure: speed\n"
+        "scope: point\n"
+        "bands: [{ severity: info, below: 100 rpm }]\n"
+        "at: operating_points/{point}/speed\n"
+        "message: at '{point}' the speed {speed} is slow; the rated current is {rated_current}\n"
+        "checks: the speed\nwhy: a team rule\nformula: none\nsources: ['common practice, no published source']\n"
+        "examples: { base: dc-axis, pass: {}, fail: {} }\n",
+    )
+    rule = next(r for r in load_pack([tmp_path / "team"]).rules if r.id == "team-slow-point")
+    assert rule.rule.figure == "point_speed" and rule.figures_used == ("point_speed", "motor_rated_current")
+    # a baseline written before the rename still matches
+    assert values_digest([("motor_rated_current", 1.9, "A")]) == values_digest([("rated_current", 1.9, "A")])
+
+
+def test_the_peak_current_message_says_how_the_peak_is_found():
+    exact = _judged({"motor": {"peak_current": "0.5 A"}}, "peak-current-over-motor-limit")
+    assert (
+        len(exact) == 1 and "(the largest maximum of the exact current waveform over the operating points)" in exact[0]
+    )
+    sine = _judged({"motor": {"peak_current": "0.5 A"}}, "peak-current-over-motor-limit", base="three-phase-axis")
+    assert len(sine) == 1
+    assert "(the largest phase current amplitude over the operating points plus half its ripple)" in sine[0]

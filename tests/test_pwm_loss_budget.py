@@ -28,7 +28,7 @@ def test_without_calibration_the_estimate_stays_out_of_the_temperature():
     spec, fs = _figures(IRON)
     assert fs.value("pwm_loss_estimated") is True
     for point in fs.point_names():
-        assert fs.value("pwm_loss", point) > fs.value("pwm_loss_low", point) > 0.0
+        assert fs.value("pwm_eddy_loss", point) > fs.value("pwm_loss_low", point) > 0.0
     # same winding temperature as with no PWM loss at all: compare with a loss-free model
     # (a calibration of a vanishing loss)
     _, zero = _figures(
@@ -52,7 +52,7 @@ def test_a_calibrated_loss_heats_the_housing_node_exactly_like_a_warmer_ambient(
     assert fs.value("pwm_loss_estimated") is None  # calibrated: not an estimate
     r_ha = spec.motor.thermal.housing_to_ambient
     for index, point in enumerate(spec.operating_points):
-        loss = fs.value("pwm_loss", point.name)
+        loss = fs.value("pwm_eddy_loss", point.name)
         assert loss > 0.0
         warmer = {
             "motor": {"winding": "iron-core"},
@@ -85,7 +85,7 @@ def test_the_reference_point_gives_back_the_reference_loss():
         "regime": "skin-limited",
     }
     _, calibrated = _figures({"motor": {"winding": "iron-core", "pwm_loss": calibration}})
-    assert calibrated.value("pwm_loss", point) == pytest.approx(1.5, rel=1e-9)
+    assert calibrated.value("pwm_eddy_loss", point) == pytest.approx(1.5, rel=1e-9)
 
 
 def test_a_choke_lowers_the_pwm_loss():
@@ -93,7 +93,7 @@ def test_a_choke_lowers_the_pwm_loss():
     _, bare = _figures({**IRON, "chokes": None})
     _, choked = _figures(IRON)  # the example's 100 uH per lead
     for point in bare.point_names():
-        assert choked.value("pwm_loss", point) < bare.value("pwm_loss", point)
+        assert choked.value("pwm_eddy_loss", point) < bare.value("pwm_eddy_loss", point)
 
 
 # ------------------------------------------------------------------ the motion profile
@@ -212,7 +212,7 @@ def test_the_eddy_path_sets_the_regime_from_its_skin_depth(part, regime):
     ratio = 0.5 * thickness / _skin_depth(fs.value("ripple_frequency"), rho, mu)
     assert fs.value("eddy_path_thickness_ratio") == pytest.approx(ratio, rel=1e-9)
     assert regime in fs.notes["eddy_path_thickness_ratio"]
-    assert regime in fs.notes["pwm_loss"]
+    assert regime in fs.notes["pwm_eddy_loss"]
 
 
 def test_an_eddy_path_in_transition_reports_the_larger_of_both_laws():
@@ -220,12 +220,12 @@ def test_an_eddy_path_in_transition_reports_the_larger_of_both_laws():
     # loss of the two laws is kept for the high end of the estimate (docs/pwm-losses.md)
     spec, fs = _figures({"motor": {"winding": "iron-core", "eddy_path": {"material": "ndfeb", "thickness": "5 mm"}}})
     assert 0.5 < fs.value("eddy_path_thickness_ratio") < 2.0
-    assert "transition" in fs.notes["pwm_loss"]
+    assert "transition" in fs.notes["pwm_eddy_loss"]
     _, skin = _figures({"motor": {"winding": "iron-core", "pwm_loss": None}})
     _, res = _figures({"motor": {"winding": "iron-core", "eddy_path": {"material": "ndfeb", "thickness": "0.5 mm"}}})
     for point in fs.point_names():
-        assert fs.value("pwm_loss", point) == pytest.approx(
-            max(skin.value("pwm_loss", point), res.value("pwm_loss", point)), rel=1e-12
+        assert fs.value("pwm_eddy_loss", point) == pytest.approx(
+            max(skin.value("pwm_eddy_loss", point), res.value("pwm_eddy_loss", point)), rel=1e-12
         )
         assert fs.value("pwm_loss_low", point) == pytest.approx(
             min(skin.value("pwm_loss_low", point), res.value("pwm_loss_low", point)), rel=1e-12

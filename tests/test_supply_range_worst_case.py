@@ -75,7 +75,7 @@ def test_holding_torque_at_standstill_heats_one_phase_with_the_amplitude():
     )
     fs = figures_of(spec)
     assert fs.value("standstill_hold", "hold") is True and fs.value("standstill_hold", "run") is False
-    held = math.hypot(fs.value("current", "hold") * math.sqrt(2.0), fs.value("ripple_rms", "hold"))
+    held = math.hypot(fs.value("operating_current", "hold") * math.sqrt(2.0), fs.value("ripple_rms", "hold"))
     assert fs.value("rms_current", "hold") == pytest.approx(held, rel=1e-12)
-    running = math.hypot(fs.value("current", "run"), fs.value("ripple_rms", "run"))
+    running = math.hypot(fs.value("operating_current", "run"), fs.value("ripple_rms", "run"))
     assert fs.value("rms_current", "run") == pytest.approx(running, rel=1e-12)

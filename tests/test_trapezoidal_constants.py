@@ -45,7 +45,7 @@ def test_terminal_voltage_from_the_flat_top_constant():
     tr = spec.motor.terminal_resistance
     r_hot = float(resistance_at_temperature(tr.value, tr.at, limit))  # IEC 60028 copper, at the limit
     for point in spec.operating_points:
-        current = fs.value("current", point.name)
+        current = fs.value("operating_current", point.name)
         expected = ke * point.speed + current * r_hot  # two phases in series: terminal values
         assert fs.value("terminal_voltage", point.name) == pytest.approx(expected, rel=1e-9)
 

@@ -33,6 +33,7 @@ from collections.abc import Iterable, Mapping
 from dataclasses import dataclass, replace
 from pathlib import Path
 
+from ..figures.registry import FORMER_FIGURE_NAMES
 from ..findings import BUILTIN_IDS, Finding, Location
 
 BASELINE_FORMAT = 1
@@ -102,6 +103,9 @@ class BaselineOutcome:
 
 
 # ------------------------------------------------------------------ the key
+_DIGEST_NAMES = {new: old for old, new in FORMER_FIGURE_NAMES.items()}
+
+
 def _round(value: object) -> str:
     if isinstance(value, bool):
         return "true" if value else "false"
@@ -116,8 +120,9 @@ def _round(value: object) -> str:
 
 
 def values_digest(figures: Iterable[tuple[str, object, str]]) -> str:
-    """Hash of the figures behind a finding (name, rounded SI value, unit), order-free."""
-    parts = sorted(f"{name}={_round(value)}{unit}" for name, value, unit in figures)
+    """Hash of the figures behind a finding (name, rounded SI value, unit), order-free.
+    A renamed figure is hashed under its former name, so a rename breaks no baseline."""
+    parts = sorted(f"{_DIGEST_NAMES.get(name, name)}={_round(value)}{unit}" for name, value, unit in figures)
     text = "\n".join(parts)
     return hashlib.sha256(text.encode("utf-8", "surrogatepass")).hexdigest()[:16]
 

@@ -42,6 +42,7 @@ from .pack import (
     plain_number,
     semantic_problems,
     threshold_si,
+    with_current_figure_names,
 )
 from .types import RuleOverride
 
@@ -95,7 +96,7 @@ def parse_rule_bytes(raw: bytes, display: str, examples_dirs: tuple, builtin: bo
     if problems or result.data is None:
         raise PackError(problems or [f"{display}:1:1: the rule file could not be read"])
     try:
-        rule = Rule.model_validate(result.data)
+        rule = Rule.model_validate(with_current_figure_names(result.data))
     except ValidationError as exc:
         out = []
         for err in exc.errors(include_url=False):
@@ -731,6 +732,10 @@ def _evaluate_rule(
     return out
 
 
+def _equal(value: Any, wanted: object) -> bool:
+    return value == wanted and isinstance(value, bool) == isinstance(wanted, bool)
+
+
 def _message_case(prule: PackRule, spec: Any, figures, point_values: Mapping[str, Any], index: int | None):
     """(template, the values of the figures it shows beyond the rule's own) of the first
     message case whose conditions hold and whose figures are computed; the rule's
@@ -739,6 +744,8 @@ def _message_case(prule: PackRule, spec: Any, figures, point_values: Mapping[str
         if any(not _present(spec, _resolve(p, index)) for p in case.present):
             continue
         if any(_present(spec, _resolve(p, index)) for p in case.absent):
+            continue
+        if any(not _equal(_get(spec, _resolve(p, index)), wanted) for p, wanted in case.equals):
             continue
 
         def value(name: str) -> Any:

@@ -27,7 +27,7 @@ from typing import Annotated, Any, Literal
 
 from pydantic import BaseModel, BeforeValidator, ConfigDict, Field, StringConstraints
 
-from ..figures.registry import FIGURE_DEFS, REMEDIES, FigureDef
+from ..figures.registry import FIGURE_DEFS, FORMER_FIGURE_NAMES, REMEDIES, FigureDef
 from ..model.spec import PwmScheme
 from ..model.units import UnitError, format_si, parse_quantity
 
@@ -158,6 +158,9 @@ class When(_Model):
 
     present: Annotated[tuple[DocPath, ...], AsTuple] = Field((), description="spec paths that must be present")
     absent: Annotated[tuple[DocPath, ...], AsTuple] = Field((), description="spec paths that must be absent")
+    equals: Mapping[DocPath, bool | str | float] = Field(
+        default_factory=dict, description="spec path -> the value it must have"
+    )
     figure: FigureName | None = Field(None, description="a figure compared with the one threshold given")
     above: Threshold | None = Field(None, description="the figure is greater than this")
     below: Threshold | None = Field(None, description="the figure is less than this")
@@ -238,6 +241,43 @@ class Rule(_Model):
 
 
 # ----------------------------------------------------------------- semantics
+def with_current_figure_names(data: object) -> object:
+    """A rule document with the former names of renamed figures
+    (:data:`~specguard.figures.registry.FORMER_FIGURE_NAMES`) replaced by the current
+    ones, in ``figure``, the message placeholders and the message cases; a team's rule
+    file written before a rename keeps working."""
+    if not isinstance(data, dict):
+        return data
+
+    def name(value: object) -> object:
+        return FORMER_FIGURE_NAMES.get(value, value) if isinstance(value, str) else value
+
+    def text(value: object) -> object:
+        if not isinstance(value, str):
+            return value
+        return re.sub(r"\{([a-z][a-z0-9_]*)\}", lambda m: "{" + FORMER_FIGURE_NAMES.get(m[1], m[1]) + "}", value)
+
+    out = dict(data)
+    if "figure" in out:
+        out["figure"] = name(out["figure"])
+    if "message" in out:
+        out["message"] = text(out["message"])
+    cases = out.get("message_cases")
+    if isinstance(cases, list):
+        fixed = []
+        for case in cases:
+            if isinstance(case, dict):
+                case = dict(case)
+                if "message" in case:
+                    case["message"] = text(case["message"])
+                when = case.get("when")
+                if isinstance(when, dict) and "figure" in when:
+                    case["when"] = {**when, "figure": name(when["figure"])}
+            fixed.append(case)
+        out["message_cases"] = fixed
+    return out
+
+
 def split_path(text: str) -> tuple[str, ...]:
     return tuple(text.split("/")) if text else ()
 
@@ -449,8 +489,8 @@ def _when_problems(when: When, where: tuple, scope: str) -> list[tuple[tuple, st
     if when.figure is None:
         if comps:
             out.append((where, "a threshold needs 'figure:', the figure it compares"))
-        if not when.present and not when.absent:
-            out.append((where, "give at least one of present, absent and figure"))
+        if not when.present and not when.absent and not when.equals:
+            out.append((where, "give at least one of present, absent, equals and figure"))
     else:
         fdef = FIGURE_DEFS.get(when.figure)
         if fdef is None:
@@ -469,13 +509,14 @@ def _when_problems(when: When, where: tuple, scope: str) -> list[tuple[tuple, st
                 threshold_si(when.threshold, fdef, comps[0])
             except ValueError as exc:
                 out.append((where + (comps[0],), str(exc)))
-    for key in ("present", "absent"):
+    for key in ("present", "absent", "equals"):
         for j, text in enumerate(getattr(when, key)):
+            at = where + (key, text if key == "equals" else j)
             parts = split_path(text)
             if POINT in parts and scope != "point":
-                out.append((where + (key, j), "{point} needs 'scope: point'"))
+                out.append((at, "{point} needs 'scope: point'"))
             if not spec_path_exists(parts):
-                out.append((where + (key, j), f"'{text}' is not a path of the spec format"))
+                out.append((at, f"'{text}' is not a path of the spec format"))
     return out
 
 
@@ -501,6 +542,7 @@ class CompiledCase:
 
     present: tuple[tuple[str, ...], ...]
     absent: tuple[tuple[str, ...], ...]
+    equals: tuple[tuple[tuple[str, ...], object], ...]
     figure: str | None
     band: CompiledBand | None  # the figure condition as a band (severity unused)
     template: tuple[tuple[str, str | None], ...]
@@ -557,6 +599,7 @@ def compile_rule(rule: Rule, source: str, examples_dirs: tuple[Any, ...], builti
             CompiledCase(
                 present=tuple(split_path(p) for p in when.present),
                 absent=tuple(split_path(p) for p in when.absent),
+                equals=tuple((split_path(p), v) for p, v in when.equals.items()),
                 figure=when.figure,
                 band=band,
                 template=compile_template(case.message),

@@ -367,7 +367,7 @@ def _worst_ripple(spec: Spec, ax: _Axis, inductance: float) -> float:
     return max(P.threephase.phase_ripple_peak_to_peak_max(V, inductance, ax.f_leg, M, ax.scheme) for M in grid)
 
 
-POINT_INPUTS = ("speed", "torque", "ambient")
+POINT_INPUTS = ("point_speed", "point_torque", "point_ambient")
 
 
 def compute(spec: Spec, settings: FigureSettings | None = None) -> FigureSet:
@@ -377,7 +377,7 @@ def compute(spec: Spec, settings: FigureSettings | None = None) -> FigureSet:
     rated = motor.rated_current
     V = stage.supply.voltage
     axis: dict[str, float | bool] = {
-        "rated_current": rated,
+        "motor_rated_current": rated,
         "supply_voltage": V,
         "supply_voltage_high": _highest_supply(spec),
         "supply_voltage_low": _lowest_supply(spec),
@@ -415,10 +415,10 @@ def compute(spec: Spec, settings: FigureSettings | None = None) -> FigureSet:
         elec.append(e)
         rows.append(
             {
-                "speed": point.speed,
-                "torque": point.torque,
-                "ambient": point.ambient,
-                "current": e["current"],
+                "point_speed": point.speed,
+                "point_torque": point.torque,
+                "point_ambient": point.ambient,
+                "operating_current": e["current"],
                 "terminal_voltage": e["terminal_voltage"],
                 "modulation": e["modulation"],
                 "duty": e["duty"],
@@ -513,7 +513,7 @@ def compute(spec: Spec, settings: FigureSettings | None = None) -> FigureSet:
     _pwm_loss_effect(spec, ax, rows, pwm, missing)
 
     peak = max(e["peak"] for e in elec)
-    axis["peak_current"] = peak
+    axis["peak_current_reached"] = peak
     # peak ratings are instantaneous values; a continuous rating standing in for a
     # missing one is an RMS phase current on a sinusoidal axis, so its amplitude counts
     amplitude = SQRT2 if ax.topology == "sinusoidal" else 1.0
@@ -776,7 +776,13 @@ def _pwm_loss(spec, ax, elec, rows, axis, missing, notes) -> _PwmLoss | None:
     """PWM eddy loss per point from the ripple (docs/physics.md §5.6, docs/pwm-losses.md)."""
     motor = spec.motor
     thermal = motor.thermal
-    names = ("pwm_loss", "pwm_loss_low", "pwm_loss_to_copper", "pwm_loss_temperature_rise", "pwm_loss_margin_share")
+    names = (
+        "pwm_eddy_loss",
+        "pwm_loss_low",
+        "pwm_loss_to_copper",
+        "pwm_loss_temperature_rise",
+        "pwm_loss_margin_share",
+    )
     if motor.eddy_path is None:
         missing["eddy_path_thickness_ratio"] = "the spec has no motor.eddy_path"
     if thermal is None:
@@ -808,7 +814,7 @@ def _pwm_loss(spec, ax, elec, rows, axis, missing, notes) -> _PwmLoss | None:
         )
         law_fn = _LossLaw(cals if len(cals) > 1 else cals[0], regime, ax)
         values = tuple(law_fn(e) for e in elec)
-        notes["pwm_loss"] = f"calibrated from motor.pwm_loss ({regime}); in the thermal budget"
+        notes["pwm_eddy_loss"] = f"calibrated from motor.pwm_loss ({regime}); in the thermal budget"
         return _PwmLoss(values, values, values, False, node, law_fn, winding_node)
     lows, highs = [], []
     for law in laws:
@@ -821,11 +827,11 @@ def _pwm_loss(spec, ax, elec, rows, axis, missing, notes) -> _PwmLoss | None:
         )
     low = tuple(min(v) for v in zip(*lows, strict=True))
     high = tuple(max(v) for v in zip(*highs, strict=True))
-    notes["pwm_loss"] = (
+    notes["pwm_eddy_loss"] = (
         f"estimate for a {motor.winding} winding ({regime}; common practice, no published source): not in the "
         "thermal budget; give motor.pwm_loss from one bench measurement"
     )
-    notes["pwm_loss_low"] = notes["pwm_loss"]
+    notes["pwm_loss_low"] = notes["pwm_eddy_loss"]
     axis["pwm_loss_estimated"] = True
     return _PwmLoss(tuple(0.0 for _ in loads), high, low, True, node, None, winding_node)
 
@@ -837,7 +843,7 @@ def _pwm_loss_effect(spec, ax, rows, pwm: _PwmLoss | None, missing) -> None:
     if not pwm.estimated:
         missing["pwm_loss_low"] = "the PWM loss is calibrated (motor.pwm_loss): one value"
     for row, high, low in zip(rows, pwm.high, pwm.low, strict=True):
-        row["pwm_loss"] = high
+        row["pwm_eddy_loss"] = high
         if pwm.estimated:
             row["pwm_loss_low"] = low
         rise = high * pwm.node_resistance
@@ -892,7 +898,7 @@ def _thermal(spec, ax, elec, rows, axis, missing, notes, pwm: _PwmLoss | None = 
         row["runaway_number"] = P.thermal.runaway_number(i_rms, r20, r_wh, r_ha)
         # a calibrated PWM loss heats its node: exactly an ambient higher by P R_node
         # in the two-node steady state (docs/pwm-losses.md)
-        ambient = row["ambient"] + p_extra * node
+        ambient = row["point_ambient"] + p_extra * node
         t_w = P.thermal.winding_temperature_steady(i_rms, r20, r_wh, r_ha, ambient)
         if not math.isfinite(t_w):
             runaway = True
@@ -900,7 +906,7 @@ def _thermal(spec, ax, elec, rows, axis, missing, notes, pwm: _PwmLoss | None = 
             row["winding_temperature"] = t_w
             copper = i_rms * i_rms * float(P.thermal.resistance_at_temperature(r20, KELVIN_20C, t_w))
             row["copper_loss"] = copper
-            row["housing_temperature"] = row["ambient"] + (copper + p_extra) * r_ha
+            row["housing_temperature"] = row["point_ambient"] + (copper + p_extra) * r_ha
             if limit is not None:
                 row["winding_margin"] = limit - t_w
         if limit is not None:
@@ -1262,7 +1268,7 @@ def remedy(
                 rated,
                 limit,
                 terminal_voltage=float(point_values["terminal_voltage"]),
-                current=float(point_values["current"]),
+                current=float(point_values["operating_current"]),
                 series_resistance=ax.series_resistance,
                 dead_time=ax.dead_time,
             )
@@ -1421,7 +1427,7 @@ def _plausibility(spec, ax, elec, rows, axis, missing):
     r_terminal = motor.terminal_resistance.value
     table = motor.inductance_vs_frequency or ()
     l_cat = motor.terminal_inductance.value if motor.terminal_inductance else table[0].inductance
-    axis["winding_time_constant"] = l_cat / r_terminal
+    axis["winding_electrical_time_constant"] = l_cat / r_terminal
     axis["resistance_reference_temperature"] = motor.terminal_resistance.at
     freqs = [row.frequency for row in table]
     if motor.terminal_inductance is not None:
@@ -1444,7 +1450,7 @@ def _plausibility(spec, ax, elec, rows, axis, missing):
     kt = _torque_constant_model(spec)
     rated_torque = kt * rated
     for row in rows:
-        row["torque_ratio"] = row["torque"] / rated_torque
+        row["torque_ratio"] = row["point_torque"] / rated_torque
     if spec.profile is not None:
         axis["profile_torque_ratio_min"] = min(s.torque for s in spec.profile.segments) / rated_torque
         axis["profile_ambient"] = spec.profile.ambient
@@ -1494,11 +1500,11 @@ def _plausibility(spec, ax, elec, rows, axis, missing):
     # mechanics: mechanical time constant, inertia ratio, speeds
     if motor.rotor_inertia is not None:
         # tau_m = R J / (k_t k_e) with k_e = k_t in SI for the current the figures use
-        axis["mechanical_time_constant"] = float(
+        axis["mechanical_time_constant_computed"] = float(
             P.control.mechanical_time_constant(ax.loss_resistance_20, motor.rotor_inertia, kt, kt)
         )
         if motor.mechanical_time_constant is not None:
-            tau = axis["mechanical_time_constant"]
+            tau = axis["mechanical_time_constant_computed"]
             axis["mechanical_time_constant_mismatch"] = abs(motor.mechanical_time_constant - tau) / max(tau, 1e-300)
         else:
             missing["mechanical_time_constant_mismatch"] = "the spec does not give motor.mechanical_time_constant"
@@ -1518,7 +1524,7 @@ def _plausibility(spec, ax, elec, rows, axis, missing):
     else:
         lack(
             (
-                "mechanical_time_constant",
+                "mechanical_time_constant_computed",
                 "mechanical_time_constant_mismatch",
                 "inertia_ratio",
                 "mechanical_corner_frequency",
@@ -1536,7 +1542,7 @@ def _plausibility(spec, ax, elec, rows, axis, missing):
     profile_speeds = [s.speed for s in spec.profile.segments] if spec.profile is not None else []
     if motor.max_speed is not None:
         for row in rows:
-            row["speed_ratio"] = row["speed"] / motor.max_speed
+            row["speed_ratio"] = row["point_speed"] / motor.max_speed
         if no_load > 0:
             axis["max_speed_over_no_load"] = motor.max_speed / no_load
         else:
@@ -1599,10 +1605,10 @@ def _plausibility(spec, ax, elec, rows, axis, missing):
     # PWM timing
     period = 1.0 / ax.f_leg
     if pwm.dead_time is not None:
-        axis["dead_time"] = pwm.dead_time
+        axis["pwm_dead_time"] = pwm.dead_time
         axis["dead_time_fraction"] = 2.0 * pwm.dead_time / period
     else:
-        lack(("dead_time", "dead_time_fraction"), "the spec does not give stage.pwm.dead_time")
+        lack(("pwm_dead_time", "dead_time_fraction"), "the spec does not give stage.pwm.dead_time")
     if pwm.min_pulse is not None:
         axis["min_pulse_fraction"] = pwm.min_pulse / period
         if pwm.dead_time:
@@ -1613,11 +1619,11 @@ def _plausibility(spec, ax, elec, rows, axis, missing):
         lack(("min_pulse_fraction", "min_pulse_over_dead_time"), "the spec does not give stage.pwm.min_pulse")
     _pulse_windows(ax, pwm, rows, missing)
     if pwm.timer_clock is not None:
-        axis["timer_clock"] = pwm.timer_clock
+        axis["pwm_timer_clock"] = pwm.timer_clock
         counts = pwm.timer_clock / ax.f_leg / (2.0 if pwm.alignment == "center" else 1.0)
         axis["pwm_count_step"] = 1.0 / counts
     else:
-        lack(("timer_clock", "pwm_count_step"), "the spec does not give stage.pwm.timer_clock")
+        lack(("pwm_timer_clock", "pwm_count_step"), "the spec does not give stage.pwm.timer_clock")
 
     # stage currents against the motor and the operating points
     limits = stage.current_limit
@@ -1646,9 +1652,9 @@ def _plausibility(spec, ax, elec, rows, axis, missing):
     else:
         missing["current_loop_bandwidth"] = "the spec has no stage.current_loop"
     if stage.switch_resistance is not None:
-        axis["switch_resistance"] = stage.switch_resistance
+        axis["stage_switch_resistance"] = stage.switch_resistance
     else:
-        missing["switch_resistance"] = "the spec does not give stage.switch_resistance"
+        missing["stage_switch_resistance"] = "the spec does not give stage.switch_resistance"
 
     # chokes and cable
     chokes = spec.chokes

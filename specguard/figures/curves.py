@@ -141,7 +141,7 @@ def _loop(spec, figures):
 
 def ripple_limit(spec, figures, fraction: float = DEFAULT_RIPPLE_FRACTION) -> float | None:
     """The peak-to-peak ripple limit [A]: ``fraction`` x rated current."""
-    rated = _num(figures, "rated_current")
+    rated = _num(figures, "motor_rated_current")
     if rated is None:
         rated = float(spec.motor.rated_current)
     return fraction * rated
@@ -215,7 +215,7 @@ def current_waveform(spec, figures, point: str | None = None) -> Waveform | None
     modulation = _num(figures, "ripple_modulation", point)
     if modulation is None:
         modulation = _num(figures, "modulation", point)
-    current = _num(figures, "current", point)
+    current = _num(figures, "operating_current", point)
     if modulation is None or current is None or resistance <= 0.0:
         return None
     modulation = min(max(modulation, -1.0), 1.0)
@@ -225,7 +225,7 @@ def current_waveform(spec, figures, point: str | None = None) -> Waveform | None
     time, amps = hbridge.current_waveform(
         voltage, inductance, resistance, frequency, modulation, scheme, back_emf, sample_count=WAVEFORM_POINTS
     )
-    rated = _num(figures, "rated_current") or float(spec.motor.rated_current)
+    rated = _num(figures, "motor_rated_current") or float(spec.motor.rated_current)
     return Waveform(
         point=point,
         time=time,

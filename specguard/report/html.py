@@ -917,7 +917,7 @@ def _scheme_table(rows, fail_level: str) -> str:
     body = []
     for label, fs, found in rows:
         counts = {k: sum(1 for f in found if f.severity == k) for k in ("error", "warning")}
-        loss = _worst(fs, "pwm_loss")
+        loss = _worst(fs, "pwm_eddy_loss")
         loss_text = DASH if loss is None else show_value(loss, "power")
         if loss is not None and fs.axis.get("pwm_loss_estimated"):
             low = _worst(fs, "pwm_loss_low")

@@ -99,7 +99,7 @@ def rule_text(
     applies="",
     at="operating_points/{point}",
     related="[motor/rated_current]",
-    message="ripple {ripple_pp} at '{point}' is {ripple_ratio} of {rated_current} (limit {limit})",
+    message="ripple {ripple_pp} at '{point}' is {ripple_ratio} of {motor_rated_current} (limit {limit})",
     remedies="[]",
 ):
     return RULE.format(

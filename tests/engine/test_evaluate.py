@@ -22,7 +22,7 @@ def spec_locate():
 
 
 def ripple_figs(hold: float, run: float, **extra_axis):
-    axis = {"rated_current": 1.9, **extra_axis}
+    axis = {"motor_rated_current": 1.9, **extra_axis}
     return figures(
         axis=axis,
         points={
@@ -204,7 +204,7 @@ def test_message_units_percent_limit_point(tmp_path, spec_locate):
     assert f.figures == (
         ("ripple_ratio", 0.87, "1"),
         ("ripple_pp", pytest.approx(1.653), "A"),
-        ("rated_current", 1.9, "A"),
+        ("motor_rated_current", 1.9, "A"),
     )
     assert f.help == "it matters"
 
@@ -302,7 +302,7 @@ def test_missing_figure_is_one_not_applicable_finding(tmp_path, spec_locate):
         pack,
         spec_locate,
         figures(
-            axis={"rated_current": 1.9},
+            axis={"motor_rated_current": 1.9},
             missing={"ripple_pp": "no inductance at the ripple frequency"},
         ),
     )
@@ -314,7 +314,7 @@ def test_missing_figure_is_one_not_applicable_finding(tmp_path, spec_locate):
 def test_figure_absent_at_some_points_is_reported(tmp_path, spec_locate):
     pack = single(tmp_path, rule_text())
     figs = figures(
-        axis={"rated_current": 1.9},
+        axis={"motor_rated_current": 1.9},
         points={"hold": {}, "run": {"ripple_ratio": 0.9, "ripple_pp": 1.7}},
     )
     out = run(pack, spec_locate, figs)

@@ -42,7 +42,7 @@ def test_figure_change_with_percent(changed):
     files = {f["file"]: f for f in doc["files"]}
     lift = files["axes/sample-lift.axis.yaml"]
     assert lift["status"] == "changed"
-    rated = [f for f in lift["figures"] if f["name"] == "rated_current"]
+    rated = [f for f in lift["figures"] if f["name"] == "motor_rated_current"]
     assert len(rated) == 1 and rated[0]["point"] is None
     assert rated[0]["old"] == pytest.approx(1.9) and rated[0]["new"] == pytest.approx(2.2)
     assert rated[0]["change_percent"] == pytest.approx((2.2 - 1.9) / 1.9 * 100)
@@ -80,7 +80,7 @@ def test_no_new_findings_exit_zero(demo_repo):
     )
     done = specguard(demo_repo, "compare", "HEAD")
     assert done.returncode == 0
-    assert "figure rated_current (axis): 1.9 A -> 2.2 A (+15.8 %)" in done.stdout
+    assert "figure motor_rated_current (axis): 1.9 A -> 2.2 A (+15.8 %)" in done.stdout
     assert re.search(r"resolved: axes/sample-lift\.axis\.yaml:\d+:5: .*\[winding-temperature-margin\]", done.stdout)
 
 
@@ -111,7 +111,7 @@ def test_markdown_and_output_file(changed, tmp_path):
     assert done.returncode == 1
     text = out.read_text(encoding="utf-8")
     assert text.startswith("## specguard: design changes since `")
-    assert "| rated\\_current | axis | 1.9 A | 2.2 A | +15.8 % |" in text
+    assert "| motor\\_rated\\_current | axis | 1.9 A | 2.2 A | +15.8 % |" in text
     assert "### axes/carousel.axis.yaml (removed)" in text
     assert "New findings:" in text
 
@@ -151,10 +151,10 @@ def test_small_changes_are_counted_not_listed_unless_asked(demo_repo):
         spec.read_text(encoding="utf-8").replace("rated_current: 1.9 A", "rated_current: 1.902 A"), encoding="utf-8"
     )
     quiet = specguard(demo_repo, "compare", "HEAD")
-    assert "figure rated_current" not in quiet.stdout
+    assert "figure motor_rated_current" not in quiet.stdout
     assert re.search(r"\d+ figure changes? under 1 % not listed \(--all-changes lists them\)", quiet.stdout)
     loud = specguard(demo_repo, "compare", "HEAD", "--all-changes")
-    assert "figure rated_current (axis): 1.9 A -> 1.902 A (+0.105 %)" in loud.stdout
+    assert "figure motor_rated_current (axis): 1.9 A -> 1.902 A (+0.105 %)" in loud.stdout
 
 
 def test_percent_change_is_never_shown_across_zero():

@@ -60,7 +60,7 @@ def make_figures(spec) -> FigureSet:
         loss_r20 = r20
     rated = float(motor.rated_current)
     axis = {
-        "rated_current": rated,
+        "motor_rated_current": rated,
         "supply_voltage": volts,
         "pwm_frequency_leg": f_leg,
         "ripple_frequency": f_r,
@@ -89,10 +89,10 @@ def make_figures(spec) -> FigureSet:
         )
         emf = float(operating.back_emf(motor.back_emf_constant.value, op.speed))
         vals: dict = {
-            "speed": float(op.speed),
-            "torque": float(op.torque),
-            "ambient": float(op.ambient),
-            "current": current,
+            "point_speed": float(op.speed),
+            "point_torque": float(op.torque),
+            "point_ambient": float(op.ambient),
+            "operating_current": current,
         }
         if fam == "hbridge":
             v_term = float(operating.terminal_voltage_dc(motor.back_emf_constant.value, op.speed, current, r_hot_motor))

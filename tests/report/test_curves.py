@@ -31,7 +31,7 @@ def _figs(volts, inductance, resistance, f_leg, rated, points=()):
         "loop_inductance": inductance,
         "loop_resistance_hot": resistance,
         "pwm_frequency_leg": f_leg,
-        "rated_current": rated,
+        "motor_rated_current": rated,
     }
     return FigureSet(axis=axis, points=tuple(points))
 
@@ -46,7 +46,7 @@ def test_waveform_matches_textbook_chopper_e1():
     # -> I_min = 18.367 A, I_max = 25.633 A, dI = 7.266 A, I_avg = 22.000 A.
     # A single-leg unipolar bridge at m = 0.5 is that chopper (docs/physics.md §1.2 table).
     spec = _spec("unipolar-single", 220.0, 20.0)
-    figs = _figs(220.0, 7.5e-3, 5.0, 1000.0, 20.0, [("p", {"modulation": 0.5, "current": 22.0, "ripple_pp": 7.0})])
+    figs = _figs(220.0, 7.5e-3, 5.0, 1000.0, 20.0, [("p", {"modulation": 0.5, "operating_current": 22.0, "ripple_pp": 7.0})])
     wave = curves.current_waveform(spec, figs)
     assert wave is not None and wave.point == "p"
     assert wave.back_emf == pytest.approx(0.0, abs=1e-12)
@@ -82,7 +82,7 @@ def test_waveform_of_demo_axis_matches_physics_and_figures():
     m = fs.value("ripple_modulation", worst)
     expected = (abs(m) * volts + (1.0 - abs(m)) * 0.0 - wave.back_emf) / r_loop
     assert _trapezoid_mean(wave.time, wave.current) == pytest.approx(expected, rel=1e-4)
-    assert expected == pytest.approx(fs.value("current", worst), rel=1e-9)
+    assert expected == pytest.approx(fs.value("operating_current", worst), rel=1e-9)
     assert wave.rated_current == pytest.approx(1.9)  # the spec's local override
 
 

@@ -140,10 +140,10 @@ def _injected_figures(spec, p: str, full: bool) -> FigureSet:
     clean = make_figures(spec)
     points = []
     for k, (_name, vals) in enumerate(clean.points):
-        vals = dict(vals) if full else {"ripple_pp": vals["ripple_pp"], "current": vals["current"]}
+        vals = dict(vals) if full else {"ripple_pp": vals["ripple_pp"], "operating_current": vals["operating_current"]}
         vals[p] = 1.0  # an unknown figure name
         points.append((f"{p}{k}", vals))
-    axis = dict(clean.axis) if full else {"rated_current": clean.axis["rated_current"]}
+    axis = dict(clean.axis) if full else {"motor_rated_current": clean.axis["motor_rated_current"]}
     return FigureSet(axis=axis, points=tuple(points), missing={p: p, "supply_min": p}, notes={"loop_inductance": p})
 
 

@@ -54,7 +54,7 @@ def test_each_row_is_what_check_finds_for_the_edited_file(comparison, tmp_path, 
         assert fs.axis[name] == pytest.approx(edited.figures.axis[name], rel=1e-12), name
     for (point, values), (point_b, values_b) in zip(fs.points, edited.figures.points, strict=True):
         assert point == point_b
-        assert values["pwm_loss"] == pytest.approx(values_b["pwm_loss"], rel=1e-12)
+        assert values["pwm_eddy_loss"] == pytest.approx(values_b["pwm_eddy_loss"], rel=1e-12)
     for severity in ("error", "warning"):
         assert sum(f.severity == severity for f in found) == sum(f.severity == severity for f in edited.findings)
 
