@@ -304,6 +304,9 @@ def test_text_lines_start_with_our_own_text(outputs, stream):
         body = line[4:] if line.startswith("    ") else line
         if body.startswith(("fix: ", "specguard: ")):
             continue
+        if body.startswith("same cause: "):  # a consequence: our own words, then its own location
+            assert any(body[len("same cause: ") :].startswith(p + ":") for p in shown), line
+            continue
         if line.startswith("    "):  # a related location: our own label first, its place at the end
             assert re.match(r"^[a-z_][a-z0-9_.\[\]]*( |$)", body), line
             assert any(

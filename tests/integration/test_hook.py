@@ -25,7 +25,7 @@ def test_no_files_exits_zero_without_loading_the_checker(demo_repo):
 def test_given_spec_is_checked(demo_repo):
     done = specguard(demo_repo, "hook", "axes/sample-lift.axis.yaml")
     assert done.returncode == 1
-    assert "axes/sample-lift.axis.yaml:13:14: error:" in done.stdout  # its empty supply window
+    assert "axes/sample-lift.axis.yaml:15:29: error:" in done.stdout  # braking into a bus that cannot take it
     assert "pipette-x" not in done.stdout and "in 1 file" in done.stdout
 
 

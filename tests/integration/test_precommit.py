@@ -100,7 +100,7 @@ def test_commits_through_the_real_hook(hook_env):
     done = _commit(work, env, "lift axis")
     out = done.stdout + done.stderr
     assert done.returncode != 0
-    assert "axes/sample-lift.axis.yaml:13:14: error:" in out and "[supply-window-empty]" in out
+    assert "axes/sample-lift.axis.yaml:15:29: error:" in out and "[braking-energy-unabsorbed]" in out
     subprocess.run(["git", "reset", "-q", "HEAD", "axes/sample-lift.axis.yaml"], cwd=work, check=True)
     (work / "axes" / "sample-lift.axis.yaml").unlink()
 
