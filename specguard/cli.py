@@ -234,7 +234,10 @@ def _speed_options(p: argparse.ArgumentParser, cache: bool = True) -> None:
         type=_jobs,
         default=None,
         metavar="N",
-        help="worker processes (default: the number of CPUs when more than 8 files need analysis, else 1)",
+        help=(
+            "worker processes (default: the number of CPUs when more than 8 files need analysis, else 1; "
+            "the HTML report draws its axis sections on every CPU unless -j is given)"
+        ),
     )
     if cache:
         p.add_argument("--no-cache", action="store_true", help="neither read nor write the result cache")
@@ -755,7 +758,9 @@ def _run_report(args, root: Path) -> int:
             missing = html.plots_unavailable()
             if missing is not None:
                 sys.stderr.write(f"specguard: the HTML report has no plots: {missing}\n")
-            rendered = html.render(report, generated=_generated_text(), plots=missing is None, plots_note=missing)
+            rendered = html.render(
+                report, generated=_generated_text(), plots=missing is None, plots_note=missing, jobs=args.jobs
+            )
         else:
             from .report import markdown
 

@@ -1320,7 +1320,7 @@ def _sections(report, plotter, ripple_fraction: float, ctx, jobs: int | None) ->
 
     count = len(report.files)
     busy = [i for i, r in enumerate(report.files) if r.spec is not None]
-    workers = min(jobs if jobs is not None else min(default_jobs(), 2), len(busy))
+    workers = min(jobs if jobs is not None else default_jobs(), len(busy))
     _STATE["args"] = (report, plotter, ripple_fraction, ctx)
     try:
         if plotter is None or workers < 2 or not sys.platform.startswith("linux"):
@@ -1380,7 +1380,8 @@ def render(
     (default: found from the working directory), for the feasibility maps, which
     re-read each spec with findings and judge 10 x 10 variants of it
     (``feasibility_maps=False`` leaves them out). ``jobs``: processes drawing the axis
-    sections (default: the usable cores, at most 2); the output is the same for any number.
+    sections (default: the usable cores; at most one per axis with a spec); the output is the
+    same for any number.
     """
     plotter = _Plotter() if plots else None
     ctx = _MapContext(root) if plots and feasibility_maps else None
