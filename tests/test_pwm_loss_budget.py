@@ -241,3 +241,19 @@ def test_the_profile_plot_draws_the_same_cycle_as_the_figure():
     assert trace is not None and not trace.runaway
     assert trace.peak == pytest.approx(fs.value("profile_peak_temperature"), rel=1e-12)
     assert trace.mean == pytest.approx(fs.value("profile_mean_temperature"), rel=1e-12)
+
+
+def test_the_ripple_is_the_cause_of_its_pwm_loss_findings():
+    # the PWM eddy loss is made by the ripple alone (docs/pwm-losses.md): on the demo's
+    # sample-lift axis the loss finding is reported under the worst-case ripple finding
+    from pathlib import Path
+
+    from specguard.pipeline import check_paths
+
+    repo = Path(__file__).resolve().parents[1]
+    report = check_paths([str(repo / "examples" / "robot" / "axes" / "sample-lift.axis.yaml")], root=repo)
+    findings = report.files[0].findings
+    assert any(f.rule == "worst-ripple-over-rated-current" for f in findings)
+    loss = [f for f in findings if f.rule.startswith("pwm-loss-")]
+    assert loss
+    assert all(f.explained_by is not None and "worst-ripple-over-rated-current" in f.explained_by for f in loss)
