@@ -12,7 +12,8 @@ from __future__ import annotations
 import pytest
 
 from specguard.figures import compute
-from specguard.figures.compute import EDDY_MATERIALS, profile_segments
+from specguard.figures.compute import profile_segments
+from specguard.physics.eddy import EDDY_MATERIALS
 from tests.engine.helpers import base_spec
 
 # the dc-axis rule example (rules/examples/dc-axis.yaml) as an iron-core motor with its thermal data

@@ -735,21 +735,6 @@ def _ripple_load(ax: _Axis, e: Mapping[str, float]) -> tuple[float, float]:
     return float(e["ripple_pp"]), _clip(duty, 1e-6, 1.0 - 1e-6)
 
 
-# Resistivity [ohm m] and small-signal relative permeability of the materials an eddy
-# path may name (typical handbook values at room temperature, common practice, no
-# published source; docs/pwm-losses.md lists them). A spec may give its own values.
-EDDY_MATERIALS: dict[str, tuple[float, float]] = {
-    "electrical-steel": (0.48e-6, 1000.0),
-    "soft-iron": (0.12e-6, 500.0),
-    "ndfeb": (1.5e-6, 1.05),
-    "smco": (0.8e-6, 1.05),
-    "ferrite": (1.0e2, 1.1),
-    "copper": (17.24e-9, 1.0),
-    "aluminium": (28.2e-9, 1.0),
-    "stainless-steel": (0.72e-6, 1.0),
-}
-
-
 def _pwm_regime(motor, ax: _Axis, axis, notes) -> str:
     """The conduction regime of the PWM eddy loss: the calibration's, else the declared
     eddy path's half-thickness against its skin depth at the ripple frequency, else the
@@ -760,7 +745,7 @@ def _pwm_regime(motor, ax: _Axis, axis, notes) -> str:
     part = motor.eddy_path
     if part is None:
         return _PWM_REGIME[motor.winding]
-    rho_default, mu_default = EDDY_MATERIALS[part.material]
+    rho_default, mu_default = P.eddy.EDDY_MATERIALS[part.material]
     rho = part.resistivity if part.resistivity is not None else rho_default
     mu = part.relative_permeability if part.relative_permeability is not None else mu_default
     depth = float(P.eddy.skin_depth(ax.f_ripple, rho, mu))
@@ -1632,8 +1617,10 @@ def _plausibility(spec, ax, elec, rows, axis, missing):
             # the continuous rating is an RMS phase current (docs/format.md); a six-step
             # phase carries the block current two thirds of the period while turning,
             # all of it when the axis holds at standstill (one commutation state)
-            share = math.sqrt(2.0 / 3.0) if ax.topology == "six-step" and point.speed > 0.0 else 1.0
-            row["stage_current_rms"] = share * e["rms_current"]
+            turning = ax.topology == "six-step" and point.speed > 0.0
+            row["stage_current_rms"] = (
+                float(P.rms.six_step_phase_current_rms(e["rms_current"])) if turning else e["rms_current"]
+            )
             row["stage_current_ratio"] = row["stage_current_rms"] / limits.continuous
         axis["stage_to_motor_current"] = limits.continuous / rated
         if limits.peak is not None:

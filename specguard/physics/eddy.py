@@ -19,6 +19,7 @@ from specguard.physics._num import namespace, np
 
 __all__ = [
     "VACUUM_PERMEABILITY",
+    "EDDY_MATERIALS",
     "ripple_voltage_mean_square_hbridge",
     "ripple_voltage_mean_square_three_phase",
     "ripple_slope_mean_square",
@@ -101,6 +102,22 @@ def eddy_loss_index(quantity, reference_quantity):
     team's standard drive).  Never watts.  Source: derived here (docs/physics.md §5.4).
     """
     return quantity / reference_quantity
+
+
+# Resistivity [Ohm m] and small-signal relative permeability of the materials an eddy
+# path may name (typical handbook values at room temperature, common practice, no
+# published source; copper: the annealed copper of IEC 60028; docs/pwm-losses.md lists
+# them). A spec may give its own values.
+EDDY_MATERIALS: dict[str, tuple[float, float]] = {
+    "electrical-steel": (0.48e-6, 1000.0),
+    "soft-iron": (0.12e-6, 500.0),
+    "ndfeb": (1.5e-6, 1.05),
+    "smco": (0.8e-6, 1.05),
+    "ferrite": (1.0e2, 1.1),
+    "copper": (17.24e-9, 1.0),
+    "aluminium": (28.2e-9, 1.0),
+    "stainless-steel": (0.72e-6, 1.0),
+}
 
 
 def skin_depth(frequency, resistivity, relative_permeability=1.0):

@@ -20,6 +20,7 @@ __all__ = [
     "ripple_harmonic_loss",
     "three_phase_current_rms",
     "three_phase_copper_loss",
+    "six_step_phase_current_rms",
 ]
 
 
@@ -142,3 +143,16 @@ def three_phase_copper_loss(phase_resistance, phase_current_rms):
     Source: derived here (docs/physics.md §3.1).
     """
     return 3.0 * phase_resistance * phase_current_rms * phase_current_rms
+
+
+def six_step_phase_current_rms(block_current_rms):
+    """RMS current of one phase of a turning six-step drive ``sqrt(2/3) I_block,rms`` [A].
+
+    Parameters: block_current_rms [A] RMS of the loop (block) current, ripple included.
+    With 120-degree conduction each phase carries the block current two thirds of the
+    electrical period and none the rest. Holding at standstill one commutation state stays
+    on: the phase then carries all of it (not this function). Source: derived here
+    (docs/physics.md §3.1).
+    """
+    xp = namespace(block_current_rms)
+    return xp.sqrt(2.0 / 3.0) * block_current_rms
