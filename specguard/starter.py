@@ -31,7 +31,7 @@ from .model.quantity import Quantity
 
 # What the figures take when an optional key is absent, where absence is more than
 # "the figures that need it are left out" (docs/format.md prints these beside the
-# default). Keyed by (model class, field); read from specguard/figures/compute.py.
+# default). Keyed by (model class, field); read from the figure modules (specguard/figures/).
 WHEN_ABSENT: dict[tuple[str, str], str] = {
     ("Motor", "terminal_inductance"): "an error unless `inductance_vs_frequency` is given",
     ("Motor", "inductance_vs_frequency"): "the catalogue inductance, derated for the ripple frequency",

@@ -213,7 +213,10 @@ CASES = (
         "class4-six-step-block-current-pass.axis.yaml",
         4,
         # RMS phase current of 120-degree blocks: 2.356 A x sqrt(2/3) = 1.924 A, 87.4 % of 2.2 A
-        checks=(("operating_current", "spin", 2.356), ("stage_current_ratio", "spin", 2.356 * (2.0 / 3.0) ** 0.5 / 2.2)),
+        checks=(
+            ("operating_current", "spin", 2.356),
+            ("stage_current_ratio", "spin", 2.356 * (2.0 / 3.0) ** 0.5 / 2.2),
+        ),
     ),
     # (5) braking into a battery or a supply that cannot sink
     Case(

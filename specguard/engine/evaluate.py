@@ -859,6 +859,105 @@ def evaluate(
     return out
 
 
+def evaluate_batch(
+    spec: Any,
+    figures,
+    pack: Pack,
+    overrides: Mapping[str, RuleOverride] = {},
+    size: int = 1,
+) -> dict[str, Any]:
+    """The verdicts of every rule of ``pack`` on a batch of ``size`` variants of one spec.
+
+    ``figures`` holds arrays of ``size`` values (specguard.figures.batch); the verdict
+    is what :func:`evaluate` with ``lean`` gives each variant: per rule id, the rank in
+    SEVERITY_ORDER of its most severe finding over the operating points, -1 for none.
+    A figure missing for the whole batch makes the rule not applicable (an info
+    finding); a figure that is NaN for some variants does the same for those. A rule
+    that fails is an internal error for every variant, as in a check.
+    """
+    import numpy as np
+
+    from ..findings import SEVERITY_ORDER
+
+    resolved: dict[str, RuleOverride] = {}
+    for name, given in overrides.items():
+        prule = pack.get(name)
+        if prule is None:
+            raise OverrideError(f"unknown rule '{name}' in the overrides")
+        resolved[prule.id] = given
+    info = SEVERITY_ORDER["info"]
+    out: dict[str, Any] = {}
+
+    def column(value: Any) -> Any:
+        if isinstance(value, (bool, np.bool_)) or (hasattr(value, "dtype") and value.dtype == bool):
+            return np.broadcast_to(np.asarray(value, dtype=bool), (size,))
+        return np.broadcast_to(np.asarray(value, dtype=float), (size,))
+
+    for prule in pack.rules:
+        override = resolved.get(prule.id)
+        if override is not None and not override.enabled:
+            continue
+        rank = np.full(size, -1, dtype=int)
+        try:
+            status, _reason, _path = applicability(prule, spec, figures)
+            if status == "skip":
+                continue
+            if status == "not-applicable":
+                out[prule.id] = np.full(size, info, dtype=int)
+                continue
+            bands = effective_bands(prule, override)
+            rule = prule.rule
+            targets = [values for _name, values in figures.points] if rule.scope == "point" else [{}]
+            for values in targets:
+                merged: dict[str, Any] = {}
+                for name in prule.figures_used:
+                    v = values.get(name) if FIGURE_DEFS[name].scope == "point" else figures.axis.get(name)
+                    if v is None:
+                        break
+                    merged[name] = column(v)
+                else:
+                    present = np.ones(size, dtype=bool)
+                    for v in merged.values():
+                        if v.dtype != bool:
+                            present &= ~np.isnan(v)
+                    v = merged[rule.figure]
+                    left = present.copy()
+                    for band in bands:
+                        hit = left & _matches_array(v, band)
+                        if hit.any():
+                            severity = band.severity
+                            if override is not None and override.severity:
+                                severity = override.severity
+                            rank = np.where(hit, np.maximum(rank, SEVERITY_ORDER[severity]), rank)
+                        left &= ~hit
+                    rank = np.where(present, rank, np.maximum(rank, info))
+                    continue
+                rank = np.maximum(rank, info)  # not applicable at this point
+        except (KeyboardInterrupt, SystemExit, OverrideError):
+            raise
+        except Exception:
+            rank = np.full(size, SEVERITY_ORDER["error"], dtype=int)  # internal-error, as in a check
+        out[prule.id] = rank
+    return out
+
+
+def _matches_array(value: Any, band: CompiledBand) -> Any:
+    """:func:`_matches` on an array of values (NaN matches nothing)."""
+    import numpy as np
+
+    c, t = band.comparator, band.threshold
+    if c == "is":
+        return value.astype(bool) == bool(t)
+    with np.errstate(invalid="ignore"):
+        if c == "above":
+            return value > t
+        if c == "below":
+            return value < t
+        if c == "at_least":
+            return value >= t
+        return value <= t
+
+
 def group_consequences(findings: list[Finding], pack: Pack) -> list[Finding]:
     """One problem reported once: a finding whose rule ``explains`` other rules takes
     their findings (at the same operating point, or where either is an axis finding) as

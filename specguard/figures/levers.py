@@ -116,6 +116,16 @@ class Lever:
     def edit(self, data: Mapping, spec, amount: float) -> Edit | None:
         raise NotImplementedError
 
+    def reshapes(self, spec) -> bool:
+        """An edit adds or replaces a section of the spec (not only values)."""
+        return False
+
+    def fields(self, spec, amounts) -> tuple[dict[tuple[str, ...], Any], Any]:
+        """The spec values the edits at ``amounts`` (an array) write, unrounded, and the
+        mask of the amounts that are edits at all (the batch evaluator's view of
+        :meth:`edit`)."""
+        raise NotImplementedError
+
     def _cost(self, spec, amount: float) -> float:
         now = self.current(spec)
         weight = COST_WEIGHT.get(self.name, 1.0)
@@ -139,6 +149,21 @@ class AddedInductance(Lever):
 
     def _layout(self) -> tuple[str, int]:
         return ("per-lead", 2) if self.topology == "dc" else ("per-phase", 3)
+
+    def reshapes(self, spec) -> bool:
+        placement, count = self._layout()
+        chokes = spec.chokes
+        return not (chokes is not None and chokes.placement == placement and chokes.count == count)
+
+    def reshaped(self, spec):
+        """The spec model with a chokes section of this lever's layout in place of the
+        one it has (none, or another layout), its values to be set by :meth:`fields`
+        (plot sweeps; a fix goes through :meth:`edit` and the model build instead)."""
+        from ..model.spec import Chokes
+
+        placement, count = self._layout()
+        chokes = Chokes.model_construct(inductance=0.0, placement=placement, count=count, resistance=0.0)
+        return spec.model_copy(update={"chokes": chokes})
 
     def edit(self, data: Mapping, spec, amount: float) -> Edit | None:
         placement, count = self._layout()
@@ -176,6 +201,23 @@ class AddedInductance(Lever):
             )
         return Edit(self.name, per_choke_added, text, tuple(changes), new, self._cost(spec, total))
 
+    def fields(self, spec, amounts):
+        import numpy as np
+
+        amounts = np.asarray(amounts, dtype=float)
+        placement, count = self._layout()
+        per_choke_added = amounts / 2.0 if self.topology == "six-step" else amounts
+        chokes = spec.chokes
+        keeps = chokes is not None and chokes.placement == placement and chokes.count == count
+        existing = chokes.inductance if keeps and chokes is not None else 0.0
+        total = existing + per_choke_added
+        out: dict[tuple[str, ...], Any] = {("chokes", "inductance"): total}
+        if keeps and chokes is not None and chokes.resistance:
+            out[("chokes", "resistance")] = chokes.resistance * total / chokes.inductance
+        elif not keeps:
+            out[("chokes", "resistance")] = total * NEW_CHOKE_OHM_PER_HENRY
+        return out, amounts >= 0.0
+
 
 class PwmFrequency(Lever):
     """``amount`` is the leg (carrier) frequency; written as the spec declares it."""
@@ -203,6 +245,12 @@ class PwmFrequency(Lever):
             text += f" (write 'frequency: {written_text}', the ripple frequency)"
         text += self.note
         return Edit(self.name, leg, text, (("/stage/pwm/frequency", written_text),), new, self._cost(spec, _written))
+
+    def fields(self, spec, amounts):
+        import numpy as np
+
+        amounts = np.asarray(amounts, dtype=float)
+        return {("stage", "pwm", "frequency"): amounts * self.written_per_leg}, amounts <= self.maximum
 
 
 class SupplyVoltage(Lever):
@@ -238,6 +286,23 @@ class SupplyVoltage(Lever):
         if supply.range is not None:
             text += f" (range {changes[1][1][0]} to {changes[1][1][1]})"
         return Edit(self.name, volts, text, tuple(changes), new, self._cost(spec, volts))
+
+    def fields(self, spec, amounts):
+        import numpy as np
+
+        amounts = np.asarray(amounts, dtype=float)
+        supply = spec.stage.supply
+        out: dict[tuple[str, ...], Any] = {("stage", "supply", "voltage"): amounts}
+        top = amounts
+        if supply.range is not None:
+            scale = amounts / supply.voltage
+            top = supply.range[1] * scale
+            out[("stage", "supply", "range")] = (supply.range[0] * scale, top)
+        valid = amounts > 0
+        ceiling = spec.stage.max_supply_voltage
+        if ceiling is not None:
+            valid = valid & (top <= ceiling)
+        return out, valid
 
 
 class ChokeSaturation(Lever):

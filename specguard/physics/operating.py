@@ -305,7 +305,9 @@ def supply_voltage_min(
     +inf where the denominator is not positive (no voltage works).
     Source: derived here; reserve: common practice, no published source (docs/physics.md §4.5).
     """
-    xp = namespace(terminal_voltage, maximum_modulation, current, series_resistance, headroom_voltage)
+    xp = namespace(
+        terminal_voltage, maximum_modulation, current, series_resistance, headroom_voltage, dead_time, pwm_frequency
+    )
     usable = maximum_modulation - switching_legs * dead_time * pwm_frequency
     safe = xp.where(usable > 0.0, usable, 1.0)
     value = (terminal_voltage * (1.0 + reserve_fraction) + headroom_voltage + current * series_resistance) / safe
@@ -330,7 +332,7 @@ def supply_voltage_max_duty(
     alone reaches the floor.  Source: derived here; floor: common practice, no published
     source (docs/physics.md §4.6).
     """
-    xp = namespace(terminal_voltage, modulation_floor, current, series_resistance)
+    xp = namespace(terminal_voltage, modulation_floor, current, series_resistance, dead_time, pwm_frequency)
     usable = modulation_floor - switching_legs * dead_time * pwm_frequency
     safe = xp.where(usable > 0.0, usable, 1.0)
     return xp.where(usable > 0.0, (terminal_voltage + current * series_resistance) / safe, xp.inf)
@@ -404,8 +406,14 @@ def supply_voltage_max_ripple(
         # so the bound follows from the ripple at 1 V; none when that ripple is zero.
         per_volt = hbridge.ripple_peak_to_peak(1.0, inductance, resistance, pwm_frequency, dead, scheme)
         return ripple_limit / per_volt if per_volt > 0.0 else xp.inf
-    # (arrays: a zero drop is lifted to a tiny positive one, same limit to first order)
-    drop = xp.maximum(drop, 1e-12) if xp.vector else drop
+    # arrays: the elements without a drop take the bound above, the others are solved
+    # with the drop lifted to a positive value so that every branch stays finite
+    idle = None
+    if xp.vector:
+        idle = drop <= 0.0
+        per_volt = hbridge.ripple_peak_to_peak(1.0, inductance, resistance, pwm_frequency, dead, scheme)
+        idle_bound = xp.where(per_volt > 0.0, ripple_limit / xp.where(per_volt > 0.0, per_volt, 1.0), xp.inf)
+        drop = xp.where(idle, 1.0, drop)
     v_floor = drop / (1.0 - dead)  # m_op = 1 there: zero ripple
 
     def ripple(volts):
@@ -434,7 +442,8 @@ def supply_voltage_max_ripple(
         xp,
         rtol=rtol,
     )
-    return xp.where(unbounded, xp.inf, value)
+    value = xp.where(unbounded, xp.inf, value)
+    return value if idle is None else xp.where(idle, idle_bound, value)
 
 
 class SupplyWindow(NamedTuple):
@@ -488,6 +497,9 @@ def supply_voltage_window(
         resistance,
         pwm_frequency,
         ripple_limit,
+        series_resistance,
+        headroom_voltage,
+        dead_time,
     )
     legs = hbridge.switching_leg_count(scheme)
     v_min = supply_voltage_min(

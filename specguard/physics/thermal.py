@@ -20,7 +20,7 @@ import math
 from collections.abc import Sequence
 from typing import NamedTuple
 
-from specguard.physics._num import namespace
+from specguard.physics._num import namespace, np
 
 __all__ = [
     "CELSIUS_OFFSET",
@@ -406,13 +406,13 @@ def winding_temperature_rise_peak_on_off(power, thermal_resistance, time_constan
 def _segment_maps(segments, resistance_20, c_w, c_h, r_wh, r_ha, alpha_20, loss_factor, xp):
     maps = []
     for seg in segments:
-        i2r = float(seg.current_rms) ** 2 * float(resistance_20)
+        i2r = xp.asarray(seg.current_rms) ** 2 * float(resistance_20)
         a = _system(c_w, c_h, r_wh, r_ha, extra_conductance=alpha_20 * i2r)
         lam1, lam2 = _eigen(*a, xp)
         dt = float(seg.duration)
         e1, p1, q1 = _phi_functions(lam1, dt, xp)
         e2, p2, q2 = _phi_functions(lam2, dt, xp)
-        b = ((i2r * loss_factor + float(seg.winding_loss)) / c_w, float(seg.housing_loss) / c_h)
+        b = ((i2r * loss_factor + xp.asarray(seg.winding_loss)) / c_w, xp.asarray(seg.housing_loss) / c_h)
         maps.append(
             (
                 a,
@@ -477,7 +477,49 @@ def winding_temperature_cyclic(
     """
     if not segments:
         raise ValueError("a cycle needs at least one segment")
-    xp = namespace(0.0)
+    # arrays of segment currents or losses: one cycle per element (a batch of design
+    # variants, specguard.figures.batch); runaway elements are +inf
+    xp = namespace(*(v for seg in segments for v in (seg.current_rms, seg.housing_loss, seg.winding_loss)))
+    if xp.vector:
+        with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
+            return _cyclic(
+                segments,
+                resistance_20,
+                winding_capacitance,
+                housing_capacitance,
+                thermal_resistance_winding_housing,
+                thermal_resistance_housing_ambient,
+                ambient_temperature,
+                alpha_20,
+                samples_per_segment,
+                xp,
+            )
+    return _cyclic(
+        segments,
+        resistance_20,
+        winding_capacitance,
+        housing_capacitance,
+        thermal_resistance_winding_housing,
+        thermal_resistance_housing_ambient,
+        ambient_temperature,
+        alpha_20,
+        samples_per_segment,
+        xp,
+    )
+
+
+def _cyclic(
+    segments,
+    resistance_20,
+    winding_capacitance,
+    housing_capacitance,
+    thermal_resistance_winding_housing,
+    thermal_resistance_housing_ambient,
+    ambient_temperature,
+    alpha_20,
+    samples_per_segment,
+    xp,
+) -> CycleResult:
     r_wh = float(thermal_resistance_winding_housing)
     r_ha = float(thermal_resistance_housing_ambient)
     c_w = float(winding_capacitance)
@@ -505,10 +547,11 @@ def winding_temperature_cyclic(
         )
     trace = p_c[0] + p_c[3]
     det = p_c[0] * p_c[3] - p_c[1] * p_c[2]
-    disc = math.sqrt(max(0.25 * trace * trace - det, 0.0))
-    spectral_radius = max(abs(0.5 * trace + disc), abs(0.5 * trace - disc))
+    disc = xp.sqrt(xp.maximum(0.25 * trace * trace - det, 0.0))
+    spectral_radius = xp.maximum(xp.abs(0.5 * trace + disc), xp.abs(0.5 * trace - disc))
     t_a = float(ambient_temperature)
-    if not math.isfinite(spectral_radius) or spectral_radius >= 1.0:
+    runaway = xp.logical_or(xp.logical_not(xp.isfinite(spectral_radius)), spectral_radius >= 1.0)
+    if not xp.vector and runaway:
         return CycleResult(math.inf, math.inf, math.inf, math.inf, math.inf, True)
     m11, m12, m21, m22 = 1.0 - p_c[0], -p_c[1], -p_c[2], 1.0 - p_c[3]
     det_m = m11 * m22 - m12 * m21
@@ -533,9 +576,14 @@ def winding_temperature_cyclic(
                     strict=True,
                 )
             )
-            peak_w = max(peak_w, xt[0])
-            peak_h = max(peak_h, xt[1])
+            peak_w = xp.maximum(peak_w, xt[0])
+            peak_h = xp.maximum(peak_h, xt[1])
         x = tuple(u + v for u, v in zip(apply(phi, x), apply(psi, b), strict=True))
+    if xp.vector:
+        out = [
+            xp.where(runaway, xp.inf, t_a + v) for v in (peak_w, integral_w / total_time, peak_h, start[0], start[1])
+        ]
+        return CycleResult(out[0], out[1], out[2], out[3], out[4], runaway)
     return CycleResult(
         peak_winding_temperature=t_a + peak_w,
         mean_winding_temperature=t_a + integral_w / total_time,
