@@ -7,11 +7,15 @@ by the whole rule pack, exactly as a check judges the spec. The answer is a smal
 table of the cheapest changes that leave no finding at the fail level, and the
 cheapest that leave no warning either, with the figures that matter for each.
 
-Every variant is evaluated on the full model (one variant at a time, as the
-verified fixes are): a search along one lever steps outwards on a geometric grid
-until the variant passes, then bisects to the printed precision. It assumes a
-variant passes from some amount of the lever on (monotone); where it does not, the
-table holds the passing amount it found, never an untested one.
+First a screen: PWM frequency x added inductance on a geometric grid (100 x 100 by
+default, no added inductance in the first row) and the supply voltage alone, every
+variant judged by the whole rule pack at once by the batch evaluator
+(specguard.figures.batch). The screen shows where the region that passes lies,
+islands included. Then each option is refined on the full model the way the verified
+fixes are: the edit is applied as printed and the whole pack judges it, bisecting
+between the last failing and the first passing amount of the screen (stepping on
+where rounding or a coupling moves the boundary). The table never holds an amount
+that was not judged as printed.
 """
 
 from __future__ import annotations
@@ -27,8 +31,12 @@ from .findings import SEVERITY_ORDER, Finding
 # Outward steps along a lever (relative change) and the bisection's resolution.
 _GRID = (0.01, 0.03, 0.1, 0.2, 0.35, 0.5, 0.75, 1.0, 1.5, 2.0, 3.0, 5.0, 8.0, 15.0, 30.0, 60.0, 120.0, 250.0, 500.0)
 _RESOLUTION = 2e-3
-# PWM frequencies tried with added inductance for the two-lever table (relative to now).
-_PAIR_STEPS = (0.0, 0.25, 0.5, 1.0, 2.0, 4.0)
+# Amounts per lever on the screening grid: GRID_SIZE x GRID_SIZE variants of PWM
+# frequency and added inductance (10^4 by default), judged at once by the batch evaluator.
+GRID_SIZE = 100
+# Two-lever options per band, and how far apart their PWM frequencies lie at least.
+_PAIRS = 3
+_PAIR_SPREAD = 0.15
 
 
 @dataclass(frozen=True)
@@ -54,6 +62,18 @@ class Exploration:
     # per band: the rules failing as written that no lever here clears
     beyond: dict[str, frozenset] = field(default_factory=dict)
     passing: frozenset = frozenset()  # the bands the spec already meets (apart from ``beyond``)
+    screen: Screen | None = None
+
+
+@dataclass(frozen=True)
+class Screen:
+    """The screening grid: (first, last, count) per lever (SI; the added inductance's
+    first value after none), and per band how many grid variants pass."""
+
+    pwm_frequency: tuple[float, float, int]
+    added_inductance: tuple[float, float, int]
+    supply_voltage: tuple[float, float, int]
+    passing: dict[str, int]
 
 
 _SHOWN = ("ripple_ratio_worst", "winding_margin_min", "modulation_ratio_max", "ripple_frequency")
@@ -134,10 +154,52 @@ def _least(lever, start: float, judge: Callable, data: dict, spec, level: str, i
     return step_and_bisect(start, lever.at_least, attempt, _GRID, _RESOLUTION)
 
 
-def explore(path: Path, root: Path, options=None) -> Exploration:
+def _grid(start: float, stop: float, count: int):
+    """``count`` amounts from ``start`` to ``stop`` on a geometric scale (``start`` first)."""
+    import numpy as np
+
+    if stop <= start * (1.0 + _RESOLUTION):
+        return np.array([start])
+    return np.geomspace(start, stop, count)
+
+
+def _first(passes) -> int | None:
+    """Index of the first passing amount along a lever, or None."""
+    hits = passes.nonzero()[0]
+    return int(hits[0]) if hits.size else None
+
+
+def _refined(lever, low: float, high: float, judge, data, spec, level, ignored):
+    """The least amount between ``low`` (fails on the grid, or where the lever starts)
+    and ``high`` (passes on the grid) that passes when the edit is applied as printed and
+    the whole pack judges it; beyond ``high`` when rounding or the grid missed a coupling.
+    (Edit, figures) or None."""
+    ratio = (high / low) if lever.at_least else (low / high)
+    steps = (max(ratio - 1.0, _RESOLUTION), *(s for s in _GRID if s > ratio - 1.0))
+
+    def attempt(amount: float):
+        edit = lever.edit(data, spec, amount)
+        if edit is None:
+            return None, None
+        judged = judge(edit.data)
+        if judged is None or not _passes(judged[0], level, ignored):
+            return edit, None
+        return edit, judged[1]
+
+    from .engine.fixes import step_and_bisect
+
+    return step_and_bisect(low, lever.at_least, attempt, steps, _RESOLUTION)
+
+
+def explore(path: Path, root: Path, options=None, grid: int = GRID_SIZE) -> Exploration:
     """Explore the levers of the spec at ``path`` (raises ValueError when the spec
-    cannot be read or built: ``specguard check`` says why)."""
+    cannot be read or built: ``specguard check`` says why). ``grid``: amounts per lever
+    on the screening grid (``grid`` x ``grid`` variants of PWM frequency and added
+    inductance, and ``2 grid`` supply voltages)."""
+    import numpy as np
+
     from .engine.evaluate import load_pack
+    from .figures.batch import judge_batch
     from .figures.levers import AddedInductance, PwmFrequency, SupplyVoltage, topology
     from .model import build
     from .pipeline import _overrides, figure_settings, read_spec, relpath
@@ -193,35 +255,66 @@ def explore(path: Path, root: Path, options=None) -> Exploration:
             if judged is not None:
                 rules &= {f.rule for f in judged[0] if SEVERITY_ORDER[f.severity] >= threshold}
         stuck[band] = frozenset(rules)
+
+    # the screen: PWM frequency x added inductance (none first), and the supply alone,
+    # every variant judged by the whole pack at once (specguard.figures.batch)
+    freqs = _grid(f_leg, settings.pwm_frequency_max, grid)
+    henries = np.concatenate([[0.0], _grid(l_start, 30.0 * motor_l, grid - 1)])
+    f_col, l_row = np.meshgrid(freqs, henries)  # [inductance row, frequency column]
+    plane = judge_batch(data, spec, doc.locate, pack, overrides, settings, [(freq, f_col), (choke, l_row)])
+    volts_now = float(spec.stage.supply.voltage)
+    up, down = SupplyVoltage(at_least=True), SupplyVoltage(at_least=False)
+    volts = np.concatenate([_grid(volts_now, volts_now * 4.0, grid), volts_now / _grid(1.0, 4.0, grid)])
+    line = judge_batch(data, spec, doc.locate, pack, overrides, settings, [(up, volts)])
+    screened = plane.size + line.size
+
     out: list[Option] = []
     passing: set[str] = set()
+    region: dict[str, int] = {}
     for band in dict.fromkeys((level, "warning")):
         ignored = stuck[band]
+        ok = plane.passes(band, ignored).reshape(l_row.shape)
+        region[band] = int(ok.sum())
         if _passes(findings_now, band, ignored):
             passing.add(band)  # nothing to change for this band
             continue
-        singles = (
-            (freq, f_leg, None),
-            (choke, l_start, None),
-            (SupplyVoltage(at_least=False), float(spec.stage.supply.voltage), None),
-            (SupplyVoltage(at_least=True), float(spec.stage.supply.voltage), None),
-        )
-        for lever, start, _ in singles:
-            found = _least(lever, start, judge, data, spec, band, ignored)
+        searches: list[tuple[Any, float, float]] = []
+        k = _first(ok[0, :])  # the frequency alone
+        if k is not None and k > 0:
+            searches.append((freq, float(freqs[k - 1]), float(freqs[k])))
+        k = _first(ok[:, 0])  # the chokes alone
+        if k is not None and k > 0:
+            searches.append((choke, float(henries[k - 1]) if k > 1 else l_start / 1.5, float(henries[k])))
+        ok_line = line.passes(band, ignored)
+        half = volts.size // 2
+        for supply, part, amounts in ((up, ok_line[:half], volts[:half]), (down, ok_line[half:], volts[half:])):
+            k = _first(part)
+            if k is not None and k > 0:
+                searches.append((supply, float(amounts[k - 1]), float(amounts[k])))
+        for lever, low, high in searches:
+            found = _refined(lever, low, high, judge, data, spec, band, ignored)
             if found is not None:
                 edit, figures = found
                 out.append(Option(band, (lever.name,), edit.text, edit.changes, edit.cost, _summary(figures)))
-        # two levers: a higher PWM frequency with the least added inductance
-        for step in _PAIR_STEPS[1:]:
-            f_edit = freq.edit(data, spec, f_leg * (1.0 + step))
-            if f_edit is None:
-                break
-            alone = judge(f_edit.data)
-            if alone is not None and _passes(alone[0], band, ignored):
-                break  # the frequency alone clears it: a single-lever option covers this
-            found = _least(choke, l_start, judge, f_edit.data, spec, band, ignored)
+        # two levers: among the higher frequencies below the one that clears alone, the
+        # cheapest pairs the screen found (the least inductance at each frequency; the
+        # frequencies at least _PAIR_SPREAD apart), each refined and judged as printed
+        alone = _first(ok[0, :])
+        candidates = []
+        for j in range(1, freqs.size if alone is None else alone):
+            i = _first(ok[:, j])
+            f_edit = freq.edit(data, spec, float(freqs[j])) if i else None
+            if f_edit is not None and i:
+                candidates.append((f_edit.cost + choke._cost(spec, float(henries[i])), j, i, f_edit))
+        chosen: list[float] = []
+        for _cost, j, i, f_edit in sorted(candidates, key=lambda c: c[0]):
+            if len(chosen) >= _PAIRS or any(abs(freqs[j] / f - 1.0) < _PAIR_SPREAD for f in chosen):
+                continue
+            low = float(henries[i - 1]) if i > 1 else l_start / 1.5
+            found = _refined(choke, low, float(henries[i]), judge, f_edit.data, spec, band, ignored)
             if found is None:
                 continue
+            chosen.append(float(freqs[j]))
             edit, figures = found
             out.append(
                 Option(
@@ -246,8 +339,22 @@ def explore(path: Path, root: Path, options=None) -> Exploration:
                 best.append(option)
                 if kind == 2 and len([o for o in best if o.level == band and len(o.levers) == 2]) >= 3:
                     break
+    screen = Screen(
+        pwm_frequency=(float(freqs[0]), float(freqs[-1]), int(freqs.size)),
+        added_inductance=(float(henries[1]) if henries.size > 1 else 0.0, float(henries[-1]), int(henries.size)),
+        supply_voltage=(float(volts.min()), float(volts.max()), int(volts.size)),
+        passing=region,
+    )
     return Exploration(
-        rel, level, _summary(figures_now), failing, tuple(best), len(judge.memo), stuck, frozenset(passing)
+        rel,
+        level,
+        _summary(figures_now),
+        failing,
+        tuple(best),
+        screened + len(judge.memo),
+        stuck,
+        frozenset(passing),
+        screen,
     )
 
 
@@ -272,10 +379,12 @@ def render_text(x: Exploration) -> str:
         if x.failing_now
         else f"  nothing at or above {x.fail_level}"
     )
-    if x.beyond:
+    beyond = sorted(x.beyond.get(x.fail_level, ()))
+    more = sorted(set(x.beyond.get("warning", ())) - set(beyond)) if x.fail_level != "warning" else []
+    if beyond or more:
         lines.append(
             "  beyond these levers (a brake resistor, a choke or stage rating, the motor): "
-            + ", ".join(sorted(x.beyond))
+            + ", ".join(beyond + [f"{r} (warning)" for r in more])
         )
     for band, title in ((x.fail_level, f"no finding at or above {x.fail_level}"), ("warning", "no warning either")):
         rows = [o for o in x.options if o.level == band]
@@ -289,6 +398,16 @@ def render_text(x: Exploration) -> str:
         for o in rows:
             lines.append(f"    - {o.text}  [change {o.cost:.2f}]")
             lines.append(f"      {figs(o.figures)}")
+    if x.screen is not None:
+        sc = x.screen
+        f0, f1, nf = sc.pwm_frequency
+        l0, l1, nl = sc.added_inductance
+        passing = ", ".join(f"{count} at {band}" for band, count in sc.passing.items())
+        lines.append(
+            f"  screen: {nf} PWM frequencies from {format_si(f0, 'frequency')} to {format_si(f1, 'frequency')} per leg "
+            f"x {nl} added inductances (none, and {format_si(l0, 'inductance')} to {format_si(l1, 'inductance')}); "
+            f"passing: {passing}"
+        )
     lines.append(f"  ({x.variants} variants judged with the whole rule pack)")
     return "\n".join(lines) + "\n"
 
@@ -305,6 +424,29 @@ def render_json(x: Exploration) -> str:
             "beyond_levers": {band: sorted(rules) for band, rules in sorted(x.beyond.items())},
             "meets_as_written": sorted(x.passing),
             "variants": x.variants,
+            "screen": None
+            if x.screen is None
+            else {
+                "pwm_frequency": {
+                    "from": x.screen.pwm_frequency[0],
+                    "to": x.screen.pwm_frequency[1],
+                    "count": x.screen.pwm_frequency[2],
+                    "unit": "Hz",
+                },
+                "added_inductance": {
+                    "from": x.screen.added_inductance[0],
+                    "to": x.screen.added_inductance[1],
+                    "count": x.screen.added_inductance[2],
+                    "unit": "H",
+                },
+                "supply_voltage": {
+                    "from": x.screen.supply_voltage[0],
+                    "to": x.screen.supply_voltage[1],
+                    "count": x.screen.supply_voltage[2],
+                    "unit": "V",
+                },
+                "passing": dict(x.screen.passing),
+            },
             "options": [
                 {
                     "clears_at": o.level,

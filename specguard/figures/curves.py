@@ -52,8 +52,6 @@ DEFAULT_RIPPLE_FRACTION = 0.2
 # Points of the sweeps; fixed so that the output is deterministic.
 SWEEP_POINTS = 97
 WAVEFORM_POINTS = 241
-# Modulation-index grid for the three-phase worst case over the reachable range.
-_MODULATION_GRID = 257
 # Upper bound of the profile's temperature samples (cost: one cycle solve each).
 PROFILE_SAMPLES = 64
 
@@ -147,36 +145,6 @@ def ripple_limit(spec, figures, fraction: float = DEFAULT_RIPPLE_FRACTION) -> fl
     return fraction * rated
 
 
-def _worst_ripple(voltage, inductance, resistance, frequency, fam, scheme, max_duty, dead_time=0.0):
-    """Worst-case peak-to-peak ripple [A]; arrays broadcast in inductance and frequency."""
-    inductance = np.asarray(inductance, dtype=float)
-    frequency = np.asarray(frequency, dtype=float)
-    if fam == "hbridge":
-        return hbridge.ripple_peak_to_peak_worst(voltage, inductance, resistance, frequency, scheme)
-    if fam == "six_step":
-        return threephase.six_step_ripple_peak_to_peak_worst(voltage, inductance, resistance, frequency, scheme)
-    # Sinusoidal / space-vector: resistance neglected over one period (§2.3); the
-    # worst case over the modulation indices the stage can reach.
-    if np.ndim(frequency):
-        raise ValueError("three-phase worst case: one frequency at a time")
-    top = float(
-        operating.modulation_index(
-            operating.phase_voltage_peak_max(voltage, scheme, max_duty, dead_time, float(frequency)), voltage
-        )
-    )
-    top = min(top, threephase.modulation_index_limit(scheme))
-    grid = np.linspace(0.0, top, _MODULATION_GRID)
-    shape = np.broadcast(inductance, frequency).shape
-    values = threephase.phase_ripple_peak_to_peak_max(
-        voltage,
-        inductance[..., None] if np.ndim(inductance) else inductance,
-        frequency[..., None] if np.ndim(frequency) else frequency,
-        grid.reshape((1,) * len(shape) + grid.shape),
-        scheme,
-    )
-    return np.nanmax(values, axis=-1).reshape(shape)
-
-
 def _lead_factor(fam: str) -> float:
     return 1.0 if fam == "sinusoidal" else 2.0
 
@@ -239,53 +207,72 @@ def current_waveform(spec, figures, point: str | None = None) -> Waveform | None
     )
 
 
+def _swept_worst_ripple(spec, lever, amounts) -> np.ndarray | None:
+    """The worst-case ripple [A] (figure ``ripple_pp_worst``) of the spec with ``lever``
+    at each of ``amounts``: the batch evaluator on the figure code of a check, so a
+    sweep shows what ``check`` says of each variant (the L(f) table or estimate at each
+    ripple frequency, the dead time, the chokes' resistance)."""
+    from .batch import compute_batch, with_values
+    from .compute import FigureSettings
+
+    base = lever.reshaped(spec) if lever.reshapes(spec) else spec
+    values, _valid = lever.fields(spec, amounts)
+    try:
+        found = compute_batch(with_values(base, values), FigureSettings())
+    except ValueError:
+        return None
+    worst = found.axis.get("ripple_pp_worst")
+    if worst is None:
+        return None
+    return np.broadcast_to(np.asarray(worst, dtype=float), np.shape(amounts)).copy()
+
+
 def ripple_vs_frequency(spec, figures, fraction: float = DEFAULT_RIPPLE_FRACTION) -> Sweep | None:
     """Worst-case ripple against the leg PWM frequency, from a quarter to four times the setting.
 
-    The loop inductance is held at its value at the present ripple frequency
-    (a measured L(f) table would lower it somewhat at higher frequencies).
-    Physics: hbridge.ripple_peak_to_peak_worst, threephase.six_step_ripple_peak_to_peak_worst,
-    threephase.phase_ripple_peak_to_peak_max; remedies.pwm_frequency_min.
+    Each frequency is a variant of the spec judged by the figure code of a check (the
+    batch evaluator): the inductance follows its L(f) table or estimate, the dead time
+    its share of the period. Closed-form marker: remedies.pwm_frequency_min.
     """
+    from .levers import PwmFrequency
+
     loop = _loop(spec, figures)
     limit = ripple_limit(spec, figures, fraction)
     if loop is None or limit is None:
         return None
     voltage, inductance, resistance, frequency, fam, scheme = loop
-    max_duty = float(spec.stage.pwm.max_duty)
-    dead = float(getattr(spec.stage.pwm, "dead_time", None) or 0.0)
+    pwm = spec.stage.pwm
+    per_leg = 2.0 if pwm.scheme == "unipolar-phase-shifted" and pwm.frequency_is != "leg" else 1.0
     x = np.geomspace(frequency / 4.0, frequency * 4.0, SWEEP_POINTS)
-    if fam == "sinusoidal":
-        # the reachable modulation depends on the frequency through the dead-time loss
-        ripple = np.array(
-            [float(_worst_ripple(voltage, inductance, resistance, f, fam, scheme, max_duty, dead)) for f in x]
-        )
-    else:
-        ripple = _worst_ripple(voltage, inductance, resistance, x, fam, scheme, max_duty)
-    at_setting = float(_worst_ripple(voltage, inductance, resistance, frequency, fam, scheme, max_duty, dead))
+    ripple = _swept_worst_ripple(spec, PwmFrequency(per_leg, maximum=math.inf), x)
+    at_setting = _num(figures, "ripple_pp_worst")
+    if ripple is None or at_setting is None:
+        return None
     needed = None
     if fam in ("hbridge", "six_step"):
         bridge = scheme if fam == "hbridge" else threephase.six_step_equivalent_scheme(scheme)
         rated = limit / fraction
         value = remedies.pwm_frequency_min(voltage, inductance, resistance, bridge, rated, fraction)
         needed = _finite(value)
-    return Sweep("frequency", x, np.asarray(ripple, dtype=float), frequency, at_setting, limit, needed)
+    return Sweep("frequency", x, ripple, frequency, at_setting, limit, needed)
 
 
 def ripple_vs_added_inductance(spec, figures, fraction: float = DEFAULT_RIPPLE_FRACTION) -> Sweep | None:
     """Worst-case ripple against external inductance added per lead (or phase), at the present PWM frequency.
 
     The range runs from 0 (the spec as it is, fitted chokes included) to twice
-    what the limit needs, or to four times the present loop inductance.
-    Physics: as :func:`ripple_vs_frequency`; remedies.added_inductance_min.
+    what the limit needs, or to four times the present loop inductance. Each amount
+    is a variant judged by the figure code of a check (the batch evaluator), with the
+    added chokes' resistance as the fix would write it. Closed-form marker:
+    remedies.added_inductance_min.
     """
+    from .levers import AddedInductance, topology
+
     loop = _loop(spec, figures)
     limit = ripple_limit(spec, figures, fraction)
     if loop is None or limit is None:
         return None
     voltage, inductance, resistance, frequency, fam, scheme = loop
-    max_duty = float(spec.stage.pwm.max_duty)
-    dead = float(getattr(spec.stage.pwm, "dead_time", None) or 0.0)
     factor = _lead_factor(fam)
     needed = None
     if fam in ("hbridge", "six_step"):
@@ -298,9 +285,13 @@ def ripple_vs_added_inductance(spec, figures, fraction: float = DEFAULT_RIPPLE_F
         needed = None if value is None else value / factor
     span = max(2.0 * needed if needed else 0.0, 4.0 * inductance / factor)
     x = np.linspace(0.0, span, SWEEP_POINTS)
-    ripple = _worst_ripple(voltage, inductance + factor * x, resistance, frequency, fam, scheme, max_duty, dead)
-    at_setting = float(_worst_ripple(voltage, inductance, resistance, frequency, fam, scheme, max_duty, dead))
-    return Sweep("added_inductance", x, np.asarray(ripple, dtype=float), 0.0, at_setting, limit, needed)
+    lever = AddedInductance(topology(spec))
+    # the lever's amount: per lead or phase, or both conducting phases of six-step
+    ripple = _swept_worst_ripple(spec, lever, x * (2.0 if lever.topology == "six-step" else 1.0))
+    at_setting = _num(figures, "ripple_pp_worst")
+    if ripple is None or at_setting is None:
+        return None
+    return Sweep("added_inductance", x, ripple, 0.0, at_setting, limit, needed)
 
 
 def _finite(value) -> float | None:

@@ -716,7 +716,7 @@ def fix_levers(result) -> list[tuple[str, float, str]]:
 
 
 # ------------------------------------------------------------ feasibility map
-MAP_SIZE = 10  # cells per axis of the feasibility map (10 x 10 variants judged)
+MAP_SIZE = 16  # cells per axis of the feasibility map (16 x 16 variants judged at once)
 
 
 class _MapContext:
@@ -794,7 +794,7 @@ def feasibility(result, fail_level: str, ctx: _MapContext):
     do not count; they are listed."""
     import numpy as np
 
-    from ..explore import _passes
+    from ..figures.batch import judge_batch
     from ..figures.levers import PWM_FREQUENCY_MAX, AddedInductance, PwmFrequency, topology
 
     again = _rejudge(result, ctx)
@@ -832,23 +832,14 @@ def feasibility(result, fail_level: str, ctx: _MapContext):
             if judged is not None:
                 rules &= {f.rule for f in judged[0] if SEVERITY_ORDER[f.severity] >= threshold}
         stuck[band] = frozenset(rules)
-    status = np.full((MAP_SIZE, MAP_SIZE), -1, dtype=int)  # [inductance row, frequency column]
-    for j, fq in enumerate(freqs):
-        f_edit = freq.edit(data, spec, float(fq))
-        if f_edit is None:
-            continue
-        for i, henry in enumerate(henries):
-            edit = choke.edit(f_edit.data, spec, float(henry))
-            judged = judge(edit.data) if edit is not None else None
-            if judged is None:
-                continue
-            found = judged[0]
-            if _passes(found, "warning", stuck["warning"]):
-                status[i, j] = 2
-            elif _passes(found, fail_level, stuck[fail_level]):
-                status[i, j] = 1
-            else:
-                status[i, j] = 0
+    # every cell at once (the batch evaluator, specguard.figures.batch)
+    f_grid, l_grid = np.meshgrid(freqs, henries)  # [inductance row, frequency column]
+    verdict = judge_batch(
+        data, spec, judge.locate, judge.pack, judge.overrides, judge.settings, [(freq, f_grid), (choke, l_grid)]
+    )
+    status = np.where(verdict.passes(fail_level, stuck[fail_level]), 1, 0)
+    status = np.where(verdict.passes("warning", stuck["warning"]), 2, status)
+    status = np.where(verdict.valid, status, -1).reshape(l_grid.shape)
     where = "per lead" if topology(spec) == "dc" else "per phase"
     return {
         "freqs": freqs,
@@ -859,7 +850,7 @@ def feasibility(result, fail_level: str, ctx: _MapContext):
         "ignored": sorted(stuck[fail_level] | stuck["warning"]),
         "where": where,
         "fail_level": fail_level,
-        "variants": len(judge.memo),
+        "variants": len(judge.memo) + verdict.size,
     }
 
 
@@ -1378,7 +1369,7 @@ def render(
     ``plots=False`` leaves the plots out (and matplotlib unimported); ``plots_note``
     says why in the report. ``root``: the repository root the files are relative to
     (default: found from the working directory), for the feasibility maps, which
-    re-read each spec with findings and judge 10 x 10 variants of it
+    re-read each spec with findings and judge 16 x 16 variants of it at once
     (``feasibility_maps=False`` leaves them out). ``jobs``: processes drawing the axis
     sections (default: the usable cores; at most one per axis with a spec); the output is the
     same for any number.

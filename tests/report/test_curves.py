@@ -46,7 +46,9 @@ def test_waveform_matches_textbook_chopper_e1():
     # -> I_min = 18.367 A, I_max = 25.633 A, dI = 7.266 A, I_avg = 22.000 A.
     # A single-leg unipolar bridge at m = 0.5 is that chopper (docs/physics.md §1.2 table).
     spec = _spec("unipolar-single", 220.0, 20.0)
-    figs = _figs(220.0, 7.5e-3, 5.0, 1000.0, 20.0, [("p", {"modulation": 0.5, "operating_current": 22.0, "ripple_pp": 7.0})])
+    figs = _figs(
+        220.0, 7.5e-3, 5.0, 1000.0, 20.0, [("p", {"modulation": 0.5, "operating_current": 22.0, "ripple_pp": 7.0})]
+    )
     wave = curves.current_waveform(spec, figs)
     assert wave is not None and wave.point == "p"
     assert wave.back_emf == pytest.approx(0.0, abs=1e-12)
@@ -86,6 +88,41 @@ def test_waveform_of_demo_axis_matches_physics_and_figures():
     assert wave.rated_current == pytest.approx(1.9)  # the spec's local override
 
 
+def _axis_spec(scheme: str, volts: float, rated: float, inductance: float, resistance: float, f_leg: float):
+    """A real brushed-DC spec whose ripple loop is exactly (inductance, resistance): the
+    catalogue inductance measured at the sweep's top ripple frequency (no estimate), no thermal
+    data (the resistance is used as written), no switch, cable or choke resistance,
+    no dead time. Returns (spec, its figures)."""
+    from specguard.figures import compute
+    from specguard.model import build
+    from specguard.source import load_bytes
+
+    data = {
+        "format": 1,
+        "axis": {"name": "worked-example"},
+        "motor": {
+            "type": "brushed-dc",
+            "winding": "iron-core",
+            "terminal_resistance": {"value": f"{resistance!r} ohm", "at": "25 degC"},
+            "terminal_inductance": {"value": f"{inductance!r} H", "measured_at": f"{8 * f_leg!r} Hz"},
+            "torque_constant": {"value": "0.05 N*m/A", "current": "dc"},
+            "back_emf_constant": {"value": "0.05 V/(rad/s)", "voltage": "terminal"},
+            "rated_current": f"{rated!r} A",
+        },
+        "stage": {
+            "supply": {"voltage": f"{volts!r} V"},
+            "pwm": {"frequency": f"{f_leg!r} Hz", "frequency_is": "leg", "scheme": scheme, "max_duty": 0.95},
+        },
+        "operating_points": [{"name": "p", "speed": "0 rad/s", "torque": "0 N*m", "ambient": "25 degC"}],
+    }
+    import json
+
+    doc = load_bytes(json.dumps(data).encode(), "worked-example.axis.yaml")
+    spec, problems = build(doc.data, lambda path: (None, ()))
+    assert spec is not None, problems
+    return spec, compute(spec)
+
+
 @pytest.mark.parametrize(
     "scheme,expected",
     [
@@ -97,14 +134,16 @@ def test_waveform_of_demo_axis_matches_physics_and_figures():
     ],
 )
 def test_frequency_sweep_at_setting_matches_e4_worst_case(scheme, expected):
-    spec = _spec(scheme, 24.0, 2.0)
-    sweep = curves.ripple_vs_frequency(spec, _figs(24.0, 0.2e-3, 0.0, 20e3, 2.0))
+    # R = 1 uohm stands for R -> 0: tanh(x)/x differs from 1 by x^2/3 ~ 1e-15 here
+    spec, fs = _axis_spec(scheme, 24.0, 2.0, 0.2e-3, 1e-6, 20e3)
+    sweep = curves.ripple_vs_frequency(spec, fs)
     assert sweep.ripple_at_setting == pytest.approx(expected, rel=1e-9)
     assert sweep.limit == pytest.approx(0.4)  # 20 % of rated current
     k = int(np.argmin(np.abs(sweep.x - 20e3)))
     assert sweep.x[k] == pytest.approx(20e3)
     assert sweep.ripple[k] == pytest.approx(expected, rel=1e-9)
-    # Linear worst case scales as 1/f (docs/physics.md §1.3): four times the frequency, a quarter.
+    # Linear worst case scales as 1/f (docs/physics.md §1.3): four times the frequency, a quarter
+    # (the inductance was measured at the top ripple frequency, so it holds over the sweep).
     assert sweep.ripple[-1] == pytest.approx(expected / 4.0, rel=1e-9)
 
 
@@ -116,6 +155,9 @@ def test_frequency_sweep_at_setting_equals_ripple_pp_worst_and_tanh_form():
         fs, spec = result.figures, result.spec
         sweep = curves.ripple_vs_frequency(spec, fs)
         assert sweep.ripple_at_setting == pytest.approx(fs.value("ripple_pp_worst"), rel=1e-6), result.file
+        k = int(np.argmin(np.abs(sweep.x - fs.value("pwm_frequency_leg"))))
+        # the sweep's point at the setting is the check's own figure (same figure code)
+        assert sweep.ripple[k] == pytest.approx(fs.value("ripple_pp_worst"), rel=1e-9), result.file
         if spec.stage.pwm.scheme == "unipolar-phase-shifted":
             # docs/physics.md §1.4: dI_max = (V1 - V2)/R tanh(R / (4 f_r L)), f_r = 2 f_pwm, V1 - V2 = V.
             # at the top of the supply range, where the worst case is judged
@@ -127,9 +169,9 @@ def test_frequency_sweep_at_setting_equals_ripple_pp_worst_and_tanh_form():
 def test_inductance_remedy_matches_textbook_e2():
     # docs/physics.md, worked example E2 (Rashid ch. 5): R = 0.25 ohm, V = 550 V, f = 250 Hz, worst ripple
     # <= 20 A -> exact L = 27.499 mH. A single-leg chopper; 20 A = 20 % of 100 A.
-    spec = _spec("unipolar-single", 550.0, 100.0)
     present = 1e-6
-    sweep = curves.ripple_vs_added_inductance(spec, _figs(550.0, present, 0.25, 250.0, 100.0))
+    spec, fs = _axis_spec("unipolar-single", 550.0, 100.0, present, 0.25, 250.0)
+    sweep = curves.ripple_vs_added_inductance(spec, fs)
     total = present + 2.0 * sweep.x_at_limit  # "per lead": two leads in the DC loop
     assert total == pytest.approx(27.499e-3, abs=1e-6)
     assert float(
@@ -138,12 +180,16 @@ def test_inductance_remedy_matches_textbook_e2():
     assert sweep.ripple[0] == pytest.approx(sweep.ripple_at_setting)
     assert np.all(np.diff(sweep.ripple) < 0)  # more inductance, less ripple
     assert sweep.x[-1] >= sweep.x_at_limit
+    # the sweep is what a check says with the chokes the fix would write (their
+    # resistance included): at the remedy's amount the ripple is below the limit
+    k = int(np.searchsorted(sweep.x, sweep.x_at_limit))
+    assert sweep.ripple[k] <= 20.0
 
 
 def test_frequency_remedy_brings_ripple_to_limit():
     # docs/physics.md, worked example E4 axis, linear: f = V / (4 L dI) for unipolar single at dI = 0.4 A -> 75 kHz.
-    spec = _spec("unipolar-single", 24.0, 2.0)
-    sweep = curves.ripple_vs_frequency(spec, _figs(24.0, 0.2e-3, 0.0, 20e3, 2.0))
+    spec, fs = _axis_spec("unipolar-single", 24.0, 2.0, 0.2e-3, 1e-6, 20e3)
+    sweep = curves.ripple_vs_frequency(spec, fs)
     assert sweep.x_at_limit == pytest.approx(24.0 / (4.0 * 0.2e-3 * 0.4), rel=1e-6)
 
 
