@@ -108,12 +108,43 @@ def _search(ctx: FixContext, lever, finding: Finding, start: float, before_faili
 
     edit, reached = attempt(start)
     if reached is not None:
-        return edit, reached
+        if getattr(lever, "categorical", False):
+            return edit, reached
+        return _tightened(start, lever.at_least, attempt, (edit, reached))
     if getattr(lever, "categorical", False):
         return None  # one edit, no amount to move
     if edit is None and lever.at_least:
         return None  # beyond the lever's bound already: larger steps are too
     return step_and_bisect(start, lever.at_least, attempt, _STEPS if steps is None else steps)
+
+
+def _tightened(start: float, at_least: bool, attempt, passing, resolution: float = _RESOLUTION):
+    """A passing closed-form amount moved back towards the spec until the coupled model
+    says no: the closed form holds what the change also moves (an inductance that falls
+    with the ripple frequency, the dead time's share) at their present values, so it can
+    ask for more than the full model needs. One step of ``resolution`` back first (most
+    candidates stop there), then 1 % and 5 %, then bisection. Returns (edit, outcome)."""
+    best, high = passing, start
+    low = None
+    for step in (resolution, 0.01, 0.05):
+        amount = start / (1.0 + step) if at_least else start * (1.0 + step)
+        edit, outcome = attempt(amount)
+        if outcome is None:
+            low = amount
+            break
+        best, high = (edit, outcome), amount
+    if low is None:
+        return best
+    while max(high, low) / min(high, low) - 1.0 > resolution:
+        mid = math.sqrt(low * high)
+        edit, outcome = attempt(mid)
+        if edit is not None and edit.amount == best[0].amount:
+            break  # the printed value no longer moves
+        if outcome is not None:
+            best, high = (edit, outcome), mid
+        else:
+            low = mid
+    return best
 
 
 def step_and_bisect(start: float, at_least: bool, attempt, steps=_STEPS, resolution: float = _RESOLUTION):
