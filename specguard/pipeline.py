@@ -569,7 +569,7 @@ def _verified_fixes(findings, data, spec, figures, locate, pack, overrides, opti
             figs = compute(variant, settings)
         except Exception:  # a change the figures cannot take is no fix
             return None
-        return built + evaluate(variant, figs, locate, pack, overrides, remedy=_no_remedy, lean=True)
+        return built + evaluate(variant, figs, locate, pack, overrides, remedy=_no_remedy, lean=True), figs
 
     def candidate(name, spec_, figures_, *, point, limit):
         return remedy(name, spec_, figures_, point=point, limit=limit, settings=settings)
@@ -587,7 +587,13 @@ def _verified_fixes(findings, data, spec, figures, locate, pack, overrides, opti
             return None  # not written in the axis file itself (a library value, or absent)
         return (loc.file, loc.line, loc.column, loc.end_line, loc.end_column)
 
-    ctx = FixContext(data, spec, figures, level, run_variant, candidate, region, settings.pwm_frequency_max)
+    def rule_figure(rule_id: str) -> str | None:
+        prule = pack.get(rule_id)
+        return prule.rule.figure if prule is not None else None
+
+    ctx = FixContext(
+        data, spec, figures, level, run_variant, candidate, region, settings.pwm_frequency_max, rule_figure=rule_figure
+    )
     # variants are judged as evaluated (no softening for the inductance estimate), so the
     # failing findings they are compared with are those of the same judgement
     return verify(findings, ctx, remedy_names, before=judged)

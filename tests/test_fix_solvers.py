@@ -1,6 +1,7 @@
 """The fix search against outside solvers, on the demo's H-bridge axes.
 
-- scipy's ``brentq`` on the same coupled model: the figure a ripple fix aims at, as
+- scipy's ``brentq`` on the same coupled model (the H-bridge axes and the three-phase
+  infusion drive, where a choke also moves the fundamental's voltage drop): the figure a ripple fix aims at, as
   a function of the lever (PWM frequency with its dead-time share and the inductance
   estimate at each ripple frequency; added chokes with their resistance), solved for
   the band's threshold. The printed fix must lie on the safe side of that root and
@@ -40,6 +41,7 @@ from tests.test_fix_closure import _set
 
 ROOT = Path(__file__).resolve().parents[1]
 AXES = ("robot/axes/sample-lift.axis.yaml", "robot/axes/pipette-x.axis.yaml")
+THREE_PHASE = ("medical/axes/infusion-drive.axis.yaml",)
 RIPPLE_RULES = ("ripple-over-rated-current", "worst-ripple-over-rated-current")
 
 
@@ -47,6 +49,7 @@ RIPPLE_RULES = ("ripple-over-rated-current", "worst-ripple-over-rated-current")
 def tree(tmp_path_factory):
     tree = tmp_path_factory.mktemp("solvers") / "demo"
     shutil.copytree(ROOT / "examples" / "robot", tree / "robot")
+    shutil.copytree(ROOT / "examples" / "medical", tree / "medical")
     (tree / ".git").mkdir()
     return tree
 
@@ -72,7 +75,7 @@ def _value(figures, name: str, point):
     return figures.value(name, point if name == "ripple_ratio" else None)
 
 
-@pytest.mark.parametrize("rel", AXES)
+@pytest.mark.parametrize("rel", AXES + THREE_PHASE)
 def test_ripple_fixes_sit_at_the_brentq_root_of_the_coupled_model(tree, rel):
     report, fixes = _ripple_fixes(tree, rel)
     assert fixes, rel  # the demo's two-level axes have ripple findings with lever fixes

@@ -29,7 +29,8 @@ _STEPS = (0.002, 0.01, 0.05, 0.2, 1.0, 4.0, 16.0)
 # resolve (4 significant digits: a relative step of about 1e-3).
 _RESOLUTION = 2e-3
 
-Variant = Callable[[dict], "list[Finding] | None"]
+# (findings of the whole pack, figures) of changed data; None: the data does not build
+Variant = Callable[[dict], "tuple[list[Finding], Any] | None"]
 
 
 @dataclass
@@ -40,13 +41,14 @@ class FixContext:
     spec: Any
     figures: Any
     fail_level: str
-    run_variant: Variant  # findings of the whole pack on changed data (None: the data does not build)
+    run_variant: Variant  # findings and figures of changed data (None: the data does not build)
     candidate: Callable[..., Any]  # (remedy name, point, threshold) -> Remedy or None
     # (document path) -> (file, line, column, end line, end column) of a value written
     # in the axis file itself, else None
     region: Callable[[tuple], tuple | None] = lambda _path: None
     pwm_frequency_max: float = 0.0  # the policy's bound on the PWM-frequency lever (0: default)
     memo: dict | None = None
+    rule_figure: Callable[[str], str | None] = lambda _rule: None  # the figure a rule judges
 
 
 def _key(f: Finding) -> tuple[str, str | None]:
@@ -58,13 +60,31 @@ def _failing(findings: list[Finding], level: str) -> set[tuple[str, str | None]]
     return {_key(f) for f in findings if SEVERITY_ORDER[f.severity] >= threshold and not f.suppressed}
 
 
-def _variant(ctx: FixContext, data: dict) -> list[Finding] | None:
+def _judged(ctx: FixContext, data: dict):
     memo = ctx.memo if ctx.memo is not None else {}
     ctx.memo = memo
     key = json.dumps(data, sort_keys=True, default=str)
     if key not in memo:
         memo[key] = ctx.run_variant(data)
     return memo[key]
+
+
+def _variant(ctx: FixContext, data: dict) -> list[Finding] | None:
+    judged = _judged(ctx, data)
+    return None if judged is None else judged[0]
+
+
+def _figure(ctx: FixContext, figures, finding: Finding) -> float | None:
+    """The value of the figure the finding's rule judges, at its point."""
+    name = ctx.rule_figure(finding.rule)
+    if name is None or figures is None:
+        return None
+    value = figures.value(name, finding.operating_point) if finding.operating_point else figures.value(name)
+    if value is None:
+        value = figures.value(name)
+    if isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(value):
+        return None
+    return float(value)
 
 
 def _outcome(finding: Finding, after: list[Finding]) -> str | None:
@@ -90,10 +110,20 @@ def _acceptable(ctx: FixContext, finding: Finding, before_failing: set, after: l
     return reached
 
 
-def _search(ctx: FixContext, lever, finding: Finding, start: float, before_failing: set, aim_clear: bool, steps=None):
+def _search(
+    ctx: FixContext,
+    lever,
+    finding: Finding,
+    start: float,
+    before_failing: set,
+    aim_clear: bool,
+    steps=None,
+    target: float | None = None,
+):
     """The least change of ``lever`` from ``start`` (SI) that clears ``finding`` (at
     its band, or entirely with ``aim_clear``): (Edit, band reached) or None.
-    ``steps``: the outward steps to try when ``start`` falls short (default all)."""
+    ``steps``: the outward steps to try when ``start`` falls short (default all).
+    ``target``: the threshold the finding's figure must reach (for the secant)."""
 
     def attempt(amount: float):
         if not math.isfinite(amount) or amount <= 0:
@@ -108,9 +138,12 @@ def _search(ctx: FixContext, lever, finding: Finding, start: float, before_faili
 
     edit, reached = attempt(start)
     if reached is not None:
-        if getattr(lever, "categorical", False):
+        if getattr(lever, "categorical", False) or edit is None:
             return edit, reached
-        return _tightened(start, lever.at_least, attempt, (edit, reached))
+        guess = _secant_root(ctx, lever, finding, edit, target)
+        if guess is not None and abs(guess / edit.amount - 1.0) <= _RESOLUTION:
+            return edit, reached  # the closed form is at the root of the full model already
+        return _tightened(start, lever.at_least, attempt, (edit, reached), guess)
     if getattr(lever, "categorical", False):
         return None  # one edit, no amount to move
     if edit is None and lever.at_least:
@@ -118,16 +151,46 @@ def _search(ctx: FixContext, lever, finding: Finding, start: float, before_faili
     return step_and_bisect(start, lever.at_least, attempt, _STEPS if steps is None else steps)
 
 
-def _tightened(start: float, at_least: bool, attempt, passing, resolution: float = _RESOLUTION):
+def _secant_root(ctx: FixContext, lever, finding: Finding, edit, threshold: float | None) -> float | None:
+    """Where the finding's figure meets ``threshold``, by the secant through the spec as
+    written and the passing candidate (amounts on a log scale where both are positive);
+    None when the figures do not say."""
+    if threshold is None:
+        return None
+    before = _figure(ctx, ctx.figures, finding)
+    judged = _judged(ctx, edit.data)
+    after = _figure(ctx, judged[1] if judged is not None else None, finding)
+    now = 0.0 if lever.name == "added_inductance" else lever.current(ctx.spec)
+    if before is None or after is None or now is None or after == before or edit.amount <= 0:
+        return None
+    share = (threshold - before) / (after - before)
+    if not 0.0 < share <= 1.0:
+        return None
+    if now > 0:
+        return math.exp(math.log(now) + share * (math.log(edit.amount) - math.log(now)))
+    return share * edit.amount
+
+
+def _tightened(start: float, at_least: bool, attempt, passing, guess: float | None = None):
     """A passing closed-form amount moved back towards the spec until the coupled model
     says no: the closed form holds what the change also moves (an inductance that falls
     with the ripple frequency, the dead time's share) at their present values, so it can
-    ask for more than the full model needs. One step of ``resolution`` back first (most
-    candidates stop there), then 1 % and 5 %, then bisection. Returns (edit, outcome)."""
+    ask for more than the full model needs. The secant's ``guess`` first (just on its
+    safe side), else one step of the resolution back, then 1 %, 5 %, 20 % and 50 % (each
+    from the last passing amount), then bisection.
+    Returns (edit, outcome)."""
+    resolution = _RESOLUTION
     best, high = passing, start
     low = None
-    for step in (resolution, 0.01, 0.05):
-        amount = start / (1.0 + step) if at_least else start * (1.0 + step)
+    if guess is not None and (guess < start if at_least else guess > start):
+        amount = guess * (1.0 + resolution / 2.0) if at_least else guess / (1.0 + resolution / 2.0)
+        edit, outcome = attempt(amount)
+        if outcome is None:
+            low = amount
+        else:
+            best, high = (edit, outcome), amount
+    for step in (resolution, 0.01, 0.05, 0.2, 0.5) if low is None else ():
+        amount = high / (1.0 + step) if at_least else high * (1.0 + step)
         edit, outcome = attempt(amount)
         if outcome is None:
             low = amount
@@ -220,7 +283,9 @@ def verify(
             # an info finding gates nothing: its fix is the closed form, checked once,
             # or a step past it; the search on the full model is for warnings and errors
             steps = _STEPS[:1] if finding.severity == "info" else None
-            found = _search(ctx, lever, finding, float(remedy.value), before_failing, aim_clear=False, steps=steps)
+            found = _search(
+                ctx, lever, finding, float(remedy.value), before_failing, False, steps, target=band_threshold
+            )
             if found is None:
                 continue
             edit, reached = found
@@ -267,7 +332,7 @@ def _also_clears(ctx, lever, name, finding, lowest_threshold, lowest_band, edit,
     if remedy is None or remedy.value is None:
         return f" (clears the {finding.severity}; the {lowest_band} stays)"
     start = max(float(remedy.value), edit.amount) if lever.at_least else min(float(remedy.value), edit.amount)
-    found = _search(ctx, lever, finding, start, before_failing, aim_clear=True)
+    found = _search(ctx, lever, finding, start, before_failing, aim_clear=True, target=lowest_threshold)
     if found is None:
         return f" (clears the {finding.severity}; the {lowest_band} stays)"
     more, _ = found
