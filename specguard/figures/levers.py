@@ -23,6 +23,8 @@ Levers (name, what changes, direction of a fix):
   (unipolar, phase-shifted legs); a categorical change, tried as it is.
 - ``brake_resistor``: a brake chopper and resistor (``stage.brake_resistor``) added; its
   resistance at most, its turn-on voltage between the supply's top and the bus limit.
+- ``stage_continuous_current``, ``stage_peak_current``: a stage rated for more current
+  (``stage.current_limit.continuous`` / ``.peak``); at least.
 """
 
 from __future__ import annotations
@@ -54,6 +56,9 @@ COST_WEIGHT = {
     "choke_saturation_current": 1.0,
     "loop_bandwidth": 0.5,
     "supply_voltage": 2.0,
+    # another stage: a part change, weighed like another supply
+    "stage_continuous_current": 2.0,
+    "stage_peak_current": 2.0,
 }
 
 
@@ -320,6 +325,32 @@ class ChokeSaturation(Lever):
         return Edit(self.name, amps, text, (("/chokes/saturation_current", text_i),), new, self._cost(spec, amps))
 
 
+class StageCurrentRating(Lever):
+    """A stage rated for more current: ``stage.current_limit.continuous`` or ``.peak``
+    (at least); a stage from a library file gets the rating as an override beside
+    ``from:``, so the edit says which stage to look for, not that the file changed."""
+
+    dimension = "current"
+
+    def __init__(self, which: str) -> None:
+        self.which = which  # "continuous" or "peak"
+        self.name = f"stage_{which}_current"
+
+    def current(self, spec) -> float | None:
+        limits = spec.stage.current_limit
+        return getattr(limits, self.which, None) if limits is not None else None
+
+    def edit(self, data: Mapping, spec, amount: float) -> Edit | None:
+        if spec.stage.current_limit is None:
+            return None
+        text_i, amps = safe_text(amount, "current", True)
+        new = dict(data)
+        _set(new, ("stage", "current_limit", self.which), text_i)
+        text = f"use a stage rated for at least {text_i} {self.which}"
+        changes = ((f"/stage/current_limit/{self.which}", text_i),)
+        return Edit(self.name, amps, text, changes, new, self._cost(spec, amps))
+
+
 class LoopBandwidth(Lever):
     name = "loop_bandwidth"
     dimension = "frequency"
@@ -424,6 +455,10 @@ def lever_for(remedy_name: str, spec, pwm_frequency_max: float = 0.0) -> Lever |
         return BrakeResistorLever()
     if remedy_name == "pwm_scheme":
         return PwmScheme()
+    if remedy_name == "stage_continuous_current":
+        return StageCurrentRating("continuous")
+    if remedy_name == "stage_peak_current":
+        return StageCurrentRating("peak")
     return None
 
 

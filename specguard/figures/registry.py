@@ -1248,4 +1248,6 @@ REMEDIES: dict[str, str] = {
     "loop_bandwidth_for_margin": "the highest current-loop bandwidth that keeps the phase margin, the loop as built",
     "pwm_scheme": "three-level (unipolar, phase-shifted) PWM instead of two-level on an H-bridge",
     "brake_resistor": "the largest brake resistor that takes the peak braking power, its turn-on voltage and energy",
+    "stage_continuous_current": "the continuous (RMS) current rating a stage needs for the operating point",
+    "stage_peak_current": "the peak current rating a stage needs for the largest current the axis reaches",
 }

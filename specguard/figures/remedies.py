@@ -181,6 +181,18 @@ def remedy(
             f"(ripple then at {_fmt(limit, 'frequency')})"
         )
         return Remedy(name, text, value, "Hz")
+    if name == "stage_continuous_current":
+        i_out = figures.value("stage_current_rms", point) if point is not None else None
+        if i_out is None or limit <= 0:
+            return None
+        value = float(i_out) / limit
+        return Remedy(name, f"use a stage rated for at least {_fmt(value, 'current')} continuous", value, "A")
+    if name == "stage_peak_current":
+        peak = figures.value("peak_current_reached")
+        if peak is None or limit <= 0:
+            return None
+        value = float(peak) / limit
+        return Remedy(name, f"use a stage rated for at least {_fmt(value, 'current')} peak", value, "A")
     if name == "choke_saturation_current":
         i_pk = figures.value("choke_peak_current")
         if i_pk is None or limit <= 0:
