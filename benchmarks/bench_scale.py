@@ -43,9 +43,9 @@ def make_repo(base: Path, n: int) -> Path:
     (repo / "axes").mkdir(parents=True)
     for sub in ("motors", "stages", "chokes"):
         (repo / "library" / sub).mkdir(parents=True)
-        for f in (DEMO / "library" / sub).iterdir():
+        for f in (DEMO / "robot" / "library" / sub).iterdir():
             (repo / "library" / sub / f.name).write_bytes(f.read_bytes())
-    texts = [(DEMO / "axes" / f"{t}.axis.yaml").read_text(encoding="utf-8") for t in TEMPLATES]
+    texts = [(DEMO / "robot" / "axes" / f"{t}.axis.yaml").read_text(encoding="utf-8") for t in TEMPLATES]
     for i in range(n):
         text = texts[i % len(texts)]
         text = re.sub(r"(?m)^(  name: ).*$", rf"\g<1>axis-{i:04d}", text, count=1)
