@@ -21,7 +21,6 @@ that was not judged as printed.
 from __future__ import annotations
 
 import json
-from collections.abc import Callable
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
@@ -134,24 +133,6 @@ def _none(*_a, **_k):
 def _passes(found: list[Finding], level: str, ignored: frozenset = frozenset()) -> bool:
     threshold = SEVERITY_ORDER[level]
     return not any(SEVERITY_ORDER[f.severity] >= threshold and f.rule not in ignored for f in found)
-
-
-def _least(lever, start: float, judge: Callable, data: dict, spec, level: str, ignored: frozenset = frozenset()):
-    """The least amount of ``lever`` from ``start`` that passes at ``level``:
-    (Edit, figures) or None. Rules in ``ignored`` (no lever here moves them) do not count."""
-
-    def attempt(amount: float):
-        edit = lever.edit(data, spec, amount)
-        if edit is None:
-            return None, None
-        judged = judge(edit.data)
-        if judged is None or not _passes(judged[0], level, ignored):
-            return edit, None
-        return edit, judged[1]
-
-    from .engine.fixes import step_and_bisect
-
-    return step_and_bisect(start, lever.at_least, attempt, _GRID, _RESOLUTION)
 
 
 def _grid(start: float, stop: float, count: int):

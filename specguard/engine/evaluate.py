@@ -798,6 +798,17 @@ def _finding(
     )
 
 
+def _resolved_overrides(pack: Pack, overrides: Mapping[str, RuleOverride]) -> dict[str, RuleOverride]:
+    """The policy's overrides keyed by rule id (an alias resolved); an unknown rule raises."""
+    resolved: dict[str, RuleOverride] = {}
+    for name, given in overrides.items():
+        prule = pack.get(name)
+        if prule is None:
+            raise OverrideError(f"unknown rule '{name}' in the overrides")
+        resolved[prule.id] = given
+    return resolved
+
+
 def evaluate(
     spec: Any,
     figures,
@@ -822,12 +833,7 @@ def evaluate(
         from ..figures import remedy as remedy_default
 
         remedy = remedy_default
-    resolved: dict[str, RuleOverride] = {}
-    for name, given in overrides.items():
-        prule = pack.get(name)
-        if prule is None:
-            raise OverrideError(f"unknown rule '{name}' in the overrides")
-        resolved[prule.id] = given
+    resolved = _resolved_overrides(pack, overrides)
     point_values = dict(figures.points)
     point_index = {op.name: i for i, op in enumerate(spec.operating_points)}
     out: list[Finding] = []
@@ -879,12 +885,7 @@ def evaluate_batch(
 
     from ..findings import SEVERITY_ORDER
 
-    resolved: dict[str, RuleOverride] = {}
-    for name, given in overrides.items():
-        prule = pack.get(name)
-        if prule is None:
-            raise OverrideError(f"unknown rule '{name}' in the overrides")
-        resolved[prule.id] = given
+    resolved = _resolved_overrides(pack, overrides)
     info = SEVERITY_ORDER["info"]
     out: dict[str, Any] = {}
 

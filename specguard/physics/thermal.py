@@ -16,6 +16,7 @@ form from its two real eigenvalues (no scipy at run time).
 
 from __future__ import annotations
 
+import contextlib
 import math
 from collections.abc import Sequence
 from typing import NamedTuple
@@ -480,32 +481,21 @@ def winding_temperature_cyclic(
     # arrays of segment currents or losses: one cycle per element (a batch of design
     # variants, specguard.figures.batch); runaway elements are +inf
     xp = namespace(*(v for seg in segments for v in (seg.current_rms, seg.housing_loss, seg.winding_loss)))
-    if xp.vector:
-        with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
-            return _cyclic(
-                segments,
-                resistance_20,
-                winding_capacitance,
-                housing_capacitance,
-                thermal_resistance_winding_housing,
-                thermal_resistance_housing_ambient,
-                ambient_temperature,
-                alpha_20,
-                samples_per_segment,
-                xp,
-            )
-    return _cyclic(
-        segments,
-        resistance_20,
-        winding_capacitance,
-        housing_capacitance,
-        thermal_resistance_winding_housing,
-        thermal_resistance_housing_ambient,
-        ambient_temperature,
-        alpha_20,
-        samples_per_segment,
-        xp,
-    )
+    # arrays: a runaway element overflows quietly to +inf (masked at the end)
+    quiet = np.errstate(over="ignore", invalid="ignore", divide="ignore") if xp.vector else contextlib.nullcontext()
+    with quiet:
+        return _cyclic(
+            segments,
+            resistance_20,
+            winding_capacitance,
+            housing_capacitance,
+            thermal_resistance_winding_housing,
+            thermal_resistance_housing_ambient,
+            ambient_temperature,
+            alpha_20,
+            samples_per_segment,
+            xp,
+        )
 
 
 def _cyclic(
