@@ -83,9 +83,7 @@ def big_spec(directory: Path, points: int = 10) -> Path:
     lines.append("  ambient: 35 degC")
     lines.append("  segments:")
     for i in range(8):
-        lines.append(
-            f"    - {{duration: {100 + 50 * i} ms, speed: {400 * i} rpm, torque: {0.1 + 0.02 * i:.2f} N*m}}"
-        )
+        lines.append(f"    - {{duration: {100 + 50 * i} ms, speed: {400 * i} rpm, torque: {0.1 + 0.02 * i:.2f} N*m}}")
     lines.append("notes: |")
     while sum(len(x) + 1 for x in lines) < 5000:
         lines.append("  Generated text that pads the spec to the size of a realistic, commented spec file.")

@@ -27,9 +27,7 @@ def axis_figures(v_term, current, speed_scale):
     """Physics of one operating point of a DC axis plus a three-phase variant."""
     r_hot = p.resistance_at_temperature(1.0, 298.15, 353.15)
     m = p.modulation_required(v_term, 24.0, current, 0.05, 200e-9, 20e3, "bipolar")
-    ripple = p.ripple_exact(
-        24.0, 0.2e-3, r_hot + 0.05, 20e3, m, "bipolar", v_term - r_hot * current
-    )
+    ripple = p.ripple_exact(24.0, 0.2e-3, r_hot + 0.05, 20e3, m, "bipolar", v_term - r_hot * current)
     window = p.supply_voltage_window(
         v_term * speed_scale,
         v_term,
@@ -103,18 +101,13 @@ def bench_ngspice():
             netlist, period = sc.svpwm_netlist(48.0, 100e-6, 20e3, m, 48, Path(tmp))
             sc.run(netlist, Path(tmp))
             rms_sim, _ = sc.phase_ripple_from_trace(Path(tmp) / "phase_a.dat", period, 48)
-            worst = max(
-                worst, abs(p.phase_ripple_rms(48.0, 100e-6, 20e3, m, "svpwm") / rms_sim - 1.0)
-            )
+            worst = max(worst, abs(p.phase_ripple_rms(48.0, 100e-6, 20e3, m, "svpwm") / rms_sim - 1.0))
     return worst, time.perf_counter() - t0, len(sc.HBRIDGE_CASES) + 2
 
 
 def main():
     small = bench_small()
-    print(
-        f"(a) 10 operating points, scalar path: median {small * 1e3:.3f} ms "
-        f"({small * 1e5:.1f} us per point)"
-    )
+    print(f"(a) 10 operating points, scalar path: median {small * 1e3:.3f} ms ({small * 1e5:.1f} us per point)")
     large = bench_large()
     print(f"(b) 100,000 operating points, vectorised: median {large * 1e3:.1f} ms")
     result = bench_ngspice()

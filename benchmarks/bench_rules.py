@@ -47,8 +47,12 @@ def _dc_spec(points: int):
     doc = assemble(raw, len(raw), path, root, Limits(), LibraryCache(Limits()))
     data = dict(doc.data)
     data["operating_points"] = [
-        {"name": f"p{i}", "speed": f"{(i * 7919) % 7800} rpm", "torque": f"{5 + (i * 31) % 20} mN*m",
-         "ambient": "40 degC"}
+        {
+            "name": f"p{i}",
+            "speed": f"{(i * 7919) % 7800} rpm",
+            "torque": f"{5 + (i * 31) % 20} mN*m",
+            "ambient": "40 degC",
+        }
         for i in range(points)
     ]
     spec, findings = build(data, doc.locate)
@@ -87,9 +91,7 @@ def main() -> None:
         f"evaluate, {len(pack.rules)} rules, 10 points [ms]": median_ms(
             lambda: evaluate(spec, figures, doc.locate, pack)
         ),
-        "floor: C parse + jsonschema, same file [ms]": median_ms(
-            lambda: list(validator.iter_errors(yaml.load(text)))
-        ),
+        "floor: C parse + jsonschema, same file [ms]": median_ms(lambda: list(validator.iter_errors(yaml.load(text)))),
         "figures.compute, brushed DC, 10 points [ms]": median_ms(lambda: compute(dc_specs[10])),
         "figures.compute, brushed DC, 500 points [ms]": median_ms(lambda: compute(dc_specs[500]), runs=30),
     }

@@ -139,39 +139,64 @@ def main() -> int:
             files = sorted((repo / "axes").glob("*.axis.yaml"))
             if n == 1:
                 one = str(files[0])
-                rows.append(("1 file, cold process (--no-cache)",
-                             _median_wall([*exe, "check", "--no-cache", one], args.runs, repo, env),
-                             "floor: parse+validate process",
-                             _median_wall([*floor_proc, one], args.runs, repo, env)))
+                rows.append(
+                    (
+                        "1 file, cold process (--no-cache)",
+                        _median_wall([*exe, "check", "--no-cache", one], args.runs, repo, env),
+                        "floor: parse+validate process",
+                        _median_wall([*floor_proc, one], args.runs, repo, env),
+                    )
+                )
                 continue
             if not warm_done:
                 warm_done = True
                 sample = files[: min(30, len(files))]
-                rows.append(("warm, per file (in process)", specguard_warm(sample, repo, args.runs),
-                             "floor: parse+validate per file", floor_warm(sample, args.runs)))
+                rows.append(
+                    (
+                        "warm, per file (in process)",
+                        specguard_warm(sample, repo, args.runs),
+                        "floor: parse+validate per file",
+                        floor_warm(sample, args.runs),
+                    )
+                )
             floor_n = _median_wall([*floor_proc, *map(str, files)], args.runs, repo, env)
-            rows.append((f"{n} files cold, --no-cache -j 2",
-                         _median_wall([*exe, "check", "--no-cache", "-j", "2", "."], args.runs, repo, env),
-                         f"floor: {n} files, one process", floor_n))
-            subprocess.run([*exe, "check", "."], cwd=repo, env=env, stdout=subprocess.DEVNULL,
-                           stderr=subprocess.DEVNULL)  # fill the cache
-            rows.append((f"{n} files, warm cache",
-                         _median_wall([*exe, "check", "."], args.runs, repo, env),
-                         f"floor: {n} files, one process", floor_n))
+            rows.append(
+                (
+                    f"{n} files cold, --no-cache -j 2",
+                    _median_wall([*exe, "check", "--no-cache", "-j", "2", "."], args.runs, repo, env),
+                    f"floor: {n} files, one process",
+                    floor_n,
+                )
+            )
+            subprocess.run(
+                [*exe, "check", "."], cwd=repo, env=env, stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL
+            )  # fill the cache
+            rows.append(
+                (
+                    f"{n} files, warm cache",
+                    _median_wall([*exe, "check", "."], args.runs, repo, env),
+                    f"floor: {n} files, one process",
+                    floor_n,
+                )
+            )
         html = base / "demo.html"
-        rows.append(("report --html, demo (6 specs)",
-                     _median_wall([*exe, "report", str(DEMO), "--html", str(html)], args.runs,
-                                  ROOT, env),
-                     "", None))
+        rows.append(
+            (
+                "report --html, demo (6 specs)",
+                _median_wall([*exe, "report", str(DEMO), "--html", str(html)], args.runs, ROOT, env),
+                "",
+                None,
+            )
+        )
     width = max(len(r[0]) for r in rows)
     fwidth = max(len(r[2]) for r in rows)
     print(f"{'measure':<{width}}  {'median':>9}  {'floor (same stack)':<{fwidth}}  {'median':>9}")
     for name, value, fname, fvalue in rows:
+
         def show(v):
             return f"{v * 1000:8.2f} ms" if v < 1 else f"{v:8.3f} s "
 
-        print(f"{name:<{width}}  {show(value)}  {fname:<{fwidth}}  "
-              f"{show(fvalue) if fvalue is not None else '':>9}")
+        print(f"{name:<{width}}  {show(value)}  {fname:<{fwidth}}  {show(fvalue) if fvalue is not None else '':>9}")
     print(f"(medians of {args.runs} runs; Python {sys.version.split()[0]}, {os.cpu_count()} CPUs)")
     return 0
 

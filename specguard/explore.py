@@ -169,7 +169,7 @@ def _refined(lever, low: float, high: float, judge, data, spec, level, ignored):
 
     from .engine.fixes import step_and_bisect
 
-    return step_and_bisect(low, lever.at_least, attempt, steps, _RESOLUTION)
+    return step_and_bisect(low, lever.at_least, attempt, steps)
 
 
 def explore(path: Path, root: Path, options=None, grid: int = GRID_SIZE) -> Exploration:

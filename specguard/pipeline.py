@@ -552,14 +552,24 @@ def _estimate_dependence(findings, spec, figures, locate, pack, overrides, setti
 
 
 def _verified_fixes(findings, data, spec, figures, locate, pack, overrides, options, settings, judged):
-    from .engine.evaluate import evaluate
+    from .engine.evaluate import evaluate, resolved_overrides, top_severity
     from .engine.fixes import FixContext, verify
     from .figures import compute, remedy
+    from .findings import SEVERITY_ORDER
     from .model import build
 
     level = "error"
     if options is not None and options.config is not None:
         level = str(options.config.fail_level.value)
+    # A variant is judged by the rules that fired on the spec (is the finding gone, what
+    # else clears) and those that can fire at the fail level (does it create a new
+    # one); a rule that can only warn below the fail level and did not fire changes
+    # nothing a fix is judged or described by.
+    resolved = resolved_overrides(pack, overrides)
+    gate = SEVERITY_ORDER[level]
+    judging = {f.rule for f in judged} | {
+        p.id for p in pack.rules if SEVERITY_ORDER[top_severity(p, resolved.get(p.id))] >= gate
+    }
 
     def run_variant(changed: dict):
         variant, built = build(changed, locate)
@@ -569,7 +579,8 @@ def _verified_fixes(findings, data, spec, figures, locate, pack, overrides, opti
             figs = compute(variant, settings)
         except Exception:  # a change the figures cannot take is no fix
             return None
-        return built + evaluate(variant, figs, locate, pack, overrides, remedy=_no_remedy, lean=True), figs
+        found = evaluate(variant, figs, locate, pack, overrides, remedy=_no_remedy, lean=True, rules=judging)
+        return built + found, figs
 
     def candidate(name, spec_, figures_, *, point, limit):
         return remedy(name, spec_, figures_, point=point, limit=limit, settings=settings)

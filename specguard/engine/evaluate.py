@@ -17,7 +17,7 @@ from __future__ import annotations
 
 import functools
 import math
-from collections.abc import Callable, Mapping, Sequence
+from collections.abc import Callable, Collection, Mapping, Sequence
 from pathlib import Path
 from typing import Any
 
@@ -798,8 +798,29 @@ def _finding(
     )
 
 
-def _resolved_overrides(pack: Pack, overrides: Mapping[str, RuleOverride]) -> dict[str, RuleOverride]:
-    """The policy's overrides keyed by rule id (an alias resolved); an unknown rule raises."""
+def top_severity(prule: PackRule, override: RuleOverride | None) -> str:
+    """The most severe finding the rule can give under ``override``."""
+    if override is not None and override.severity:
+        return str(override.severity)
+    return effective_bands(prule, override)[0].severity
+
+
+_RESOLVED: list[tuple[Pack, Mapping[str, RuleOverride], dict[str, RuleOverride], int]] = []
+
+
+def resolved_overrides(pack: Pack, overrides: Mapping[str, RuleOverride]) -> dict[str, RuleOverride]:
+    """The policy's overrides keyed by rule id (an alias resolved); an unknown rule raises.
+    The last resolution is kept: a check judges many variants with the same overrides
+    (the objects are held, so their identity cannot be reused)."""
+    held = _RESOLVED[0] if _RESOLVED else None
+    if held is not None and held[0] is pack and held[1] is overrides and held[3] == len(overrides):
+        return held[2]
+    resolved = _resolve_overrides(pack, overrides)
+    _RESOLVED[:] = [(pack, overrides, resolved, len(overrides))]
+    return resolved
+
+
+def _resolve_overrides(pack: Pack, overrides: Mapping[str, RuleOverride]) -> dict[str, RuleOverride]:
     resolved: dict[str, RuleOverride] = {}
     for name, given in overrides.items():
         prule = pack.get(name)
@@ -819,8 +840,10 @@ def evaluate(
     remedy: Callable[..., Any] | None = None,
     debug: bool = False,
     lean: bool = False,
+    rules: Collection[str] | None = None,
 ) -> list[Finding]:
-    """Findings of every rule of ``pack`` on one spec.
+    """Findings of every rule of ``pack`` on one spec (of the rule ids in ``rules``
+    only, when given).
 
     ``overrides`` maps a rule id (or alias) to the policy's override.
     ``remedy`` defaults to :func:`specguard.figures.remedy`. With ``debug`` a
@@ -833,11 +856,13 @@ def evaluate(
         from ..figures import remedy as remedy_default
 
         remedy = remedy_default
-    resolved = _resolved_overrides(pack, overrides)
+    resolved = resolved_overrides(pack, overrides)
     point_values = dict(figures.points)
     point_index = {op.name: i for i, op in enumerate(spec.operating_points)}
     out: list[Finding] = []
     for prule in pack.rules:
+        if rules is not None and prule.id not in rules:
+            continue
         override: RuleOverride | None = resolved.get(prule.id)
         if override is not None and not override.enabled:
             continue
@@ -885,7 +910,7 @@ def evaluate_batch(
 
     from ..findings import SEVERITY_ORDER
 
-    resolved = _resolved_overrides(pack, overrides)
+    resolved = resolved_overrides(pack, overrides)
     info = SEVERITY_ORDER["info"]
     out: dict[str, Any] = {}
 

@@ -14,7 +14,6 @@ once in the finding's message, never listed as a fix.
 
 from __future__ import annotations
 
-import json
 import math
 from collections.abc import Callable
 from dataclasses import dataclass, replace
@@ -22,8 +21,8 @@ from typing import Any
 
 from ..findings import SEVERITY_ORDER, Change, Finding, Fix
 
-# Outward steps of the search when the closed form falls short (relative change),
-# then bisection steps between the last failing and the first passing amount.
+# Outward steps of the search when the closed form falls short (relative change);
+# the bracket between the last failing and the first passing amount is then narrowed.
 _STEPS = (0.002, 0.01, 0.05, 0.2, 1.0, 4.0, 16.0)
 # The bisection stops when the bracket is narrower than the printed precision can
 # resolve (4 significant digits: a relative step of about 1e-3).
@@ -60,17 +59,19 @@ def _failing(findings: list[Finding], level: str) -> set[tuple[str, str | None]]
     return {_key(f) for f in findings if SEVERITY_ORDER[f.severity] >= threshold and not f.suppressed}
 
 
-def _judged(ctx: FixContext, data: dict):
+def _judged(ctx: FixContext, edit):
+    """(findings, figures) of the spec with ``edit`` applied, judged once per distinct
+    edit (its changes say everything it writes)."""
     memo = ctx.memo if ctx.memo is not None else {}
     ctx.memo = memo
-    key = json.dumps(data, sort_keys=True, default=str)
+    key = repr(edit.changes)
     if key not in memo:
-        memo[key] = ctx.run_variant(data)
+        memo[key] = ctx.run_variant(edit.data)
     return memo[key]
 
 
-def _variant(ctx: FixContext, data: dict) -> list[Finding] | None:
-    judged = _judged(ctx, data)
+def _variant(ctx: FixContext, edit) -> list[Finding] | None:
+    judged = _judged(ctx, edit)
     return None if judged is None else judged[0]
 
 
@@ -123,7 +124,7 @@ def _search(
     """The least change of ``lever`` from ``start`` (SI) that clears ``finding`` (at
     its band, or entirely with ``aim_clear``): (Edit, band reached) or None.
     ``steps``: the outward steps to try when ``start`` falls short (default all).
-    ``target``: the threshold the finding's figure must reach (for the secant)."""
+    ``target``: the threshold the finding's figure must reach (it guides the search)."""
 
     def attempt(amount: float):
         if not math.isfinite(amount) or amount <= 0:
@@ -131,7 +132,7 @@ def _search(
         edit = lever.edit(ctx.data, ctx.spec, amount)
         if edit is None:
             return None, None
-        reached = _acceptable(ctx, finding, before_failing, _variant(ctx, edit.data))
+        reached = _acceptable(ctx, finding, before_failing, _variant(ctx, edit))
         if reached is not None and aim_clear and reached != "clear":
             reached = None
         return edit, reached
@@ -140,106 +141,174 @@ def _search(
     if reached is not None:
         if getattr(lever, "categorical", False) or edit is None:
             return edit, reached
-        guess = _secant_root(ctx, lever, finding, edit, target)
-        if guess is not None and abs(guess / edit.amount - 1.0) <= _RESOLUTION:
-            return edit, reached  # the closed form is at the root of the full model already
-        return _tightened(start, lever.at_least, attempt, (edit, reached), guess)
+        return _tightened(ctx, lever, finding, target, attempt, (edit, reached))
     if getattr(lever, "categorical", False):
         return None  # one edit, no amount to move
     if edit is None and lever.at_least:
         return None  # beyond the lever's bound already: larger steps are too
-    return step_and_bisect(start, lever.at_least, attempt, _STEPS if steps is None else steps)
+    figure = (lambda e: _edit_figure(ctx, e, finding)) if target is not None else None
+    return step_and_bisect(
+        start, lever.at_least, attempt, _STEPS if steps is None else steps, figure=figure, target=target
+    )
 
 
-def _secant_root(ctx: FixContext, lever, finding: Finding, edit, threshold: float | None) -> float | None:
-    """Where the finding's figure meets ``threshold``, by the secant through the spec as
-    written and the passing candidate (amounts on a log scale where both are positive);
-    None when the figures do not say."""
-    if threshold is None:
-        return None
-    before = _figure(ctx, ctx.figures, finding)
-    judged = _judged(ctx, edit.data)
-    after = _figure(ctx, judged[1] if judged is not None else None, finding)
-    now = 0.0 if lever.name == "added_inductance" else lever.current(ctx.spec)
-    if before is None or after is None or now is None or after == before or edit.amount <= 0:
-        return None
-    share = (threshold - before) / (after - before)
-    if not 0.0 < share <= 1.0:
-        return None
-    if now > 0:
-        return math.exp(math.log(now) + share * (math.log(edit.amount) - math.log(now)))
-    return share * edit.amount
+def _edit_figure(ctx: FixContext, edit, finding: Finding) -> float | None:
+    judged = _judged(ctx, edit)
+    return _figure(ctx, judged[1] if judged is not None else None, finding)
 
 
-def _tightened(start: float, at_least: bool, attempt, passing, guess: float | None = None):
+def _coordinates(lever, spec):
+    """(to, back, the spec's place) of the coordinate the search interpolates in: the
+    added inductance linearly from none; an absent at-most lever (a brake resistor) as
+    its reciprocal, the spec at zero (no resistor: no conductance); otherwise the
+    logarithm of the amount (the spec's place None when it has none of this lever)."""
+    if lever.name == "added_inductance":
+        return (lambda x: x), (lambda u: u), 0.0
+    now = lever.current(spec)
+    if now is None or not now > 0:
+        if not lever.at_least:
+            return (lambda x: 1.0 / x), (lambda u: 1.0 / u if u > 0 else math.inf), 0.0
+        return math.log, math.exp, None
+    return math.log, math.exp, math.log(now)
+
+
+def _tightened(ctx: FixContext, lever, finding: Finding, target: float | None, attempt, passing):
     """A passing closed-form amount moved back towards the spec until the coupled model
     says no: the closed form holds what the change also moves (an inductance that falls
     with the ripple frequency, the dead time's share) at their present values, so it can
-    ask for more than the full model needs. The secant's ``guess`` first (just on its
-    safe side), else one step of the resolution back, then 1 %, 5 %, 20 % and 50 % (each
-    from the last passing amount), then bisection.
+    ask for more than the full model needs.
+
+    When the secant through the spec as written and the candidate (the finding's figure
+    against the lever, in :func:`_coordinates`) puts the threshold within the resolution
+    of the candidate, the candidate is kept: the closed form was exact. Otherwise the
+    spec is the failing end of a bracket and the search continues in
+    :func:`_bracketed`. Returns (edit, outcome)."""
+    to, back, here = _coordinates(lever, ctx.spec)
+    edit = passing[0]
+    g_pass = _edit_figure(ctx, edit, finding) if target is not None else None
+    g_spec = _figure(ctx, ctx.figures, finding) if target is not None else None
+    if here is not None and g_pass is not None and g_spec is not None and target is not None:
+        u_pass = to(edit.amount)
+        if (g_pass - target) * (g_spec - target) < 0:
+            u = u_pass + (g_pass - target) * (here - u_pass) / (g_pass - g_spec)
+            guess = back(u)
+            if math.isfinite(guess) and guess > 0 and abs(guess / edit.amount - 1.0) <= _RESOLUTION:
+                return passing  # the closed form is at the root of the full model already
+    failing = None
+    if here is None:  # no failing amount known: step back towards the spec until one fails
+        best, high = passing, edit.amount
+        for step in (_RESOLUTION, 0.01, 0.05, 0.2, 0.5):
+            amount = high / (1.0 + step) if lever.at_least else high * (1.0 + step)
+            e, outcome = attempt(amount)
+            if e is None:
+                return best
+            if outcome is None:
+                failing = e
+                break
+            best, high = (e, outcome), e.amount
+        if failing is None:
+            return best
+        passing = best
+    figure = (lambda e: _edit_figure(ctx, e, finding)) if target is not None else None
+    return _bracketed(lever.at_least, attempt, passing, failing, figure, target, (to, back, here, g_spec))
+
+
+def _bracketed(at_least: bool, attempt, passing, failing, figure, target, spec_end=None):
+    """The least passing amount between a failing end and ``passing`` (edit, outcome):
+    the secant through the two points judged last where it falls inside the bracket,
+    else regula falsi on the bracket (Illinois: an end kept twice counts half), each amount
+    nudged half a resolution to the safe side and at least one resolution from the
+    passing end, until the bracket is narrower than the resolution or the printed amount
+    stops moving; bisection where the figure does not say (none, or a variant failing for
+    another finding). ``failing``: the failing end's edit, its amount (not judged), or
+    None for the spec itself (``spec_end`` = (to, back, place, figure) of the spec).
     Returns (edit, outcome)."""
-    resolution = _RESOLUTION
-    best, high = passing, start
-    low = None
-    if guess is not None and (guess < start if at_least else guess > start):
-        amount = guess * (1.0 + resolution / 2.0) if at_least else guess / (1.0 + resolution / 2.0)
-        edit, outcome = attempt(amount)
-        if outcome is None:
-            low = amount
-        else:
-            best, high = (edit, outcome), amount
-    for step in (resolution, 0.01, 0.05, 0.2, 0.5) if low is None else ():
-        amount = high / (1.0 + step) if at_least else high * (1.0 + step)
-        edit, outcome = attempt(amount)
-        if outcome is None:
-            low = amount
+    if spec_end is not None:
+        to, back = spec_end[0], spec_end[1]
+    else:
+        to, back = math.log, math.exp
+    res = _RESOLUTION
+    best = passing
+    u_p = to(best[0].amount)
+    g_p = figure(best[0]) if figure is not None else None
+    if isinstance(failing, float):
+        u_f, x_f, g_f = to(failing), failing, None
+    elif failing is not None:
+        u_f, x_f = to(failing.amount), failing.amount
+        g_f = figure(failing) if figure is not None else None
+    else:
+        assert spec_end is not None
+        u_f, x_f, g_f = spec_end[2], None, spec_end[3]
+    w_p = None if g_p is None or target is None else g_p - target
+    w_f = None if g_f is None or target is None else g_f - target
+    kept = None
+    # the two points judged last, (coordinate, figure - target): the secant through them
+    # (superlinear near the root) where it falls inside the bracket
+    recent = [(u_f, w_f), (u_p, w_p)]
+    for _ in range(16):
+        x_p = best[0].amount
+        if x_f is not None and max(x_p, x_f) / min(x_p, x_f) - 1.0 <= res * (1.0 + 1e-9):
             break
-        best, high = (edit, outcome), amount
-    if low is None:
-        return best
-    while max(high, low) / min(high, low) - 1.0 > resolution:
-        mid = math.sqrt(low * high)
-        edit, outcome = attempt(mid)
-        if edit is not None and edit.amount == best[0].amount:
-            break  # the printed value no longer moves
+        u = None
+        guided = w_p is not None and w_f is not None and w_p * w_f < 0
+        (u_a, w_a), (u_b, w_b) = recent
+        if guided and w_a is not None and w_b is not None and w_a != w_b:
+            u = u_b + w_b * (u_a - u_b) / (w_b - w_a)
+            if not (math.isfinite(u) and min(u_p, u_f) < u < max(u_p, u_f)):
+                u = None
+        if u is None and guided:
+            u = u_p + w_p * (u_f - u_p) / (w_p - w_f)  # regula falsi on the bracket
+        if u is None or not math.isfinite(u):
+            u = 0.5 * (u_p + u_f)
+        x = back(u)
+        x = x * (1.0 + res / 2.0) if at_least else x / (1.0 + res / 2.0)
+        probe = x_p / (1.0 + res) if at_least else x_p * (1.0 + res)
+        if not math.isfinite(x) or (x > probe if at_least else x < probe):
+            x = probe
+        if x_f is not None and (x <= x_f if at_least else x >= x_f):
+            x = back(0.5 * (u_p + u_f))
+        edit, outcome = attempt(x)
+        if edit is None or edit.amount == best[0].amount:
+            break  # past the lever's bound, or the printed value no longer moves
+        g = figure(edit) if figure is not None else None
+        w = None if g is None or target is None else g - target
+        recent = [recent[1], (to(edit.amount), w)]
         if outcome is not None:
-            best, high = (edit, outcome), mid
+            best, u_p, w_p = (edit, outcome), to(edit.amount), w
+            if kept == "failing" and w_f is not None:
+                w_f /= 2.0  # Illinois: the failing end kept twice
+            kept = "failing"
         else:
-            low = mid
+            u_f, x_f = to(edit.amount), edit.amount
+            if w is None or w_p is None or w * w_p >= 0:
+                w_p = w_f = None  # fails for another reason: bisect from here on
+            else:
+                w_f = w
+                if kept == "passing":
+                    w_p /= 2.0
+                kept = "passing"
     return best
 
 
-def step_and_bisect(start: float, at_least: bool, attempt, steps=_STEPS, resolution: float = _RESOLUTION):
+def step_and_bisect(start: float, at_least: bool, attempt, steps=_STEPS, figure=None, target=None):
     """The least passing amount of a lever beyond ``start``: step outwards by the relative
-    ``steps`` until ``attempt(amount)`` passes, then bisect (geometric mean) back until
-    the bracket is narrower than ``resolution`` or the printed amount stops moving.
+    ``steps`` until ``attempt(amount)`` passes, then narrow the bracket back
+    (:func:`_bracketed`, guided by ``figure`` of an edit against ``target`` when given)
+    until it is narrower than the resolution or the printed amount stops moving.
     ``attempt(amount)`` returns (edit, outcome): edit None past the lever's bound,
     outcome None when the variant does not pass. Returns (edit, outcome) or None."""
-    low = start
-    found = None
+    low: Any = float(start)  # the amount known to fail
     for step in steps:
         amount = start * (1.0 + step) if at_least else start / (1.0 + step)
         edit, outcome = attempt(amount)
         if outcome is not None:
-            found = (amount, edit, outcome)
             break
         if edit is None:
             return None  # past the lever's bound
-        low = amount
-    if found is None:
+        low = edit
+    else:
         return None
-    high, best_edit, best = found
-    while max(high, low) / min(high, low) - 1.0 > resolution:
-        mid = math.sqrt(low * high)
-        edit, outcome = attempt(mid)
-        if edit is not None and best_edit is not None and edit.amount == best_edit.amount:
-            break  # the printed value no longer moves
-        if outcome is not None:
-            high, best_edit, best = mid, edit, outcome
-        else:
-            low = mid
-    return best_edit, best
+    return _bracketed(at_least, attempt, (edit, outcome), low, figure, target)
 
 
 def _side_effects(ctx: FixContext, edit, after: list[Finding] | None, before: list[Finding]) -> tuple[str, ...]:
@@ -289,7 +358,7 @@ def verify(
             if found is None:
                 continue
             edit, reached = found
-            after = _variant(ctx, edit.data)
+            after = _variant(ctx, edit)
             text = edit.text
             if reached != "clear" and lowest_threshold != band_threshold and not getattr(lever, "categorical", False):
                 text += _also_clears(ctx, lever, name, finding, lowest_threshold, lowest_band, edit, before_failing)

@@ -17,6 +17,7 @@ form from its two real eigenvalues (no scipy at run time).
 from __future__ import annotations
 
 import contextlib
+import functools
 import math
 from collections.abc import Sequence
 from typing import NamedTuple
@@ -481,6 +482,25 @@ def winding_temperature_cyclic(
     # arrays of segment currents or losses: one cycle per element (a batch of design
     # variants, specguard.figures.batch); runaway elements are +inf
     xp = namespace(*(v for seg in segments for v in (seg.current_rms, seg.housing_loss, seg.winding_loss)))
+    if not xp.vector:
+        # a check judges many variants of one design; those that leave the losses alone
+        # (a brake resistor, a rating) reuse the cycle
+        return _cyclic_scalar(
+            tuple(Segment(*(float(v) for v in seg)) for seg in segments),
+            *(
+                float(v)
+                for v in (
+                    resistance_20,
+                    winding_capacitance,
+                    housing_capacitance,
+                    thermal_resistance_winding_housing,
+                    thermal_resistance_housing_ambient,
+                    ambient_temperature,
+                    alpha_20,
+                )
+            ),
+            int(samples_per_segment),
+        )
     # arrays: a runaway element overflows quietly to +inf (masked at the end)
     quiet = np.errstate(over="ignore", invalid="ignore", divide="ignore") if xp.vector else contextlib.nullcontext()
     with quiet:
@@ -496,6 +516,11 @@ def winding_temperature_cyclic(
             samples_per_segment,
             xp,
         )
+
+
+@functools.lru_cache(maxsize=256)
+def _cyclic_scalar(segments, r20, c_w, c_h, r_wh, r_ha, ambient, alpha_20, samples):
+    return _cyclic(segments, r20, c_w, c_h, r_wh, r_ha, ambient, alpha_20, samples, namespace(0.0))
 
 
 def _cyclic(
