@@ -181,7 +181,7 @@ def explore(path: Path, root: Path, options=None, grid: int = GRID_SIZE) -> Expl
 
     from .engine.evaluate import load_pack
     from .figures.batch import judge_batch
-    from .figures.levers import AddedInductance, PwmFrequency, SupplyVoltage, topology
+    from .figures.levers import AddedInductance, PwmFrequency, SupplyVoltage, cost_weights, topology
     from .model import build
     from .pipeline import _overrides, figure_settings, read_spec, relpath
     from .source import Limits
@@ -214,8 +214,9 @@ def explore(path: Path, root: Path, options=None, grid: int = GRID_SIZE) -> Expl
     pwm = spec.stage.pwm
     per_leg = 2.0 if pwm.scheme == "unipolar-phase-shifted" and pwm.frequency_is != "leg" else 1.0
     f_leg = float(figures_now.axis["pwm_frequency_leg"])
-    choke = AddedInductance(topology(spec))
-    freq = PwmFrequency(per_leg, maximum=settings.pwm_frequency_max)
+    costs = cost_weights(settings)
+    choke = AddedInductance(topology(spec)).costed(costs)
+    freq = PwmFrequency(per_leg, maximum=settings.pwm_frequency_max).costed(costs)
     motor_l = float(figures_now.axis.get("loop_inductance_catalogue") or figures_now.axis["loop_inductance"])
     l_start = max(motor_l * 0.01, 1e-7)
     # rules failing as written that these levers cannot clear: still failing with the
@@ -244,7 +245,7 @@ def explore(path: Path, root: Path, options=None, grid: int = GRID_SIZE) -> Expl
     f_col, l_row = np.meshgrid(freqs, henries)  # [inductance row, frequency column]
     plane = judge_batch(data, spec, doc.locate, pack, overrides, settings, [(freq, f_col), (choke, l_row)])
     volts_now = float(spec.stage.supply.voltage)
-    up, down = SupplyVoltage(at_least=True), SupplyVoltage(at_least=False)
+    up, down = SupplyVoltage(at_least=True).costed(costs), SupplyVoltage(at_least=False).costed(costs)
     volts = np.concatenate([_grid(volts_now, volts_now * 4.0, grid), volts_now / _grid(1.0, 4.0, grid)])
     line = judge_batch(data, spec, doc.locate, pack, overrides, settings, [(up, volts)])
     screened = plane.size + line.size

@@ -476,6 +476,8 @@ def figure_settings(pack, overrides, config=None):
             settings = _replace(
                 settings, pwm_frequency_max=parse_quantity(modelling.fix_pwm_frequency_max, "frequency")
             )
+        if modelling.fix_costs:
+            settings = _replace(settings, fix_costs=tuple(sorted(modelling.fix_costs.items())))
     return settings
 
 
@@ -555,6 +557,7 @@ def _verified_fixes(findings, data, spec, figures, locate, pack, overrides, opti
     from .engine.evaluate import evaluate, resolved_overrides, top_severity
     from .engine.fixes import FixContext, verify
     from .figures import compute, remedy
+    from .figures.levers import cost_weights
     from .findings import SEVERITY_ORDER
     from .model import build
 
@@ -603,7 +606,16 @@ def _verified_fixes(findings, data, spec, figures, locate, pack, overrides, opti
         return prule.rule.figure if prule is not None else None
 
     ctx = FixContext(
-        data, spec, figures, level, run_variant, candidate, region, settings.pwm_frequency_max, rule_figure=rule_figure
+        data,
+        spec,
+        figures,
+        level,
+        run_variant,
+        candidate,
+        region,
+        settings.pwm_frequency_max,
+        rule_figure=rule_figure,
+        cost_weights=cost_weights(settings),
     )
     # variants are judged as evaluated (no softening for the inductance estimate), so the
     # failing findings they are compared with are those of the same judgement

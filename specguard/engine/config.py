@@ -178,6 +178,29 @@ class Modelling(_Model):
     fix_pwm_frequency_max: Threshold | None = Field(
         None, description="the highest PWM (leg) frequency a fix may propose, with its unit (default 250 kHz)"
     )
+    fix_costs: (
+        dict[
+            Literal[
+                "pwm_frequency",
+                "added_inductance",
+                "choke_saturation_current",
+                "supply_voltage",
+                "pwm_scheme",
+                "loop_bandwidth",
+                "stage_continuous_current",
+                "stage_peak_current",
+                "brake_resistor",
+            ],
+            Annotated[float, Field(ge=0.0, le=1000.0)],
+        ]
+        | None
+    ) = Field(
+        None,
+        description="what a relative change of 1 of each lever costs when fixes and explore options are "
+        "ordered (a part added where none was: one change); missing levers keep the defaults "
+        "(pwm_scheme 0.3, loop_bandwidth 0.5, pwm_frequency, added_inductance, choke_saturation_current "
+        "and brake_resistor 1, supply_voltage and the stage ratings 2)",
+    )
 
 
 def hide_unapplied(config: EffectiveConfig | None) -> bool:
@@ -633,7 +656,16 @@ def _pydantic_findings(exc: ValidationError, locate: _Locator) -> list[Finding]:
         kind = err.get("type", "")
         if "[key]" in loc:
             loc = loc[: loc.index("[key]")]
-            finding = _bad(locate, loc, "a band is one of error, warning, info", key=True)
+            allowed = re.findall(r"'([^']*)'", str(err.get("ctx", {}).get("expected", "")))
+            name = str(err.get("input", loc[-1] if loc else ""))
+            hint = difflib.get_close_matches(name, allowed, n=1, cutoff=0.6)
+            if "thresholds" in loc:
+                message = "a band is one of error, warning, info" + (f"; did you mean '{hint[0]}'?" if hint else "")
+            elif hint:
+                message = f"unknown key '{name}'; did you mean '{hint[0]}'?"
+            else:
+                message = f"unknown key '{name}' (allowed here: {', '.join(allowed)})"
+            finding = _bad(locate, loc, message, key=True)
         # A threshold is a union (text with unit, or number): one message for both members.
         elif "thresholds" in loc and len(loc) > loc.index("thresholds") + 2:
             loc = loc[: loc.index("thresholds") + 2]
@@ -663,6 +695,11 @@ def _pydantic_findings(exc: ValidationError, locate: _Locator) -> list[Finding]:
             if kind == "bool_type":
                 message += " (YAML 1.2 booleans are true and false only)"
             finding = _bad(locate, loc, message)
+        elif kind in ("greater_than_equal", "less_than_equal", "greater_than", "less_than"):
+            bound = err.get("ctx", {})
+            words = {"ge": "at least", "le": "at most", "gt": "above", "lt": "below"}
+            said = next((f"{w} {bound[k]}" for k, w in words.items() if k in bound), "in range")
+            finding = _bad(locate, loc, f"must be {said} (it is {err.get('input')!r})")
         elif kind == "string_pattern_mismatch":
             finding = _bad(
                 locate,
@@ -919,9 +956,10 @@ def validate(
 def _modelling_text(value: Modelling | None) -> str:
     """The modelling choices in force, defaults included (``specguard config``)."""
     from ..figures.compute import FigureSettings
-    from ..figures.levers import PWM_FREQUENCY_MAX
+    from ..figures.levers import COST_WEIGHT, PWM_FREQUENCY_MAX
 
     settings = FigureSettings()
+    costs = dict(COST_WEIGHT)
     curves = dict(settings.inductance_curves)
     soften, reserve, f_max = True, settings.reserve_fraction, f"{PWM_FREQUENCY_MAX / 1e3:g} kHz"
     if value is not None:
@@ -930,10 +968,12 @@ def _modelling_text(value: Modelling | None) -> str:
         soften = soften if value.estimate_softens_verdicts is None else value.estimate_softens_verdicts
         reserve = reserve if value.supply_reserve is None else value.supply_reserve
         f_max = f_max if value.fix_pwm_frequency_max is None else str(value.fix_pwm_frequency_max)
+        costs.update({str(k): float(v) for k, v in (value.fix_costs or {}).items()})
     shown = ", ".join(f"{w} (f/f_cat)^-{n:g} at least {floor:g}" for w, (n, floor) in sorted(curves.items()))
     return (
         f"inductance estimate: {shown}; estimate softens verdicts: {'yes' if soften else 'no'}; "
-        f"supply reserve: {reserve:g}; PWM frequency a fix may propose: at most {f_max}"
+        f"supply reserve: {reserve:g}; PWM frequency a fix may propose: at most {f_max}; "
+        "fix costs: " + ", ".join(f"{k} {v:g}" for k, v in sorted(costs.items()))
     )
 
 

@@ -48,6 +48,7 @@ class FixContext:
     pwm_frequency_max: float = 0.0  # the policy's bound on the PWM-frequency lever (0: default)
     memo: dict | None = None
     rule_figure: Callable[[str], str | None] = lambda _rule: None  # the figure a rule judges
+    cost_weights: Any = None  # the policy's lever cost weights (None: the defaults)
 
 
 def _key(f: Finding) -> tuple[str, str | None]:
@@ -256,7 +257,7 @@ def _bracketed(at_least: bool, attempt, passing, failing, figure, target, spec_e
             u = u_b + w_b * (u_a - u_b) / (w_b - w_a)
             if not (math.isfinite(u) and min(u_p, u_f) < u < max(u_p, u_f)):
                 u = None
-        if u is None and guided:
+        if u is None and w_p is not None and w_f is not None and w_p * w_f < 0:
             u = u_p + w_p * (u_f - u_p) / (w_p - w_f)  # regula falsi on the bracket
         if u is None or not math.isfinite(u):
             u = 0.5 * (u_p + u_f)
@@ -342,7 +343,7 @@ def verify(
         fixes: list[Fix] = []
         unhelpful: list[str] = []
         for name in names:
-            lever = lever_for(name, ctx.spec, ctx.pwm_frequency_max)
+            lever = lever_for(name, ctx.spec, ctx.pwm_frequency_max, ctx.cost_weights)
             remedy = ctx.candidate(name, ctx.spec, ctx.figures, point=finding.operating_point, limit=band_threshold)
             if remedy is None or lever is None:
                 continue

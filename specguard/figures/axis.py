@@ -52,6 +52,9 @@ class FigureSettings:
     estimate_softens_verdicts: bool = True
     # The highest PWM (leg) frequency a fix may propose [Hz] (policy; common practice).
     pwm_frequency_max: float = 250e3
+    # The policy's cost weights of the levers, (name, weight) pairs over the defaults
+    # (specguard.figures.levers.COST_WEIGHT); empty: the defaults.
+    fix_costs: tuple[tuple[str, float], ...] = ()
 
 
 _DC_SCHEMES = {

@@ -49,6 +49,7 @@ PWM_FREQUENCY_MAX = 250e3
 # Relative cost weights of the levers, for ordering fixes (a relative change of 1
 # costs this much). Common practice of design reviews: a higher PWM frequency and a
 # choke are cheap changes on paper; another supply voltage or stage is not.
+# The policy's `modelling.fix_costs` replaces any of them (specguard.engine.config).
 COST_WEIGHT = {
     "pwm_scheme": 0.3,  # a setting of the controller, where the bridge drives both legs
     "pwm_frequency": 1.0,
@@ -59,7 +60,9 @@ COST_WEIGHT = {
     # another stage: a part change, weighed like another supply
     "stage_continuous_current": 2.0,
     "stage_peak_current": 2.0,
+    "brake_resistor": 1.0,  # a part added where none was
 }
+LEVER_NAMES = tuple(COST_WEIGHT)
 
 
 @dataclass(frozen=True)
@@ -131,9 +134,21 @@ class Lever:
         :meth:`edit`)."""
         raise NotImplementedError
 
+    # the cost weights in force (the policy's, merged over COST_WEIGHT); None: the defaults
+    cost_weights: Mapping[str, float] | None = None
+
+    def weight(self) -> float:
+        """What a relative change of 1 of this lever costs (a part added: one change)."""
+        return (self.cost_weights if self.cost_weights is not None else COST_WEIGHT).get(self.name, 1.0)
+
+    def costed(self, weights: Mapping[str, float] | None):
+        """This lever with the cost weights ``weights`` (None: the defaults)."""
+        self.cost_weights = weights
+        return self
+
     def _cost(self, spec, amount: float) -> float:
         now = self.current(spec)
-        weight = COST_WEIGHT.get(self.name, 1.0)
+        weight = self.weight()
         if not now:
             return weight * 1.0  # something added where nothing was
         return weight * abs(amount - now) / abs(now)
@@ -398,7 +413,7 @@ class PwmScheme(Lever):
             "switch the H-bridge to three-level PWM (unipolar, phase-shifted legs at the same leg frequency: "
             "half the voltage step, twice the ripple frequency)"
         )
-        return Edit(self.name, 1.0, text, tuple(changes), new, COST_WEIGHT.get(self.name, 0.5))
+        return Edit(self.name, 1.0, text, tuple(changes), new, self.weight())
 
 
 class BrakeResistorLever(Lever):
@@ -424,7 +439,7 @@ class BrakeResistorLever(Lever):
         new = dict(data)
         _set(new, ("stage", "brake_resistor"), section)
         text = f"fit a brake resistor of at most {r_text}, switched in at {v_text}"
-        return Edit(self.name, ohms, text, (("/stage/brake_resistor", tuple(section.items())),), new, 1.0)
+        return Edit(self.name, ohms, text, (("/stage/brake_resistor", tuple(section.items())),), new, self.weight())
 
 
 def topology(spec) -> str:
@@ -433,9 +448,24 @@ def topology(spec) -> str:
     return "six-step" if spec.stage.pwm.scheme.startswith("six-step") else "sinusoidal"
 
 
-def lever_for(remedy_name: str, spec, pwm_frequency_max: float = 0.0) -> Lever | None:
+def lever_for(
+    remedy_name: str, spec, pwm_frequency_max: float = 0.0, cost_weights: Mapping[str, float] | None = None
+) -> Lever | None:
     """The lever a remedy of the rule pack moves (``specguard.figures.REMEDIES``);
-    ``pwm_frequency_max`` bounds the PWM-frequency lever (0: the default)."""
+    ``pwm_frequency_max`` bounds the PWM-frequency lever (0: the default);
+    ``cost_weights`` weigh its changes (None: COST_WEIGHT)."""
+    lever = _lever_for(remedy_name, spec, pwm_frequency_max)
+    return lever.costed(cost_weights) if lever is not None else None
+
+
+def cost_weights(settings) -> Mapping[str, float] | None:
+    """The cost weights in force under ``settings`` (a FigureSettings): the policy's
+    over the defaults, None when the policy sets none."""
+    given = getattr(settings, "fix_costs", ())
+    return {**COST_WEIGHT, **dict(given)} if given else None
+
+
+def _lever_for(remedy_name: str, spec, pwm_frequency_max: float) -> Lever | None:
     if remedy_name == "added_inductance":
         return AddedInductance(topology(spec))
     if remedy_name in ("pwm_frequency", "pwm_frequency_inaudible"):

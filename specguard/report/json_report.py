@@ -104,6 +104,7 @@ def fix(x) -> dict:
         "clears": list(x.clears),
         "reaches": x.reaches,
         "side_effects": list(x.side_effects),
+        "cost": round(float(x.cost), 6),
     }
 
 

@@ -73,3 +73,45 @@ def test_a_modelling_change_is_never_answered_from_the_cache(repo, tmp_path):
     cold = run_cli("check", "--format", "json", "--no-cache", AXIS, cwd=repo)
     assert warm.stdout == cold.stdout
     assert warm.stdout != first.stdout
+
+
+def _ripple_fixes(repo):
+    file = _figures(repo)
+    finding = next(
+        f for f in file["findings"] if f["rule"] == "ripple-over-rated-current" and f.get("operating_point") == "lift"
+    )
+    return [(fix["changes"][0]["pointer"], fix["cost"]) for fix in finding["fixes"]]
+
+
+def test_the_fix_costs_of_the_policy_order_the_fixes(repo):
+    """Fixes are ordered by cost: the relative change of the lever times its weight
+    (defaults: the PWM frequency and a choke 1 each; the lift's frequency fix is a
+    change of 39 %, its choke fix adds 107 uH to 47 uH: 228 %). A team whose controller
+    cannot switch faster weighs the frequency up, and the choke comes first."""
+    before = _ripple_fixes(repo)
+    assert [p for p, _ in before] == ["/stage/pwm/frequency", "/chokes/inductance"]
+    (repo / ".specguard.yaml").write_text(
+        "format: 1\nmodelling:\n  fix_costs: {pwm_frequency: 10, added_inductance: 0.5}\n", encoding="utf-8"
+    )
+    after = _ripple_fixes(repo)
+    assert [p for p, _ in after] == ["/chokes/inductance", "/stage/pwm/frequency"]
+    cost = dict(before)
+    assert dict(after)["/stage/pwm/frequency"] == pytest.approx(10 * cost["/stage/pwm/frequency"], rel=1e-6)
+    assert dict(after)["/chokes/inductance"] == pytest.approx(0.5 * cost["/chokes/inductance"], rel=1e-6)
+    out = run_cli("config", AXIS, cwd=repo).stdout.decode()
+    assert "fix costs: added_inductance 0.5, brake_resistor 1" in out and "pwm_frequency 10," in out
+
+
+@pytest.mark.parametrize(
+    "text, expected",
+    [
+        ("{pwm_freq: 3}", "modelling.fix_costs.pwm_freq: unknown key 'pwm_freq'; did you mean 'pwm_frequency'?"),
+        ("{supply_voltage: -1}", "modelling.fix_costs.supply_voltage: must be at least 0.0 (it is -1)"),
+        ("{supply_voltage: cheap}", "modelling.fix_costs.supply_voltage: expected a number"),
+    ],
+)
+def test_bad_fix_costs_are_config_errors(repo, text, expected):
+    (repo / ".specguard.yaml").write_text(f"format: 1\nmodelling:\n  fix_costs: {text}\n", encoding="utf-8")
+    done = run_cli("check", "--no-cache", AXIS, cwd=repo)
+    assert done.returncode == 2
+    assert expected in done.stderr.decode()
