@@ -583,7 +583,7 @@ def _verified_fixes(findings, data, spec, figures, locate, pack, overrides, opti
         except Exception:  # a change the figures cannot take is no fix
             return None
         found = evaluate(variant, figs, locate, pack, overrides, remedy=_no_remedy, lean=True, rules=judging)
-        return built + found, figs
+        return built + found, figs, variant
 
     def candidate(name, spec_, figures_, *, point, limit):
         return remedy(name, spec_, figures_, point=point, limit=limit, settings=settings)
@@ -601,6 +601,19 @@ def _verified_fixes(findings, data, spec, figures, locate, pack, overrides, opti
             return None  # not written in the axis file itself (a library value, or absent)
         return (loc.file, loc.line, loc.column, loc.end_line, loc.end_column)
 
+    def threshold(rule_id: str, severity: str) -> float | None:
+        from .engine.evaluate import effective_bands
+
+        prule = pack.get(rule_id)
+        if prule is None:
+            return None
+        bands = effective_bands(prule, resolved.get(prule.id))
+        # a severity the policy overrides is given by every band: clearing it takes the lowest
+        band = next((b for b in bands if b.severity == severity), bands[-1])
+        if band.comparator == "is":
+            return None
+        return float(band.threshold)
+
     def rule_figure(rule_id: str) -> str | None:
         prule = pack.get(rule_id)
         return prule.rule.figure if prule is not None else None
@@ -616,6 +629,8 @@ def _verified_fixes(findings, data, spec, figures, locate, pack, overrides, opti
         settings.pwm_frequency_max,
         rule_figure=rule_figure,
         cost_weights=cost_weights(settings),
+        threshold=threshold,
+        remedy_names=remedy_names,
     )
     # variants are judged as evaluated (no softening for the inductance estimate), so the
     # failing findings they are compared with are those of the same judgement

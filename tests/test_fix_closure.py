@@ -59,11 +59,24 @@ def _failing(report, level="error") -> set:
     }
 
 
-def _closure(tree: Path, spec_rel: str, tally: dict) -> list[str]:
-    """Apply every fix of the spec at ``tree/spec_rel``; return what failed."""
+def _with_policy(path: Path, tree: Path):
+    """The check of one file under the policy file of its tree (.specguard.yaml)."""
+    from specguard.pipeline import RunOptions, plan, run_targets
+    from specguard.runsetup import PolicyIndex
+
+    index = PolicyIndex(None, None, None, RunOptions())
+    report = run_targets(plan([str(path)], tree, index))
+    assert not index.errors
+    return report
+
+
+def _closure(tree: Path, spec_rel: str, tally: dict, level: str = "error", check=None) -> list[str]:
+    """Apply every fix of the spec at ``tree/spec_rel``; return what failed (``level``:
+    the fail level of the policy in force; ``check``: how a file is checked)."""
     spec_path = tree / spec_rel
-    report = check_paths([str(spec_path)], root=tree)
-    before = _failing(report)
+    check_paths_ = check or (lambda path, root: check_paths([str(path)], root=root))
+    report = check_paths_(spec_path, tree)
+    before = _failing(report, level)
     problems = []
     original = spec_path.read_bytes()
     data = load_bytes(original, spec_rel).data
@@ -74,13 +87,13 @@ def _closure(tree: Path, spec_rel: str, tally: dict) -> list[str]:
                 _set(edited, change.pointer, change.value)
             spec_path.write_text(json.dumps(edited, indent=1), encoding="utf-8")
             try:
-                after = check_paths([str(spec_path)], root=tree)
+                after = check_paths_(spec_path, tree)
             finally:
                 spec_path.write_bytes(original)
             tally["fixes"] += 1
             same = [f for f in after.findings if (f.rule, f.operating_point) == (finding.rule, finding.operating_point)]
             still = [f for f in same if SEVERITY_ORDER[f.severity] >= SEVERITY_ORDER[finding.severity]]
-            new = _failing(after) - before
+            new = _failing(after, level) - before
             unreadable = [f for f in after.findings if f.severity == "error" and f.rule not in PACK.by_id]
             if still or new or unreadable:
                 problems.append(
@@ -203,3 +216,28 @@ def test_the_scheme_fix_of_a_two_level_bridge_closes_its_finding(demo_tree):
     tally = {"fixes": 0, "closed": 0}
     assert not _closure(demo_tree, "robot/axes/sample-lift.axis.yaml", tally)
     assert tally["fixes"] == tally["closed"] > 0
+
+
+def test_a_two_lever_fix_closes_its_finding(demo_tree):
+    """Where no lever alone clears a finding, the cheapest pair the search finds is the
+    fix. The lift under a policy that fails at warnings and lets a fix raise the PWM
+    frequency to 55 kHz only: a choke for the ripple takes control headroom, so the
+    bottom of the supply range falls short (a new warning); raising the supply for it
+    raises the ripple again. The pair (choke and supply together) must clear the ripple
+    and add nothing at the warning level when a person applies both edits."""
+    (demo_tree / ".specguard.yaml").write_text(
+        "format: 1\nfail_level: warning\nmodelling:\n  fix_pwm_frequency_max: 55 kHz\n", encoding="utf-8"
+    )
+    rel = "robot/axes/sample-lift.axis.yaml"
+    report = _with_policy(demo_tree / rel, demo_tree)
+    pairs = [
+        (f, x)
+        for f in report.findings
+        for x in f.fixes
+        if {c.pointer for c in x.changes} >= {"/chokes/inductance", "/stage/supply/voltage"}
+    ]
+    assert {f.rule for f, _ in pairs} >= {"ripple-over-rated-current", "worst-ripple-over-rated-current"}
+    assert all("two together do" in f.message and ", and raise the supply" in x.text for f, x in pairs)
+    tally = {"fixes": 0, "closed": 0}
+    problems = _closure(demo_tree, rel, tally, level="warning", check=_with_policy)
+    assert tally["fixes"] >= len(pairs) and not problems, "\n".join(problems)

@@ -7,9 +7,11 @@ a lower band) and creates no finding at or above the fail level that the spec di
 not have. The closed-form remedy of the figures layer gives the first candidate;
 where the coupled model (dead time, control headroom, inductance table, the
 chokes' resistance, the scheme's frequency) moves the answer, the amount is
-searched on the full model: stepped outwards until the finding clears, then
-bisected back, always on printed (rounded) values. A lever that cannot help is said
-once in the finding's message, never listed as a fix.
+searched on the full model: stepped outwards until the finding clears, then moved
+back with the figure the rule judges as the guide (docs/physics.md §7.7), always on
+printed (rounded) values. Where no lever alone clears a finding, the cheapest pair
+of levers the search finds is the fix. A lever that cannot help is said once in the
+finding's message, never listed as a fix.
 """
 
 from __future__ import annotations
@@ -24,12 +26,13 @@ from ..findings import SEVERITY_ORDER, Change, Finding, Fix
 # Outward steps of the search when the closed form falls short (relative change);
 # the bracket between the last failing and the first passing amount is then narrowed.
 _STEPS = (0.002, 0.01, 0.05, 0.2, 1.0, 4.0, 16.0)
-# The bisection stops when the bracket is narrower than the printed precision can
+# The search stops when the bracket is narrower than the printed precision can
 # resolve (4 significant digits: a relative step of about 1e-3).
 _RESOLUTION = 2e-3
 
-# (findings of the whole pack, figures) of changed data; None: the data does not build
-Variant = Callable[[dict], "tuple[list[Finding], Any] | None"]
+# (findings of the whole pack, figures, spec model) of changed data; None: the data does
+# not build
+Variant = Callable[[dict], "tuple[list[Finding], Any, Any] | None"]
 
 
 @dataclass
@@ -49,6 +52,9 @@ class FixContext:
     memo: dict | None = None
     rule_figure: Callable[[str], str | None] = lambda _rule: None  # the figure a rule judges
     cost_weights: Any = None  # the policy's lever cost weights (None: the defaults)
+    # (rule id, severity) -> the threshold of that band in force (for a pair's second lever)
+    threshold: Callable[[str, str], float | None] = lambda _rule, _severity: None
+    remedy_names: Callable[[str], tuple[str, ...]] = lambda _rule: ()
 
 
 def _key(f: Finding) -> tuple[str, str | None]:
@@ -101,13 +107,15 @@ def _outcome(finding: Finding, after: list[Finding]) -> str | None:
     return next(s for s, rank in SEVERITY_ORDER.items() if rank == top)
 
 
-def _acceptable(ctx: FixContext, finding: Finding, before_failing: set, after: list[Finding] | None):
+def _acceptable(
+    ctx: FixContext, finding: Finding, before_failing: set, after: list[Finding] | None, new_ok: bool = False
+):
     if after is None:
         return None
     reached = _outcome(finding, after)
     if reached is None:
         return None
-    if _failing(after, ctx.fail_level) - before_failing:
+    if not new_ok and _failing(after, ctx.fail_level) - before_failing:
         return None  # trades this finding for a new one at the fail level
     return reached
 
@@ -121,11 +129,16 @@ def _search(
     aim_clear: bool,
     steps=None,
     target: float | None = None,
+    guide: Finding | None = None,
+    new_ok: bool = False,
 ):
     """The least change of ``lever`` from ``start`` (SI) that clears ``finding`` (at
     its band, or entirely with ``aim_clear``): (Edit, band reached) or None.
     ``steps``: the outward steps to try when ``start`` falls short (default all).
-    ``target``: the threshold the finding's figure must reach (it guides the search)."""
+    ``target``: the threshold the figure of ``guide`` (default the finding) must reach
+    (it guides the search). ``new_ok``: a new finding at the fail level does not count
+    against the change (the first lever of a pair, whose partner takes it)."""
+    guide = finding if guide is None else guide
 
     def attempt(amount: float):
         if not math.isfinite(amount) or amount <= 0:
@@ -133,7 +146,7 @@ def _search(
         edit = lever.edit(ctx.data, ctx.spec, amount)
         if edit is None:
             return None, None
-        reached = _acceptable(ctx, finding, before_failing, _variant(ctx, edit))
+        reached = _acceptable(ctx, finding, before_failing, _variant(ctx, edit), new_ok)
         if reached is not None and aim_clear and reached != "clear":
             reached = None
         return edit, reached
@@ -142,12 +155,12 @@ def _search(
     if reached is not None:
         if getattr(lever, "categorical", False) or edit is None:
             return edit, reached
-        return _tightened(ctx, lever, finding, target, attempt, (edit, reached))
+        return _tightened(ctx, lever, guide, target, attempt, (edit, reached))
     if getattr(lever, "categorical", False):
         return None  # one edit, no amount to move
     if edit is None and lever.at_least:
         return None  # beyond the lever's bound already: larger steps are too
-    figure = (lambda e: _edit_figure(ctx, e, finding)) if target is not None else None
+    figure = (lambda e: _edit_figure(ctx, e, guide)) if target is not None else None
     return step_and_bisect(
         start, lever.at_least, attempt, _STEPS if steps is None else steps, figure=figure, target=target
     )
@@ -373,14 +386,147 @@ def verify(
                     cost=edit.cost,
                 )
             )
+        paired = False
+        if not fixes and finding.severity != "info":
+            pair = _pair(ctx, finding, names, before_failing, band_threshold)
+            if pair is not None:
+                edit_a, edit_b, reached, sub = pair
+                after = _variant(sub, edit_b)
+                paired = True
+                fixes.append(
+                    Fix(
+                        text=f"{edit_a.text}, and {edit_b.text}",
+                        changes=tuple(Change(p, v, ctx.region(_path(p))) for p, v in edit_a.changes + edit_b.changes),
+                        clears=tuple(sorted({f.rule for f in findings if _key(f) not in _keys(after)})),
+                        reaches=reached,
+                        side_effects=_side_effects(ctx, edit_b, after, findings),
+                        cost=edit_a.cost + edit_b.cost,
+                    )
+                )
         fixes.sort(key=lambda f: (f.cost, f.text))
         message = finding.message
         if unhelpful:
             message += "; " + "; ".join(_clause(u) for u in unhelpful)
-        if not fixes and not unhelpful and finding.severity != "info":
+        if paired:
+            message += "; no single change clears it without a new finding at the fail level, two together do"
+        elif not fixes and not unhelpful and finding.severity != "info":
             message += "; no single change of the levers checked clears it without a new finding at the fail level"
         out.append(replace(finding, message=message, remedies=tuple(f.text for f in fixes), fixes=tuple(fixes)))
     return out
+
+
+def _pair(ctx: FixContext, finding: Finding, names: tuple[str, ...], before_failing: set, band_threshold: float):
+    """The cheapest two-lever fix where no lever alone clears ``finding``.
+
+    A lever of the finding that clears it but raises a new finding at the fail level
+    (the least amount that clears the finding, whatever else fires) is paired with a
+    lever of that new finding: first searched on top of it until the pair clears the
+    finding and leaves nothing new at the fail level; where the second lever undoes
+    some of the first (a higher supply for the headroom a choke takes also raises the
+    ripple the choke was for), the second lever's amount that clears the new finding is
+    set first and the first lever searched again on top of it.
+    Returns (first edit, second edit made on the first, band reached, the context of
+    the first edit) or None."""
+    from ..figures.levers import lever_for
+
+    def lever(name, spec):
+        return lever_for(name, spec, ctx.pwm_frequency_max, ctx.cost_weights)
+
+    def on(edit):  # the context of the spec with ``edit`` applied
+        judged = _judged(ctx, edit)
+        if judged is None:
+            return None
+        return replace(ctx, data=edit.data, spec=judged[2], figures=judged[1], memo={})
+
+    point = finding.operating_point
+    best = None
+    for name_a in names:
+        lever_a = lever(name_a, ctx.spec)
+        remedy_a = ctx.candidate(name_a, ctx.spec, ctx.figures, point=point, limit=band_threshold)
+        if lever_a is None or remedy_a is None or remedy_a.value is None or lever_a.categorical:
+            continue
+        first = _search(
+            ctx, lever_a, finding, float(remedy_a.value), before_failing, False, target=band_threshold, new_ok=True
+        )
+        sub = on(first[0]) if first is not None else None
+        if first is None or sub is None:
+            continue
+        edit_a = first[0]
+        after_a = _variant(ctx, edit_a) or []
+        new = sorted(
+            (f for f in after_a if _key(f) in _failing(after_a, ctx.fail_level) - before_failing),
+            key=lambda f: (-SEVERITY_ORDER[f.severity], f.rule, f.operating_point or ""),
+        )
+        for other in new[:3]:
+            limit = ctx.threshold(other.rule, other.severity)
+            if limit is None:
+                continue
+            for name_b in ctx.remedy_names(other.rule):
+                lever_b = lever(name_b, sub.spec)
+                if lever_b is None or lever_b.name == lever_a.name:
+                    continue
+                pair = _alternate(
+                    ctx, finding, before_failing, band_threshold, (name_a, edit_a), (name_b, other, limit), lever, on
+                )
+                if pair is not None and (best is None or pair[0].cost + pair[1].cost < best[0].cost + best[1].cost):
+                    best = pair
+    return best
+
+
+_ROUNDS = 4  # rounds of a pair's alternating search
+
+
+def _alternate(ctx, finding, before_failing, band_threshold, first, second, lever, on):
+    """A pair of levers, each searched on top of the other in turn: the second lever on
+    the first edit until the pair passes (or, failing that, until the new finding alone
+    clears), then the first lever on that second amount, for a few rounds.
+    (edit made first, edit made on it, band reached, the context of the first) or None."""
+    name_a, edit_a = first
+    name_b, other, limit = second
+    point = finding.operating_point
+    seen = [edit_a.amount]  # the first lever's amount each round
+
+    def start(name, sub, at, threshold):
+        remedy = ctx.candidate(name, sub.spec, sub.figures, point=at, limit=threshold)
+        return None if remedy is None or remedy.value is None else float(remedy.value)
+
+    for _ in range(_ROUNDS):
+        sub_a = on(edit_a)
+        lever_b = lever(name_b, sub_a.spec) if sub_a is not None else None
+        amount = start(name_b, sub_a, other.operating_point, limit) if lever_b is not None else None
+        if lever_b is None or amount is None:
+            return None
+        found = _search(sub_a, lever_b, finding, amount, before_failing, False, target=limit, guide=other)
+        if found is not None:
+            return edit_a, found[0], found[1], sub_a
+        loose = _search(sub_a, lever_b, other, amount, before_failing, False, target=limit, new_ok=True)
+        edit_b = lever(name_b, ctx.spec).edit(ctx.data, ctx.spec, loose[0].amount) if loose else None
+        sub_b = on(edit_b) if edit_b is not None else None
+        lever_a = lever(name_a, sub_b.spec) if sub_b is not None else None
+        amount = start(name_a, sub_b, point, band_threshold) if lever_a is not None else None
+        if edit_b is None or lever_a is None or amount is None:
+            return None
+        found = _search(sub_b, lever_a, finding, amount, before_failing, False, target=band_threshold)
+        if found is not None:
+            return edit_b, found[0], found[1], sub_b
+        loose = _search(sub_b, lever_a, finding, amount, before_failing, False, target=band_threshold, new_ok=True)
+        if not loose:
+            return None
+        seen.append(loose[0].amount)
+        next_a = seen[-1]
+        if len(seen) >= 3:
+            # the amounts of the rounds converge geometrically: Aitken's extrapolation of
+            # the last three, a little past it, so the next round can close
+            a0, a1, a2 = seen[-3:]
+            bend = a2 - 2.0 * a1 + a0
+            if bend != 0.0 and (a2 - a1) * (a1 - a0) > 0.0:
+                limit_a = a2 - (a2 - a1) ** 2 / bend
+                step = 1.0 + 2.0 * _RESOLUTION
+                next_a = limit_a * step if limit_a > a2 else limit_a / step
+        edit_a = lever(name_a, ctx.spec).edit(ctx.data, ctx.spec, next_a)
+        if edit_a is None:
+            return None
+    return None
 
 
 def _path(pointer: str) -> tuple[str, ...]:

@@ -475,7 +475,7 @@ def _lever_for(remedy_name: str, spec, pwm_frequency_max: float) -> Lever | None
         return PwmFrequency(per_leg, note, pwm_frequency_max)
     if remedy_name in ("supply_voltage_for_ripple", "supply_voltage_for_duty"):
         return SupplyVoltage(at_least=False)
-    if remedy_name == "supply_voltage_min":
+    if remedy_name in ("supply_voltage_min", "supply_voltage_for_modulation"):
         return SupplyVoltage(at_least=True)
     if remedy_name == "choke_saturation_current":
         return ChokeSaturation()

@@ -1242,6 +1242,7 @@ REMEDIES: dict[str, str] = {
     "supply_voltage_for_ripple": "the highest supply voltage that keeps the ripple within the limit",
     "supply_voltage_for_duty": "the highest supply voltage that keeps the modulation above its floor",
     "supply_voltage_min": "the lowest supply voltage that reaches the operating point with headroom",
+    "supply_voltage_for_modulation": "the lowest supply voltage at which the point's modulation meets the limit",
     "pwm_frequency_inaudible": "the lowest PWM frequency whose ripple lies above the audible band",
     "choke_saturation_current": "the saturation current a choke needs, with margin",
     "loop_bandwidth": "the highest current-loop bandwidth the PWM frequency supports",

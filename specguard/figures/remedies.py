@@ -173,6 +173,13 @@ def remedy(
             return None
         nominal = V_nom * float(value) / V_low
         return Remedy(name, f"raise the supply to at least {_fmt(nominal, 'voltage')}", nominal, "V")
+    if name == "supply_voltage_for_modulation":
+        # the modulation an operating point needs falls as 1/V with the bottom of the range
+        ratio = figures.value("modulation_ratio", point) if point is not None else None
+        if ratio is None or limit <= 0:
+            return None
+        nominal = V_nom * float(ratio) / limit
+        return Remedy(name, f"raise the supply to at least {_fmt(nominal, 'voltage')}", nominal, "V")
     if name == "pwm_frequency_inaudible":
         ratio = ax.f_ripple / ax.f_leg
         value = limit / ratio
