@@ -614,6 +614,13 @@ def _verified_fixes(findings, data, spec, figures, locate, pack, overrides, opti
             return None
         return float(band.threshold)
 
+    def worse_when_higher(rule_id: str) -> bool | None:
+        prule = pack.get(rule_id)
+        if prule is None:
+            return None
+        comparator = prule.bands[0].comparator
+        return {"above": True, "at_least": True, "below": False, "at_most": False}.get(comparator)
+
     def rule_figure(rule_id: str) -> str | None:
         prule = pack.get(rule_id)
         return prule.rule.figure if prule is not None else None
@@ -631,6 +638,7 @@ def _verified_fixes(findings, data, spec, figures, locate, pack, overrides, opti
         cost_weights=cost_weights(settings),
         threshold=threshold,
         remedy_names=remedy_names,
+        worse_when_higher=worse_when_higher,
     )
     # variants are judged as evaluated (no softening for the inductance estimate), so the
     # failing findings they are compared with are those of the same judgement

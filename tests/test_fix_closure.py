@@ -241,3 +241,58 @@ def test_a_two_lever_fix_closes_its_finding(demo_tree):
     tally = {"fixes": 0, "closed": 0}
     problems = _closure(demo_tree, rel, tally, level="warning", check=_with_policy)
     assert tally["fixes"] >= len(pairs) and not problems, "\n".join(problems)
+
+
+# An axis the property above generated (hypothesis, derandomised) on which a fix once
+# failed when applied: its worst-case ripple is judged an error but shown as a warning
+# (the verdict rests on the inductance estimate; with the catalogue value it would be a
+# warning). Raising the supply 11-fold for an unreachable point made that ripple an
+# error the catalogue value also gives, so the applied fix added an error.
+_SOFTENED = {
+    "format": 1,
+    "axis": {"name": "kk"},
+    "motor": {
+        "type": "three-phase",
+        "winding": "iron-core",
+        "terminal_resistance": {"value": "35.1523 ohm", "at": "30.8488 degC"},
+        "torque_constant": {"value": "0.984361 N*m/A", "current": "phase-rms"},
+        "back_emf_constant": {"value": "1.95952 V/(rad/s)", "voltage": "line-to-line-peak"},
+        "rated_current": "6 A",
+        "terminal_inductance": {"value": "0.0265542 H", "measured_at": "298.15 Hz"},
+        "pole_pairs": 88,
+        "no_load_current": "0 A",
+    },
+    "stage": {
+        "supply": {"voltage": "300.908 V"},
+        "pwm": {
+            "frequency": "1000 Hz",
+            "scheme": "six-step-chop-one",
+            "max_duty": 0.986230526390157,
+            "freewheeling": "synchronous",
+            "min_pulse": "4.13962e-06 s",
+            "alignment": "center",
+        },
+        "current_limit": {"continuous": "82.2172 A"},
+        "current_loop": {"bandwidth": "11634.7 Hz", "sampling": "single-update"},
+    },
+    "chokes": {"inductance": "0.002 H", "placement": "per-phase", "count": 3},
+    "cable": {"resistance": "0 ohm", "length": "11.5247 m"},
+    "operating_points": [
+        {"name": "sylxf8l", "speed": "0 rad/s", "torque": "0 N*m", "ambient": "57.4585 degC"},
+        {"name": "q", "speed": "0 rad/s", "torque": "0 N*m", "ambient": "9.25494 degC"},
+        {"name": "nwpef", "speed": "0 rad/s", "torque": "0 mN*m", "ambient": "267.835K"},
+        {"name": "r", "speed": "1697.23 rad/s", "torque": "0uN*m", "ambient": "0 degC"},
+    ],
+}
+
+
+def test_a_fix_never_worsens_a_finding_shown_below_the_fail_level(tmp_path):
+    tree = tmp_path / "repo"
+    (tree / ".git").mkdir(parents=True)
+    (tree / "soft.axis.yaml").write_text(json.dumps(_SOFTENED), encoding="utf-8")
+    report = check_paths([str(tree / "soft.axis.yaml")], root=tree)
+    ripple = [f for f in report.findings if f.rule == "worst-ripple-over-rated-current"]
+    assert ripple and ripple[0].severity == "warning" and "rests on the estimated inductance" in ripple[0].message
+    tally = {"fixes": 0, "closed": 0}
+    problems = _closure(tree, "soft.axis.yaml", tally)
+    assert tally["fixes"] >= 3 and not problems, "\n".join(problems)

@@ -55,6 +55,11 @@ class FixContext:
     # (rule id, severity) -> the threshold of that band in force (for a pair's second lever)
     threshold: Callable[[str, str], float | None] = lambda _rule, _severity: None
     remedy_names: Callable[[str], tuple[str, ...]] = lambda _rule: ()
+    # rule id -> True when a larger figure is worse, False when a smaller one is, None (a flag)
+    worse_when_higher: Callable[[str], bool | None] = lambda _rule: None
+    # (finding, its figure's value) of the findings the check shows one band lower than
+    # judged (the verdict rests on the inductance estimate) while judged at the fail level
+    softened: tuple = ()
 
 
 def _key(f: Finding) -> tuple[str, str | None]:
@@ -107,17 +112,38 @@ def _outcome(finding: Finding, after: list[Finding]) -> str | None:
     return next(s for s, rank in SEVERITY_ORDER.items() if rank == top)
 
 
-def _acceptable(
-    ctx: FixContext, finding: Finding, before_failing: set, after: list[Finding] | None, new_ok: bool = False
-):
-    if after is None:
+def _acceptable(ctx: FixContext, finding: Finding, before_failing: set, edit, new_ok: bool = False):
+    judged = _judged(ctx, edit)
+    if judged is None:
         return None
+    after = judged[0]
     reached = _outcome(finding, after)
     if reached is None:
         return None
-    if not new_ok and _failing(after, ctx.fail_level) - before_failing:
+    if new_ok:
+        return reached
+    failing = _failing(after, ctx.fail_level)
+    if failing - before_failing:
         return None  # trades this finding for a new one at the fail level
+    shown_lower = [held for held in ctx.softened if _key(held[0]) in failing and held[0] is not finding]
+    if any(_worse(ctx, held, judged[1]) for held in shown_lower):
+        return None  # a finding shown below the fail level (it rests on the estimate) gets worse
     return reached
+
+
+def _worse(ctx: FixContext, held, figures) -> bool:
+    """Whether the figure of a finding the check shows one band lower (its verdict rests
+    on the inductance estimate) moves towards its failing side in a variant: the band
+    it would be shown at may then be the fail level (the catalogue value fails too),
+    which judging the variant without the softening cannot see. Kept on the safe side:
+    a change that makes such a figure worse is no fix."""
+    finding, value = held
+    after = _figure(ctx, figures, finding)
+    higher = ctx.worse_when_higher(finding.rule)
+    if after is None or higher is None:
+        return False
+    slack = 1e-9 * abs(value)
+    return after > value + slack if higher else after < value - slack
 
 
 def _search(
@@ -146,7 +172,7 @@ def _search(
         edit = lever.edit(ctx.data, ctx.spec, amount)
         if edit is None:
             return None, None
-        reached = _acceptable(ctx, finding, before_failing, _variant(ctx, edit), new_ok)
+        reached = _acceptable(ctx, finding, before_failing, edit, new_ok)
         if reached is not None and aim_clear and reached != "clear":
             reached = None
         return edit, reached
@@ -345,6 +371,17 @@ def verify(
     from ..figures.levers import lever_for
 
     before_failing = _failing(findings if before is None else before, ctx.fail_level)
+    if before is not None:
+        judged_top: dict = {}
+        for f in before:
+            judged_top[_key(f)] = max(judged_top.get(_key(f), -1), SEVERITY_ORDER[f.severity])
+        gate = SEVERITY_ORDER[ctx.fail_level]
+        ctx.softened = tuple(
+            (f, value)
+            for f in findings
+            if judged_top.get(_key(f), -1) >= gate > SEVERITY_ORDER[f.severity]
+            and (value := _figure(ctx, ctx.figures, f)) is not None
+        )
     out: list[Finding] = []
     for finding in findings:
         names = remedy_names(finding.rule) if finding.aim is not None else ()
