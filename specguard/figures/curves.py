@@ -350,8 +350,9 @@ def profile_temperature(spec, figures=None) -> ProfileTrace | None:
     """Winding temperature over one cycle of the profile, in periodic steady state.
 
     The temperature at each sample is the cycle-start temperature of the same
-    profile rotated to begin there (thermal.winding_temperature_cyclic, exact with
-    R(T), docs/physics.md §6.5); the segments are split into equal pieces so that about
+    profile rotated to begin there, found in one pass from the periodic state
+    (thermal.winding_temperature_trace, exact with R(T), docs/physics.md §6.5); the
+    segments are split into equal pieces so that about
     :data:`PROFILE_SAMPLES` samples cover the cycle.  Needs the profile, the
     thermal resistances and both thermal time constants.
     """
@@ -385,16 +386,11 @@ def profile_temperature(spec, figures=None) -> ProfileTrace | None:
     for seg in segments:
         n = max(1, round(budget * seg.duration / total))
         pieces.extend(seg._replace(duration=seg.duration / n) for _ in range(n))
-    times, temps = [], []
-    t = 0.0
-    for k in range(len(pieces)):
-        rotated = pieces[k:] + pieces[:k]
-        res = thermal.winding_temperature_cyclic(rotated, *args, samples_per_segment=1)
-        times.append(t)
-        temps.append(res.start_winding_temperature)
-        t += pieces[k].duration
-    times.append(total)
-    temps.append(temps[0])
+    # the periodic state mapped on through the pieces (one pass; the same as the cycle
+    # solved from each piece's start, thermal.winding_temperature_trace)
+    walked = thermal.winding_temperature_trace(pieces, *args) or [(0.0, math.inf)]
+    times = [t for t, _ in walked[:-1]] + [total]
+    temps = [v for _, v in walked[:-1]] + [walked[0][1]]  # periodic: the cycle ends where it starts
     return ProfileTrace(
         np.array(times),
         np.array(temps),

@@ -518,6 +518,41 @@ def winding_temperature_cyclic(
         )
 
 
+def winding_temperature_trace(
+    segments: Sequence[Segment],
+    resistance_20,
+    winding_capacitance,
+    housing_capacitance,
+    thermal_resistance_winding_housing,
+    thermal_resistance_housing_ambient,
+    ambient_temperature,
+    alpha_20=COPPER_ALPHA_20,
+) -> list[tuple[float, float]] | None:
+    """Winding temperature over one cycle in periodic steady state, at the start of
+    every segment and at the end of the cycle: [(time [s], temperature [K])]; None on
+    runaway. Parameters as :func:`winding_temperature_cyclic` (floats).
+
+    The periodic start state is the fixed point of the cycle's affine map; each segment
+    maps it on exactly (the R(T) loss is linear in the temperature), so one pass gives
+    what solving the cycle rotated to start at each segment gives, in O(n) instead of
+    O(n^2). Source: derived here (docs/physics.md §6.5)."""
+    walk: list[tuple[float, float]] = []
+    result = _cyclic(
+        tuple(segments),
+        resistance_20,
+        winding_capacitance,
+        housing_capacitance,
+        thermal_resistance_winding_housing,
+        thermal_resistance_housing_ambient,
+        ambient_temperature,
+        alpha_20,
+        1,
+        namespace(0.0),
+        walk,
+    )
+    return None if result.runaway else walk
+
+
 @functools.lru_cache(maxsize=256)
 def _cyclic_scalar(segments, r20, c_w, c_h, r_wh, r_ha, ambient, alpha_20, samples):
     return _cyclic(segments, r20, c_w, c_h, r_wh, r_ha, ambient, alpha_20, samples, namespace(0.0))
@@ -534,6 +569,7 @@ def _cyclic(
     alpha_20,
     samples_per_segment,
     xp,
+    walk: list | None = None,
 ) -> CycleResult:
     r_wh = float(thermal_resistance_winding_housing)
     r_ha = float(thermal_resistance_housing_ambient)
@@ -576,6 +612,8 @@ def _cyclic(
     peak_h = x[1]
     integral_w = 0.0
     total_time = 0.0
+    if walk is not None:  # the states at the segment boundaries
+        walk.append((0.0, t_a + x[0]))
     for a, lam1, lam2, dt, phi, psi, psi2, b in maps:
         integral_w += apply(psi, x)[0] + apply(psi2, b)[0]
         total_time += dt
@@ -594,6 +632,8 @@ def _cyclic(
             peak_w = xp.maximum(peak_w, xt[0])
             peak_h = xp.maximum(peak_h, xt[1])
         x = tuple(u + v for u, v in zip(apply(phi, x), apply(psi, b), strict=True))
+        if walk is not None:
+            walk.append((total_time, t_a + x[0]))
     if xp.vector:
         out = [
             xp.where(runaway, xp.inf, t_a + v) for v in (peak_w, integral_w / total_time, peak_h, start[0], start[1])

@@ -229,3 +229,19 @@ def test_profile_trace_agrees_with_cyclic_solution():
         assert trace.peak == pytest.approx(figure_peak, rel=1e-12)
         assert trace.mean == pytest.approx(result.figures.value("profile_mean_temperature"), rel=1e-12)
     assert trace.time[-1] == pytest.approx(0.12 + 0.4 + 1.5)
+    # The one-pass walk from the periodic state is the definition it replaced: the cycle
+    # solved again from each sample's start (rotated), every 8th sample checked.
+    segments, r20 = curves._profile_segments(result.spec, result.figures)
+    th = result.spec.motor.thermal
+    c_w, c_h = thermal.capacitances_from_time_constants(
+        th.winding_time_constant, th.motor_time_constant, th.winding_to_housing, th.housing_to_ambient
+    )
+    args = (r20, c_w, c_h, th.winding_to_housing, th.housing_to_ambient, float(result.spec.profile.ambient))
+    pieces = []
+    for seg in segments:
+        n = max(1, round(max(curves.PROFILE_SAMPLES, len(segments)) * seg.duration / trace.time[-1]))
+        pieces.extend(seg._replace(duration=seg.duration / n) for _ in range(n))
+    assert len(pieces) == len(trace.time) - 1
+    for k in range(0, len(pieces), 8):
+        rotated = thermal.winding_temperature_cyclic(pieces[k:] + pieces[:k], *args, samples_per_segment=1)
+        assert trace.temperature[k] == pytest.approx(rotated.start_winding_temperature, abs=1e-9)
