@@ -554,7 +554,7 @@ def _estimate_dependence(findings, spec, figures, locate, pack, overrides, setti
 
 
 def _verified_fixes(findings, data, spec, figures, locate, pack, overrides, options, settings, judged):
-    from .engine.evaluate import evaluate, resolved_overrides, top_severity
+    from .engine.evaluate import effective_bands, evaluate, resolved_overrides, top_severity
     from .engine.fixes import FixContext, verify
     from .figures import compute, remedy
     from .figures.levers import cost_weights
@@ -602,8 +602,6 @@ def _verified_fixes(findings, data, spec, figures, locate, pack, overrides, opti
         return (loc.file, loc.line, loc.column, loc.end_line, loc.end_column)
 
     def threshold(rule_id: str, severity: str) -> float | None:
-        from .engine.evaluate import effective_bands
-
         prule = pack.get(rule_id)
         if prule is None:
             return None
@@ -637,7 +635,6 @@ def _verified_fixes(findings, data, spec, figures, locate, pack, overrides, opti
         rule_figure=rule_figure,
         cost_weights=cost_weights(settings),
         threshold=threshold,
-        remedy_names=remedy_names,
         worse_when_higher=worse_when_higher,
     )
     # variants are judged as evaluated (no softening for the inductance estimate), so the

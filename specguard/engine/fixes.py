@@ -54,7 +54,7 @@ class FixContext:
     cost_weights: Any = None  # the policy's lever cost weights (None: the defaults)
     # (rule id, severity) -> the threshold of that band in force (for a pair's second lever)
     threshold: Callable[[str, str], float | None] = lambda _rule, _severity: None
-    remedy_names: Callable[[str], tuple[str, ...]] = lambda _rule: ()
+    remedy_names: Callable[[str], tuple[str, ...]] = lambda _rule: ()  # set by verify()
     # rule id -> True when a larger figure is worse, False when a smaller one is, None (a flag)
     worse_when_higher: Callable[[str], bool | None] = lambda _rule: None
     # (finding, its figure's value) of the findings the check shows one band lower than
@@ -370,6 +370,7 @@ def verify(
     message as one clause."""
     from ..figures.levers import lever_for
 
+    ctx.remedy_names = remedy_names  # a pair's second lever comes from another rule
     before_failing = _failing(findings if before is None else before, ctx.fail_level)
     if before is not None:
         judged_top: dict = {}

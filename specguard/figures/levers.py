@@ -62,7 +62,6 @@ COST_WEIGHT = {
     "stage_peak_current": 2.0,
     "brake_resistor": 1.0,  # a part added where none was
 }
-LEVER_NAMES = tuple(COST_WEIGHT)
 
 
 @dataclass(frozen=True)

@@ -18,10 +18,31 @@ Rules the formulas follow so that both paths behave alike:
 
 from __future__ import annotations
 
+import functools
 import math
 from typing import Any
 
-__all__ = ["SCALAR", "VECTOR", "namespace", "is_scalar", "np"]
+__all__ = ["SCALAR", "VECTOR", "namespace", "is_scalar", "np", "memo_scalars"]
+
+
+def memo_scalars(maxsize: int):
+    """Keep the last ``maxsize`` results of a function for calls whose arguments are all
+    Python numbers or texts; arrays pass straight through. A check judges many variants
+    of one design, and those that leave a solve's inputs alone (a brake resistor, a
+    rating) reuse it."""
+
+    def wrap(func):
+        kept = functools.lru_cache(maxsize=maxsize)(func)
+
+        @functools.wraps(func)
+        def call(*args, **kwargs):
+            if all(isinstance(v, (float, int, str)) for v in (*args, *kwargs.values())):
+                return kept(*args, **kwargs)
+            return func(*args, **kwargs)
+
+        return call
+
+    return wrap
 
 
 class _LazyNumpy:

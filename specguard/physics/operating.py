@@ -9,12 +9,11 @@ average load voltage available is ``m V - I R_series - n_legs V t_dead f_pwm``.
 
 from __future__ import annotations
 
-import functools
 import math
 from typing import NamedTuple
 
 from specguard.physics import hbridge
-from specguard.physics._num import namespace
+from specguard.physics._num import memo_scalars, namespace
 from specguard.physics._solve import illinois
 
 __all__ = [
@@ -362,6 +361,7 @@ def supply_voltage_max_ripple_linear(required_voltage, inductance, pwm_frequency
     return xp.where(bounded, required_voltage / safe, xp.inf)
 
 
+@memo_scalars(512)
 def supply_voltage_max_ripple(
     terminal_voltage,
     inductance,
@@ -389,44 +389,6 @@ def supply_voltage_max_ripple(
     the ceiling (unipolar schemes saturate: no bound), as in the linear §4.6 forms.
     Source: derived here (docs/physics.md §4.6), solved on the exact §1.4 formula here.
     """
-    args = (
-        terminal_voltage,
-        inductance,
-        resistance,
-        pwm_frequency,
-        ripple_limit,
-        scheme,
-        current,
-        series_resistance,
-        dead_time,
-        voltage_ceiling_factor,
-        rtol,
-    )
-    if all(isinstance(a, (float, int, str)) for a in args):
-        # a check judges many variants of one design; those that leave this point's
-        # inputs alone (a brake resistor, a rating) reuse the solve
-        return _max_ripple_scalar(*args)
-    return _max_ripple_solve(*args)
-
-
-@functools.lru_cache(maxsize=512)
-def _max_ripple_scalar(*args):
-    return _max_ripple_solve(*args)
-
-
-def _max_ripple_solve(
-    terminal_voltage,
-    inductance,
-    resistance,
-    pwm_frequency,
-    ripple_limit,
-    scheme,
-    current,
-    series_resistance,
-    dead_time,
-    voltage_ceiling_factor,
-    rtol,
-):
     xp = namespace(
         terminal_voltage,
         inductance,

@@ -115,3 +115,16 @@ def test_bad_fix_costs_are_config_errors(repo, text, expected):
     done = run_cli("check", "--no-cache", AXIS, cwd=repo)
     assert done.returncode == 2
     assert expected in done.stderr.decode()
+
+
+def test_the_policy_names_every_lever_that_has_a_cost():
+    """The policy's closed list of fix_costs keys and the levers' default weights
+    (specguard.figures.levers.COST_WEIGHT) name the same levers."""
+    from typing import get_args
+
+    from specguard.engine.config import Modelling
+    from specguard.figures.levers import COST_WEIGHT
+
+    mapping = next(a for a in get_args(Modelling.model_fields["fix_costs"].annotation) if a is not type(None))
+    keys = get_args(get_args(mapping)[0])
+    assert sorted(keys) == sorted(COST_WEIGHT)
