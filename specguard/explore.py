@@ -25,6 +25,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
+from .figures.registry import Fig
 from .findings import SEVERITY_ORDER, Finding
 
 # Outward steps along a lever (relative change) and the bisection's resolution.
@@ -75,7 +76,7 @@ class Screen:
     passing: dict[str, int]
 
 
-_SHOWN = ("ripple_ratio_worst", "winding_margin_min", "modulation_ratio_max", "ripple_frequency")
+_SHOWN = (Fig.ripple_ratio_worst, "winding_margin_min", "modulation_ratio_max", Fig.ripple_frequency)
 
 
 def _summary(figures) -> dict[str, float | None]:
@@ -87,13 +88,13 @@ def _summary(figures) -> dict[str, float | None]:
                 out.append(float(v))
         return out
 
-    margins, ratios = points("winding_margin"), points("modulation_ratio")
-    worst = figures.axis.get("ripple_ratio_worst")
+    margins, ratios = points(Fig.winding_margin), points(Fig.modulation_ratio)
+    worst = figures.axis.get(Fig.ripple_ratio_worst)
     return {
-        "ripple_ratio_worst": float(worst) if isinstance(worst, (int, float)) else None,
+        Fig.ripple_ratio_worst: float(worst) if isinstance(worst, (int, float)) else None,
         "winding_margin_min": min(margins) if margins else None,
         "modulation_ratio_max": max(ratios) if ratios else None,
-        "ripple_frequency": float(figures.axis.get("ripple_frequency") or 0.0) or None,
+        Fig.ripple_frequency: float(figures.axis.get(Fig.ripple_frequency) or 0.0) or None,
     }
 
 
@@ -213,11 +214,11 @@ def explore(path: Path, root: Path, options=None, grid: int = GRID_SIZE) -> Expl
     failing = tuple(sorted({f.rule for f in findings_now if SEVERITY_ORDER[f.severity] >= SEVERITY_ORDER[level]}))
     pwm = spec.stage.pwm
     per_leg = 2.0 if pwm.scheme == "unipolar-phase-shifted" and pwm.frequency_is != "leg" else 1.0
-    f_leg = float(figures_now.axis["pwm_frequency_leg"])
+    f_leg = float(figures_now.axis[Fig.pwm_frequency_leg])
     costs = cost_weights(settings)
     choke = AddedInductance(topology(spec)).costed(costs)
     freq = PwmFrequency(per_leg, maximum=settings.pwm_frequency_max).costed(costs)
-    motor_l = float(figures_now.axis.get("loop_inductance_catalogue") or figures_now.axis["loop_inductance"])
+    motor_l = float(figures_now.axis.get(Fig.loop_inductance_catalogue) or figures_now.axis[Fig.loop_inductance])
     l_start = max(motor_l * 0.01, 1e-7)
     # rules failing as written that these levers cannot clear: still failing with the
     # PWM frequency at its bound, and with three and with thirty times the motor's
@@ -345,14 +346,14 @@ def render_text(x: Exploration) -> str:
 
     def figs(d: dict) -> str:
         parts = []
-        if d.get("ripple_ratio_worst") is not None:
-            parts.append(f"worst ripple {d['ripple_ratio_worst'] * 100:.1f} % of rated")
+        if d.get(Fig.ripple_ratio_worst) is not None:
+            parts.append(f"worst ripple {d[Fig.ripple_ratio_worst] * 100:.1f} % of rated")
         if d.get("winding_margin_min") is not None:
             parts.append(f"winding margin {format_si(d['winding_margin_min'], 'temperature_difference')}")
         if d.get("modulation_ratio_max") is not None:
             parts.append(f"duty need {d['modulation_ratio_max'] * 100:.1f} % of reach")
-        if d.get("ripple_frequency") is not None:
-            parts.append(f"ripple at {format_si(d['ripple_frequency'], 'frequency')}")
+        if d.get(Fig.ripple_frequency) is not None:
+            parts.append(f"ripple at {format_si(d[Fig.ripple_frequency], 'frequency')}")
         return "; ".join(parts)
 
     lines = [f"{x.file}: as written: {figs(x.now)}"]

@@ -496,10 +496,10 @@ def _estimate_dependence(findings, spec, figures, locate, pack, overrides, setti
     from .engine.evaluate import evaluate
     from .engine.pack import format_value
     from .figures import compute
-    from .figures.registry import FIGURE_DEFS
+    from .figures.registry import FIGURE_DEFS, Fig
     from .findings import SEVERITY_ORDER
 
-    if not figures.axis.get("inductance_estimated"):
+    if not figures.axis.get(Fig.inductance_estimated):
         return findings
     catalogue_settings = _replace(
         settings, inductance_curves=tuple((name, (0.0, 1.0)) for name, _ in settings.inductance_curves)
@@ -513,8 +513,8 @@ def _estimate_dependence(findings, spec, figures, locate, pack, overrides, setti
         key = (f.rule, f.operating_point)
         at_catalogue[key] = max(at_catalogue.get(key, -1), SEVERITY_ORDER[f.severity])
     lower = {"error": "warning", "warning": "info"}
-    estimate = format_value(float(figures.axis["loop_inductance"]), "inductance")
-    catalogue = format_value(float(figures.axis["loop_inductance_catalogue"]), "inductance")
+    estimate = format_value(float(figures.axis[Fig.loop_inductance]), "inductance")
+    catalogue = format_value(float(figures.axis[Fig.loop_inductance_catalogue]), "inductance")
     out = []
     for f in findings:
         if f.rule in _ESTIMATE_NEUTRAL or f.severity == "info":

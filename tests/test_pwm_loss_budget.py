@@ -50,7 +50,7 @@ def test_without_calibration_the_estimate_stays_out_of_the_temperature():
 def test_a_calibrated_loss_heats_the_housing_node_exactly_like_a_warmer_ambient():
     calibration = {"extra_loss": "0.8 W", "at_ripple": "500 mA", "at_frequency": "20 kHz", "at_duty": 0.5}
     spec, fs = _figures({"motor": {"winding": "iron-core", "pwm_loss": calibration}})
-    assert fs.value("pwm_loss_estimated") is None  # calibrated: not an estimate
+    assert fs.value("pwm_loss_estimated") is False  # calibrated: not an estimate (a flag, False)
     r_ha = spec.motor.thermal.housing_to_ambient
     for index, point in enumerate(spec.operating_points):
         loss = fs.value("pwm_eddy_loss", point.name)

@@ -651,7 +651,8 @@ class OverrideError(ValueError):
 
 
 # ------------------------------------------------------------- text helpers
-# How a figure reads in a message, where its dimension alone does not say it:
+# How a figure reads in a message, where its dimension alone does not say it (the
+# ``form`` of its entry in specguard.figures.registry.Fig):
 #   percent  a ratio of like quantities (the default of ratios): "44.7 %"
 #   factor   a ratio whose findings sit far from 1 (a percent would be silly): "43.8 : 1", "1 : 40"
 #   count    a number of things: "7.5"
@@ -660,41 +661,15 @@ class OverrideError(ValueError):
 #   over     a signed difference, positive when the quantity is over the reference: "3 V above" / "4.4 V below"
 # A message template places the worded forms where the sign word belongs
 # ("the winding settles at {winding_temperature}, {winding_margin} its limit").
-FIGURE_FORMS: dict[str, str] = {
-    "pwm_periods_per_electrical_period": "count",
-    "runaway_number": "number",
-    "ripple_period_over_tau": "factor",
-    "inertia_ratio": "factor",
-    "loop_bandwidth_over_mechanical": "factor",
-    "eddy_path_thickness_ratio": "factor",
-    "choke_to_motor_inductance": "factor",
-    "cable_resistance_ratio": "factor",
-    "choke_saturation_over_rated": "factor",
-    "motor_peak_ratio": "factor",
-    "stage_to_motor_current": "factor",
-    "stage_rating_over_supply": "factor",
-    "table_resistance_ratio_max": "factor",
-    "thermal_resistance_ratio": "factor",
-    "max_speed_over_no_load": "factor",
-    "min_pulse_over_dead_time": "factor",
-    "winding_margin": "under",
-    "profile_margin": "under",
-    "rating_margin": "under",
-    "trip_margin": "under",
-    "supply_range_low_margin": "over",
-    "supply_window_width": "over",
-    "supply_window_width_static": "over",
-    "winding_limit_over_class": "over",
-}
 
 
 def figure_form(name: str) -> str:
-    """The form of a figure in messages (see :data:`FIGURE_FORMS`): a form name, or
-    the figure's dimension for plain values."""
-    form = FIGURE_FORMS.get(name)
-    if form is not None:
-        return form
-    dimension = FIGURE_DEFS[name].dimension if name in FIGURE_DEFS else "ratio"
+    """The form of a figure in messages (the table's ``form``, see above): a form
+    name, or the figure's dimension for plain values."""
+    fdef = FIGURE_DEFS.get(name)
+    if fdef is not None and fdef.form is not None:
+        return fdef.form
+    dimension = fdef.dimension if fdef is not None else "ratio"
     return "percent" if dimension == "ratio" else dimension
 
 

@@ -18,6 +18,7 @@ from ._vec import (
     is_vector,
     real,
 )
+from .registry import Fig
 
 SQRT2 = math.sqrt(2.0)
 
@@ -117,25 +118,25 @@ def _motor_inductance(spec: Spec, f_ripple: float, settings: FigureSettings, ax_
     """Terminal inductance at the ripple frequency and its catalogue value."""
     motor = spec.motor
     table = motor.inductance_vs_frequency
-    flags["inductance_extrapolated"] = False
-    flags["inductance_table_rising"] = False
+    flags[Fig.inductance_extrapolated] = False
+    flags[Fig.inductance_table_rising] = False
     if table:
         freqs = [row.frequency for row in table]
         values = [row.inductance for row in table]
-        flags["inductance_estimated"] = False
-        flags["inductance_table_rising"] = bool(P.inductance.table_non_monotonic(freqs, values))
+        flags[Fig.inductance_estimated] = False
+        flags[Fig.inductance_table_rising] = bool(P.inductance.table_non_monotonic(freqs, values))
         catalogue = motor.terminal_inductance.value if motor.terminal_inductance else values[0]
         if is_vector(f_ripple):  # a batch of variants: the table at each distinct frequency
             import numpy as np
 
             unique, where = np.unique(f_ripple, return_inverse=True)
             found = [P.inductance.inductance_from_table(f, freqs, values) for f in unique.tolist()]
-            flags["inductance_extrapolated"] = np.array([r.extrapolated for r in found], dtype=bool)[where]
-            ax_notes["loop_inductance"] = "motor inductance interpolated (log-log) in the measured table"
+            flags[Fig.inductance_extrapolated] = np.array([r.extrapolated for r in found], dtype=bool)[where]
+            ax_notes[Fig.loop_inductance] = "motor inductance interpolated (log-log) in the measured table"
             return np.array([r.value for r in found], dtype=float)[where].reshape(np.shape(f_ripple)), float(catalogue)
         result = P.inductance.inductance_from_table(f_ripple, freqs, values)
-        flags["inductance_extrapolated"] = bool(result.extrapolated)
-        ax_notes["loop_inductance"] = "motor inductance interpolated (log-log) in the measured table" + (
+        flags[Fig.inductance_extrapolated] = bool(result.extrapolated)
+        ax_notes[Fig.loop_inductance] = "motor inductance interpolated (log-log) in the measured table" + (
             "; beyond its last point its last falling segment continues (at least half the last value)"
             if result.extrapolated and f_ripple > max(freqs)
             else ""
@@ -146,19 +147,19 @@ def _motor_inductance(spec: Spec, f_ripple: float, settings: FigureSettings, ax_
     measured_at = motor.terminal_inductance.measured_at
     near = measured_at >= P.inductance.MEASURED_AT_BAND * f_ripple
     if all_of(near):
-        flags["inductance_estimated"] = False
-        ax_notes["loop_inductance"] = "catalogue inductance measured at (or near) the ripple frequency"
+        flags[Fig.inductance_estimated] = False
+        ax_notes[Fig.loop_inductance] = "catalogue inductance measured at (or near) the ripple frequency"
         return catalogue, catalogue
     exponent, floor = dict(settings.inductance_curves)[motor.winding]
     estimate = real(P.inductance.inductance_estimated(catalogue, measured_at, f_ripple, exponent, floor))
     if is_vector(near):  # some variants near the measuring frequency, some estimated
         import numpy as np
 
-        flags["inductance_estimated"] = ~near
-        ax_notes["loop_inductance"] = "catalogue value near its measuring frequency, else an estimate"
+        flags[Fig.inductance_estimated] = ~near
+        ax_notes[Fig.loop_inductance] = "catalogue value near its measuring frequency, else an estimate"
         return np.where(near, catalogue, estimate), catalogue
-    flags["inductance_estimated"] = True
-    ax_notes["loop_inductance"] = (
+    flags[Fig.inductance_estimated] = True
+    ax_notes[Fig.loop_inductance] = (
         f"estimate for a {motor.winding} winding: catalogue value x {estimate / catalogue:.3g} at the ripple "
         f"frequency (curve (f/f_cat)^-{exponent:g}, at least {floor:g}; no measured inductance table; common "
         "practice, no published source)"
@@ -191,7 +192,7 @@ def _axis(spec: Spec, settings: FigureSettings) -> _Axis:
         else:
             ambiguous = True
             f_leg = pwm.frequency / 2.0
-            notes["ripple_frequency"] = (
+            notes[Fig.ripple_frequency] = (
                 "stage.pwm.frequency_is not given: the value is taken as the ripple "
                 "frequency (the lower, conservative reading)"
             )
@@ -199,15 +200,15 @@ def _axis(spec: Spec, settings: FigureSettings) -> _Axis:
     else:
         f_leg = pwm.frequency
         f_ripple = pwm.frequency  # two-level schemes and three-phase: ripple at the carrier
-    flags["pwm_frequency_ambiguous"] = ambiguous
+    flags[Fig.pwm_frequency_ambiguous] = ambiguous
 
     limit, why = _temperature_limit(spec)
     if why:
-        missing["winding_temperature_limit"] = why
+        missing[Fig.winding_temperature_limit] = why
     tr = motor.terminal_resistance
     r_motor_hot = _hot(tr.value, tr.at, limit)
     if limit is None:
-        notes["loop_resistance_hot"] = "winding resistance at its reference temperature (no temperature limit known)"
+        notes[Fig.loop_resistance_hot] = "winding resistance at its reference temperature (no temperature limit known)"
     r20_terminal = float(P.thermal.resistance_at_temperature(tr.value, tr.at, KELVIN_20C))
 
     l_motor, l_catalogue = _motor_inductance(spec, f_ripple, settings, notes, flags)
@@ -221,7 +222,7 @@ def _axis(spec: Spec, settings: FigureSettings) -> _Axis:
 
     if topology in ("dc", "six-step"):
         if topology == "six-step" and chokes and n_choke < 3:
-            notes["loop_inductance"] = notes.get("loop_inductance", "") + _CHOKES_NOT_IN_EVERY_PHASE
+            notes[Fig.loop_inductance] = notes.get(Fig.loop_inductance, "") + _CHOKES_NOT_IN_EVERY_PHASE
             n_choke = 0
         n_in_loop = n_choke if topology == "dc" else (2 if n_choke == 3 else 0)
         added = n_in_loop * l_choke + 2.0 * l_out
@@ -236,13 +237,13 @@ def _axis(spec: Spec, settings: FigureSettings) -> _Axis:
             low = float(P.threephase.phase_inductance_conservative(motor.d_axis_inductance, motor.q_axis_inductance))
             scale = l_motor / l_catalogue if l_catalogue else 1.0
             l_phase, l_phase_cat = low * scale, low
-            notes["loop_inductance"] = notes.get("loop_inductance", "") + "; salient motor: min(Ld, Lq) per phase"
+            notes[Fig.loop_inductance] = notes.get(Fig.loop_inductance, "") + "; salient motor: min(Ld, Lq) per phase"
         else:
             l_phase = real(P.threephase.star_equivalent_inductance(l_motor))
             l_phase_cat = real(P.threephase.star_equivalent_inductance(l_catalogue))
         per_phase_choke = l_choke if n_choke == 3 else 0.0
         if chokes and n_choke < 3:
-            notes["loop_inductance"] = notes.get("loop_inductance", "") + _CHOKES_NOT_IN_EVERY_PHASE
+            notes[Fig.loop_inductance] = notes.get(Fig.loop_inductance, "") + _CHOKES_NOT_IN_EVERY_PHASE
         inductance = l_phase + per_phase_choke + l_out
         motor_share = l_phase
         inductance_cat = l_phase_cat + per_phase_choke + l_out

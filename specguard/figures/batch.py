@@ -25,6 +25,7 @@ from dataclasses import dataclass
 from typing import Any
 
 from ..findings import SEVERITY_ORDER
+from .registry import Fig
 
 __all__ = ["BatchVerdict", "compute_batch", "judge_batch", "with_values"]
 
@@ -78,7 +79,7 @@ class BatchVerdict:
         return [frozenset(r) for r in rows]
 
 
-_SUMMARY = ("ripple_ratio_worst", "winding_margin_min", "modulation_ratio_max")
+_SUMMARY = (Fig.ripple_ratio_worst, "winding_margin_min", "modulation_ratio_max")
 
 
 def _summary(figures, size: int) -> dict[str, Any]:
@@ -97,9 +98,9 @@ def _summary(figures, size: int) -> dict[str, Any]:
             return reduce(np.stack(cols), axis=0)
 
     return {
-        "ripple_ratio_worst": column(figures.axis.get("ripple_ratio_worst")),
-        "winding_margin_min": over_points("winding_margin", np.min),
-        "modulation_ratio_max": over_points("modulation_ratio", np.max),
+        Fig.ripple_ratio_worst: column(figures.axis.get(Fig.ripple_ratio_worst)),
+        "winding_margin_min": over_points(Fig.winding_margin, np.min),
+        "modulation_ratio_max": over_points(Fig.modulation_ratio, np.max),
     }
 
 

@@ -47,6 +47,7 @@ from .heat import _thermal, profile_segments
 from .operating import _current_loop, _electrical, _worst_ripple
 from .plausibility import _constant_mismatch, _plausibility
 from .pwmloss import MixedRegimes, _pwm_loss, _pwm_loss_effect
+from .registry import Fig
 from .remedies import remedy
 from .window import _supply_window
 
@@ -54,7 +55,7 @@ from .window import _supply_window
 __all__ = ["POINT_INPUTS", "FigureSettings", "MixedRegimes", "brake_turn_on", "compute", "profile_segments", "remedy"]
 
 
-POINT_INPUTS = ("point_speed", "point_torque", "point_ambient")
+POINT_INPUTS = (Fig.point_speed, Fig.point_torque, Fig.point_ambient)
 
 
 def compute(spec: Spec, settings: FigureSettings | None = None) -> FigureSet:
@@ -64,23 +65,23 @@ def compute(spec: Spec, settings: FigureSettings | None = None) -> FigureSet:
     rated = motor.rated_current
     V = stage.supply.voltage
     axis: dict[str, float | bool] = {
-        "motor_rated_current": rated,
-        "supply_voltage": V,
-        "supply_voltage_high": _highest_supply(spec),
-        "supply_voltage_low": _lowest_supply(spec),
-        "ripple_frequency": ax.f_ripple,
-        "pwm_frequency_leg": ax.f_leg,
-        "loop_inductance": ax.inductance,
-        "loop_inductance_catalogue": ax.inductance_catalogue,
-        "motor_inductance_ripple": ax.terminal_inductance,
-        "motor_inductance_catalogue": (
+        Fig.motor_rated_current: rated,
+        Fig.supply_voltage: V,
+        Fig.supply_voltage_high: _highest_supply(spec),
+        Fig.supply_voltage_low: _lowest_supply(spec),
+        Fig.ripple_frequency: ax.f_ripple,
+        Fig.pwm_frequency_leg: ax.f_leg,
+        Fig.loop_inductance: ax.inductance,
+        Fig.loop_inductance_catalogue: ax.inductance_catalogue,
+        Fig.motor_inductance_ripple: ax.terminal_inductance,
+        Fig.motor_inductance_catalogue: (
             motor.terminal_inductance.value
             if motor.terminal_inductance is not None
             else motor.inductance_vs_frequency[0].inductance  # type: ignore[index]  # the model gives one of the two
         ),
-        "loop_resistance_hot": ax.resistance_hot,
-        "electrical_time_constant": ax.inductance / ax.resistance_hot,
-        "ripple_period_over_tau": real(
+        Fig.loop_resistance_hot: ax.resistance_hot,
+        Fig.electrical_time_constant: ax.inductance / ax.resistance_hot,
+        Fig.ripple_period_over_tau: real(
             P.hbridge.ripple_period_to_time_constant(ax.resistance_hot, ax.inductance, ax.f_ripple)
         ),
     }
@@ -88,11 +89,11 @@ def compute(spec: Spec, settings: FigureSettings | None = None) -> FigureSet:
     missing = dict(ax.missing)
     table = spec.motor.inductance_vs_frequency
     if table:
-        axis["inductance_table_rise"] = float(
+        axis[Fig.inductance_table_rise] = float(
             P.inductance.table_largest_rise([r.frequency for r in table], [r.inductance for r in table])
         )
     else:
-        missing["inductance_table_rise"] = "the spec has no motor.inductance_vs_frequency table"
+        missing[Fig.inductance_table_rise] = "the spec has no motor.inductance_vs_frequency table"
     notes = dict(ax.notes)
 
     rows: list[dict[str, float]] = []
@@ -102,82 +103,82 @@ def compute(spec: Spec, settings: FigureSettings | None = None) -> FigureSet:
         elec.append(e)
         rows.append(
             {
-                "point_speed": point.speed,
-                "point_torque": point.torque,
-                "point_ambient": point.ambient,
-                "operating_current": e["current"],
-                "terminal_voltage": e["terminal_voltage"],
-                "modulation": e["modulation"],
-                "duty": e["duty"],
-                "modulation_ratio": e["modulation_ratio"],
-                "ripple_modulation": e["ripple_modulation"],
-                "current_max": e["peak"],
-                "ripple_pp": e["ripple_pp"],
-                "ripple_pp_catalogue": e["ripple_pp_catalogue"],
-                "ripple_ratio": e["ripple_pp"] / rated,
-                "ripple_rms": e["ripple_rms"],
-                "rms_current": e["rms_current"],
+                Fig.point_speed: point.speed,
+                Fig.point_torque: point.torque,
+                Fig.point_ambient: point.ambient,
+                Fig.operating_current: e["current"],
+                Fig.terminal_voltage: e[Fig.terminal_voltage],
+                Fig.modulation: e[Fig.modulation],
+                Fig.duty: e[Fig.duty],
+                Fig.modulation_ratio: e[Fig.modulation_ratio],
+                Fig.ripple_modulation: e[Fig.ripple_modulation],
+                Fig.current_max: e["peak"],
+                Fig.ripple_pp: e[Fig.ripple_pp],
+                Fig.ripple_pp_catalogue: e[Fig.ripple_pp_catalogue],
+                Fig.ripple_ratio: e[Fig.ripple_pp] / rated,
+                Fig.ripple_rms: e[Fig.ripple_rms],
+                Fig.rms_current: e[Fig.rms_current],
             }
         )
         if ax.topology == "sinusoidal":
-            rows[-1]["standstill_hold"] = bool(e.get("standstill_hold"))
-            for name in ("electrical_speed", "voltage_d", "voltage_q"):
+            rows[-1][Fig.standstill_hold] = bool(e.get(Fig.standstill_hold))
+            for name in (Fig.electrical_speed, Fig.voltage_d, Fig.voltage_q):
                 rows[-1][name] = e[name]
-        if e.get("standstill_hold"):
-            notes["rms_current"] = (
+        if e.get(Fig.standstill_hold):
+            notes[Fig.rms_current] = (
                 "at standstill with torque one phase carries the current's amplitude continuously: the RMS "
                 "current of the thermal and stage checks is that amplitude (with the ripple)"
             )
-        if "current_min" in e:  # H-bridge and six-step: the exact waveform's extremes
-            rows[-1]["current_min"] = e["current_min"]
-            rows[-1]["ripple_pp_linear"] = e["ripple_pp_linear"]
+        if Fig.current_min in e:  # H-bridge and six-step: the exact waveform's extremes
+            rows[-1][Fig.current_min] = e[Fig.current_min]
+            rows[-1][Fig.ripple_pp_linear] = e[Fig.ripple_pp_linear]
     if ax.topology != "sinusoidal":
-        missing["standstill_hold"] = "only a three-phase axis with sinusoidal commutation holds a standing vector"
-        for name in ("electrical_speed", "voltage_d", "voltage_q"):
+        missing[Fig.standstill_hold] = "only a three-phase axis with sinusoidal commutation holds a standing vector"
+        for name in (Fig.electrical_speed, Fig.voltage_d, Fig.voltage_q):
             missing[name] = "a d/q view belongs to sinusoidal commutation"
     if ax.topology == "sinusoidal":
-        for name in ("current_min", "ripple_pp_linear"):
+        for name in (Fig.current_min, Fig.ripple_pp_linear):
             missing[name] = "sinusoidal PWM: the ripple changes over the electrical period (see ripple_pp)"
     worst = _worst_ripple(spec, ax, ax.inductance)
-    axis["ripple_pp_worst"] = worst
-    axis["ripple_ratio_worst"] = worst / rated
+    axis[Fig.ripple_pp_worst] = worst
+    axis[Fig.ripple_ratio_worst] = worst / rated
     # the worst case with the catalogue inductance in the loop instead (what an estimate,
     # or a measured table, does to it)
-    axis["ripple_ratio_worst_catalogue"] = _worst_ripple(spec, ax, ax.inductance_catalogue) / rated
-    axis["modulation_max"] = largest(e["modulation"] for e in elec)
+    axis[Fig.ripple_ratio_worst_catalogue] = _worst_ripple(spec, ax, ax.inductance_catalogue) / rated
+    axis[Fig.modulation_max] = largest(e[Fig.modulation] for e in elec)
 
     # discontinuous conduction: only with diode freewheeling (docs/physics.md §1.6)
     freewheel = stage.pwm.freewheeling
     if ax.topology == "sinusoidal":
-        missing["conduction_margin"] = "not modelled for sinusoidal commutation"
+        missing[Fig.conduction_margin] = "not modelled for sinusoidal commutation"
     elif freewheel is None:
-        missing["conduction_margin"] = "the spec does not say how the off-time current flows (stage.pwm.freewheeling)"
+        missing[Fig.conduction_margin] = "the spec does not say how the off-time current flows (stage.pwm.freewheeling)"
     elif freewheel == "synchronous":
-        missing["conduction_margin"] = "synchronous freewheeling: the current reverses, conduction stays continuous"
+        missing[Fig.conduction_margin] = "synchronous freewheeling: the current reverses, conduction stays continuous"
     else:
         for row, e in zip(rows, elec, strict=True):
-            row["conduction_margin"] = abs(e["current"]) / maximum(e["ripple_pp"] / 2.0, 1e-300)
+            row[Fig.conduction_margin] = abs(e["current"]) / maximum(e[Fig.ripple_pp] / 2.0, 1e-300)
 
     _supply_window(spec, ax, elec, settings, axis, missing)
 
     _current_loop(stage, ax, settings, axis, missing)
 
-    axis["constant_mismatch"] = _constant_mismatch(spec)
+    axis[Fig.constant_mismatch] = _constant_mismatch(spec)
     pwm = _pwm_loss(spec, ax, elec, rows, axis, missing, notes)
     _thermal(spec, ax, elec, rows, axis, missing, notes, pwm)
     _pwm_loss_effect(spec, ax, rows, pwm, missing)
 
     peak = largest(e["peak"] for e in elec)
-    axis["peak_current_reached"] = peak
+    axis[Fig.peak_current_reached] = peak
     # peak ratings are instantaneous values; a continuous rating standing in for a
     # missing one is an RMS phase current on a sinusoidal axis, so its amplitude counts
     amplitude = SQRT2 if ax.topology == "sinusoidal" else 1.0
     limits = stage.current_limit
     if limits is not None:
-        axis["peak_current_ratio_stage"] = peak / (limits.peak or limits.continuous * amplitude)
+        axis[Fig.peak_current_ratio_stage] = peak / (limits.peak or limits.continuous * amplitude)
     else:
-        missing["peak_current_ratio_stage"] = "the spec has no stage.current_limit"
-    axis["peak_current_ratio_motor"] = peak / (motor.peak_current or motor.rated_current * amplitude)
+        missing[Fig.peak_current_ratio_stage] = "the spec has no stage.current_limit"
+    axis[Fig.peak_current_ratio_motor] = peak / (motor.peak_current or motor.rated_current * amplitude)
     _chokes(spec, ax, elec, axis, missing, notes)
     _braking(spec, axis, missing)
     _plausibility(spec, ax, elec, rows, axis, missing)

@@ -34,6 +34,8 @@ import numpy as np
 
 from specguard.physics import hbridge, operating, remedies, thermal, threephase
 
+from .registry import Fig
+
 # Spec scheme -> (family, physics scheme or strategy name).
 _SCHEMES: dict[str, tuple[str, str]] = {
     "bipolar": ("hbridge", hbridge.BIPOLAR),
@@ -124,12 +126,12 @@ def _loop(spec, figures):
     """(V, L, R, f_leg, family, scheme) or None when a piece is missing."""
     fam = family(spec)
     # the ripple is judged at the top of the supply range: the plots draw it there too
-    voltage = _num(figures, "supply_voltage_high") or _num(figures, "supply_voltage")
+    voltage = _num(figures, Fig.supply_voltage_high) or _num(figures, Fig.supply_voltage)
     if voltage is None:
         voltage = float(spec.stage.supply.voltage)
-    inductance = _num(figures, "loop_inductance")
-    resistance = _num(figures, "loop_resistance_hot")
-    frequency = _num(figures, "pwm_frequency_leg")
+    inductance = _num(figures, Fig.loop_inductance)
+    resistance = _num(figures, Fig.loop_resistance_hot)
+    frequency = _num(figures, Fig.pwm_frequency_leg)
     if frequency is None and spec.stage.pwm.frequency_is in (None, "leg") and fam and fam[0] != "hbridge":
         frequency = float(spec.stage.pwm.frequency)
     if fam is None or inductance is None or resistance is None or frequency is None:
@@ -139,7 +141,7 @@ def _loop(spec, figures):
 
 def ripple_limit(spec, figures, fraction: float = DEFAULT_RIPPLE_FRACTION) -> float | None:
     """The peak-to-peak ripple limit [A]: ``fraction`` x rated current."""
-    rated = _num(figures, "motor_rated_current")
+    rated = _num(figures, Fig.motor_rated_current)
     if rated is None:
         rated = float(spec.motor.rated_current)
     return fraction * rated
@@ -156,7 +158,7 @@ def worst_point(spec, figures) -> str | None:
     """
     best, best_value = None, -math.inf
     for name in figures.point_names() if figures is not None else ():
-        value = _num(figures, "ripple_pp", name)
+        value = _num(figures, Fig.ripple_pp, name)
         if value is not None and value > best_value:
             best, best_value = name, value
     return best
@@ -180,10 +182,10 @@ def current_waveform(spec, figures, point: str | None = None) -> Waveform | None
     point = point or worst_point(spec, figures)
     if point is None:
         return None
-    modulation = _num(figures, "ripple_modulation", point)
+    modulation = _num(figures, Fig.ripple_modulation, point)
     if modulation is None:
-        modulation = _num(figures, "modulation", point)
-    current = _num(figures, "operating_current", point)
+        modulation = _num(figures, Fig.modulation, point)
+    current = _num(figures, Fig.operating_current, point)
     if modulation is None or current is None or resistance <= 0.0:
         return None
     modulation = min(max(modulation, -1.0), 1.0)
@@ -193,7 +195,7 @@ def current_waveform(spec, figures, point: str | None = None) -> Waveform | None
     time, amps = hbridge.current_waveform(
         voltage, inductance, resistance, frequency, modulation, scheme, back_emf, sample_count=WAVEFORM_POINTS
     )
-    rated = _num(figures, "motor_rated_current") or float(spec.motor.rated_current)
+    rated = _num(figures, Fig.motor_rated_current) or float(spec.motor.rated_current)
     return Waveform(
         point=point,
         time=time,
@@ -221,7 +223,7 @@ def _swept_worst_ripple(spec, lever, amounts) -> np.ndarray | None:
         found = compute_batch(with_values(base, values), FigureSettings())
     except ValueError:
         return None
-    worst = found.axis.get("ripple_pp_worst")
+    worst = found.axis.get(Fig.ripple_pp_worst)
     if worst is None:
         return None
     return np.broadcast_to(np.asarray(worst, dtype=float), np.shape(amounts)).copy()
@@ -245,7 +247,7 @@ def ripple_vs_frequency(spec, figures, fraction: float = DEFAULT_RIPPLE_FRACTION
     per_leg = 2.0 if pwm.scheme == "unipolar-phase-shifted" and pwm.frequency_is != "leg" else 1.0
     x = np.geomspace(frequency / 4.0, frequency * 4.0, SWEEP_POINTS)
     ripple = _swept_worst_ripple(spec, PwmFrequency(per_leg, maximum=math.inf), x)
-    at_setting = _num(figures, "ripple_pp_worst")
+    at_setting = _num(figures, Fig.ripple_pp_worst)
     if ripple is None or at_setting is None:
         return None
     needed = None
@@ -288,7 +290,7 @@ def ripple_vs_added_inductance(spec, figures, fraction: float = DEFAULT_RIPPLE_F
     lever = AddedInductance(topology(spec))
     # the lever's amount: per lead or phase, or both conducting phases of six-step
     ripple = _swept_worst_ripple(spec, lever, x * (2.0 if lever.topology == "six-step" else 1.0))
-    at_setting = _num(figures, "ripple_pp_worst")
+    at_setting = _num(figures, Fig.ripple_pp_worst)
     if ripple is None or at_setting is None:
         return None
     return Sweep("added_inductance", x, ripple, 0.0, at_setting, limit, needed)
@@ -312,7 +314,7 @@ def point_values(figures, name: str) -> np.ndarray:
 
 def duty_per_point(spec, figures) -> PointBars | None:
     """Leg duty per operating point (figure ``duty``) against the stage's maximum duty."""
-    values = point_values(figures, "duty")
+    values = point_values(figures, Fig.duty)
     if not np.isfinite(values).any():
         return None
     return PointBars(figures.point_names(), values, float(spec.stage.pwm.max_duty))
@@ -324,7 +326,7 @@ def voltage_headroom_per_point(spec, figures) -> PointBars | None:
     Computed from the figure ``modulation_ratio`` (= m_op / m_max); negative: the
     point cannot be reached.
     """
-    ratio = point_values(figures, "modulation_ratio")
+    ratio = point_values(figures, Fig.modulation_ratio)
     if not np.isfinite(ratio).any():
         return None
     return PointBars(figures.point_names(), operating.modulation_headroom(ratio, 1.0), 0.0)
@@ -332,7 +334,7 @@ def voltage_headroom_per_point(spec, figures) -> PointBars | None:
 
 def thermal_margin_per_point(spec, figures) -> PointBars | None:
     """Permitted minus steady-state winding temperature per point [K] (figure ``winding_margin``)."""
-    values = point_values(figures, "winding_margin")
+    values = point_values(figures, Fig.winding_margin)
     if not np.isfinite(values).any():
         return None
     return PointBars(figures.point_names(), values, 0.0)
@@ -370,7 +372,7 @@ def profile_temperature(spec, figures=None) -> ProfileTrace | None:
     ambient = float(profile.ambient)
     args = (r20, c_w, c_h, th.winding_to_housing, th.housing_to_ambient, ambient)
     whole = thermal.winding_temperature_cyclic(segments, *args)
-    limit = _num(figures, "winding_temperature_limit")
+    limit = _num(figures, Fig.winding_temperature_limit)
     if limit is None and th.max_winding_temperature is not None:
         limit = float(th.max_winding_temperature)
     if limit is None and th.insulation_class is not None:
@@ -408,7 +410,9 @@ def unavailable(spec, figures) -> dict[str, str]:
     loop = _loop(spec, figures)
     fam = family(spec)
     if loop is None:
-        need = [n for n in ("loop_inductance", "loop_resistance_hot", "pwm_frequency_leg") if _num(figures, n) is None]
+        need = [
+            n for n in (Fig.loop_inductance, Fig.loop_resistance_hot, Fig.pwm_frequency_leg) if _num(figures, n) is None
+        ]
         reason = "the figures lack " + ", ".join(need) if need else "the PWM scheme is not known"
         if figures is not None:
             for n in need:
@@ -462,9 +466,9 @@ def ripple_envelope(spec, figures, fraction: float = DEFAULT_RIPPLE_FRACTION) ->
     point = worst_point(spec, figures)
     if point is None:
         return None
-    modulation = _num(figures, "ripple_modulation", point)
+    modulation = _num(figures, Fig.ripple_modulation, point)
     if modulation is None:
-        modulation = _num(figures, "modulation", point)
+        modulation = _num(figures, Fig.modulation, point)
     if modulation is None or inductance <= 0.0:
         return None
     modulation = min(max(modulation, 0.0), threephase.modulation_index_limit(scheme))
@@ -487,10 +491,10 @@ def supply_window(spec, figures) -> SupplyWindow | None:
     """The supply window of the figures, or None when neither bound is known: from the
     lowest supply that reaches the points (the step headroom of the current loop is
     judged apart, as the rules do) to the highest the ripple, duty and stage allow."""
-    low, high = _num(figures, "supply_min_static"), _num(figures, "supply_max")
+    low, high = _num(figures, Fig.supply_min_static), _num(figures, Fig.supply_max)
     if low is None:
-        low = _num(figures, "supply_min")
+        low = _num(figures, Fig.supply_min)
     if low is None and high is None:
         return None
-    voltage = _num(figures, "supply_voltage") or float(spec.stage.supply.voltage)
+    voltage = _num(figures, Fig.supply_voltage) or float(spec.stage.supply.voltage)
     return SupplyWindow(low, high, voltage, low is not None and high is not None and low > high)

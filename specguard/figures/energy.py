@@ -18,11 +18,12 @@ from ._vec import (
     real,
 )
 from .axis import SQRT2, _fmt, _highest_supply
+from .registry import Fig
 
 
 def _chokes(spec, ax, elec, axis, missing, notes):
     chokes = spec.chokes
-    names = ("choke_peak_current", "choke_saturation_ratio", "choke_rms_ratio")
+    names = (Fig.choke_peak_current, Fig.choke_saturation_ratio, Fig.choke_rms_ratio)
     if chokes is None:
         for name in names:
             missing[name] = "the spec has no chokes"
@@ -30,7 +31,7 @@ def _chokes(spec, ax, elec, axis, missing, notes):
     # the choke carries what the controller can drive: its peak limit, else the
     # motor's peak current, else the largest operating current (docs/physics.md §7.5)
     limits = spec.stage.current_limit
-    worst_ripple = real(axis["ripple_pp_worst"])
+    worst_ripple = real(axis[Fig.ripple_pp_worst])
     if limits is not None and limits.peak is not None:
         base, source = limits.peak, "the stage's peak current limit"
     elif spec.motor.peak_current is not None:
@@ -40,16 +41,16 @@ def _chokes(spec, ax, elec, axis, missing, notes):
         amplitude = SQRT2 if ax.topology == "sinusoidal" else 1.0
         base, source = max(e["current"] for e in elec) * amplitude, "the largest operating current"
     i_pk = real(P.choke.choke_peak_current(base, worst_ripple))
-    axis["choke_peak_current"] = i_pk
-    notes["choke_peak_current"] = f"{source} plus half the worst-case ripple"
+    axis[Fig.choke_peak_current] = i_pk
+    notes[Fig.choke_peak_current] = f"{source} plus half the worst-case ripple"
     if chokes.saturation_current is not None:
-        axis["choke_saturation_ratio"] = i_pk / chokes.saturation_current
+        axis[Fig.choke_saturation_ratio] = i_pk / chokes.saturation_current
     else:
-        missing["choke_saturation_ratio"] = "chokes.saturation_current is not given"
+        missing[Fig.choke_saturation_ratio] = "chokes.saturation_current is not given"
     if chokes.rated_current is not None:
-        axis["choke_rms_ratio"] = largest(e["rms_current"] for e in elec) / chokes.rated_current
+        axis[Fig.choke_rms_ratio] = largest(e[Fig.rms_current] for e in elec) / chokes.rated_current
     else:
-        missing["choke_rms_ratio"] = "chokes.rated_current is not given"
+        missing[Fig.choke_rms_ratio] = "chokes.rated_current is not given"
 
 
 def _braking(spec, axis, missing):
@@ -62,29 +63,29 @@ def _braking(spec, axis, missing):
     if spec.profile is not None:
         speeds += [s.speed for s in spec.profile.segments]
     names = (
-        "braking_energy",
-        "bus_absorbable_energy",
-        "braking_energy_ratio",
-        "bus_voltage_after_braking",
-        "braking_supply_energy",
-        "braking_resistor_energy",
+        Fig.braking_energy,
+        Fig.bus_absorbable_energy,
+        Fig.braking_energy_ratio,
+        Fig.bus_voltage_after_braking,
+        Fig.braking_supply_energy,
+        Fig.braking_resistor_energy,
     )
     if spec.load is None and spec.motor.rotor_inertia is None:
-        for name in names + ("braking_torque", "braking_power_peak"):
+        for name in names + (Fig.braking_torque, Fig.braking_power_peak):
             missing[name] = "the spec gives no load.inertia or motor.rotor_inertia"
         return
     w1 = max(speeds)
     energy = float(P.braking.regenerative_energy(inertia, w1))
-    axis["braking_energy"] = energy
+    axis[Fig.braking_energy] = energy
     stop = spec.load.stop_time if spec.load is not None else None
     peak_power = None
     if stop is not None:
         torque = float(P.braking.braking_torque(inertia, w1, stop))
         peak_power = float(P.braking.braking_peak_power(torque, w1))
-        axis["braking_torque"] = torque
-        axis["braking_power_peak"] = peak_power
+        axis[Fig.braking_torque] = torque
+        axis[Fig.braking_power_peak] = peak_power
     else:
-        for name in ("braking_torque", "braking_power_peak"):
+        for name in (Fig.braking_torque, Fig.braking_power_peak):
             missing[name] = "the spec gives no load.stop_time (the time to brake to standstill)"
     if stage.bus_capacitance is None or stage.overvoltage_trip is None:
         for name in names[1:]:
@@ -99,7 +100,7 @@ def _braking(spec, axis, missing):
     if returned is not None and returned.back_voltage_max is not None:
         limit_v = float(P.braking.bus_voltage_limit(limit_v, returned.back_voltage_max))
     capacity = real(P.braking.capacitor_absorbable_energy(C, V, limit_v))
-    axis["bus_absorbable_energy"] = capacity
+    axis[Fig.bus_absorbable_energy] = capacity
     resistor = stage.brake_resistor
     turn_on = resistor.turn_on_voltage if resistor is not None else math.inf
     taken = 0.0
@@ -125,11 +126,11 @@ def _braking(spec, axis, missing):
 
             taken = per_variant(supply_share, V)
         else:
-            missing["braking_supply_energy"] = (
+            missing[Fig.braking_supply_energy] = (
                 "the battery's share needs the braking power: give load.stop_time (counted as none)"
             )
-    if "braking_supply_energy" not in missing:
-        axis["braking_supply_energy"] = taken
+    if Fig.braking_supply_energy not in missing:
+        axis[Fig.braking_supply_energy] = taken
     rest = maximum(energy - taken, 0.0)
     to_resistor = 0.0
     if resistor is not None:
@@ -140,26 +141,26 @@ def _braking(spec, axis, missing):
             # a resistor too large for the peak power takes only its share of it
             share = min(1.0, (turn_on * turn_on / resistor.resistance) / peak_power)
         to_resistor = excess * share
-        axis["braking_resistor_energy"] = to_resistor
+        axis[Fig.braking_resistor_energy] = to_resistor
     else:
-        missing["braking_resistor_energy"] = "the stage has no brake_resistor"
+        missing[Fig.braking_resistor_energy] = "the stage has no brake_resistor"
     to_caps = rest - to_resistor
     if is_vector(capacity):
         import numpy as np
 
         if any_of(capacity > 0):
-            axis["braking_energy_ratio"] = masked(to_caps / np.where(capacity > 0, capacity, 1.0), capacity > 0)
+            axis[Fig.braking_energy_ratio] = masked(to_caps / np.where(capacity > 0, capacity, 1.0), capacity > 0)
         else:
-            missing["braking_energy_ratio"] = "the top of the supply range is at or above the bus limit"
+            missing[Fig.braking_energy_ratio] = "the top of the supply range is at or above the bus limit"
     elif capacity <= 0:
         # the supply's top already reaches the bus limit (supply-range-above-trip says so)
-        missing["braking_energy_ratio"] = (
+        missing[Fig.braking_energy_ratio] = (
             f"the top of the supply range ({_fmt(V, 'voltage')}) is at or above the bus limit "
             f"({_fmt(limit_v, 'voltage')}): the bus capacitors take no braking energy"
         )
     else:
-        axis["braking_energy_ratio"] = to_caps / capacity
-    axis["bus_voltage_after_braking"] = real(P.braking.bus_voltage_after_braking(C, V, to_caps))
+        axis[Fig.braking_energy_ratio] = to_caps / capacity
+    axis[Fig.bus_voltage_after_braking] = real(P.braking.bus_voltage_after_braking(C, V, to_caps))
 
 
 def brake_turn_on(spec: Spec) -> tuple[float, float, float] | None:

@@ -15,23 +15,25 @@ from ._vec import (
 from .axis import KELVIN_20C, FigureSettings, _Axis, _axis
 from .operating import _electrical
 from .pwmloss import _pwm_loss, _PwmLoss
+from .registry import Fig
 
 
 def _thermal(spec, ax, elec, rows, axis, missing, notes, pwm: _PwmLoss | None = None):
     thermal = spec.motor.thermal
     names = (
-        "rms_current_ratio",
-        "continuous_current_max",
-        "winding_temperature",
-        "winding_margin",
-        "runaway_number",
-        "profile_peak_temperature",
-        "profile_mean_temperature",
-        "profile_margin",
-        "profile_start_temperature",
-        "copper_loss",
-        "housing_temperature",
-        "runaway_current",
+        Fig.rms_current_ratio,
+        Fig.continuous_current_max,
+        Fig.winding_temperature,
+        Fig.winding_margin,
+        Fig.runaway_number,
+        Fig.profile_peak_temperature,
+        Fig.profile_mean_temperature,
+        Fig.profile_margin,
+        Fig.profile_start_temperature,
+        Fig.copper_loss,
+        Fig.housing_temperature,
+        Fig.runaway_current,
+        Fig.profile_pwm_loss_temperature_rise,
     )
     if thermal is None:
         for name in names:
@@ -43,52 +45,52 @@ def _thermal(spec, ax, elec, rows, axis, missing, notes, pwm: _PwmLoss | None = 
     runaway = False
     extra = pwm.in_budget if pwm is not None else tuple(0.0 for _ in rows)
     node = pwm.node_resistance if pwm is not None else 0.0
-    batch = is_vector(*(e["rms_current"] for e in elec), *extra)
+    batch = is_vector(*(e[Fig.rms_current] for e in elec), *extra)
     if batch:
         _thermal_points_batch(rows, elec, extra, node, r20, r_wh, r_ha, limit)
-        runaway = "winding_temperature" not in rows[0]
+        runaway = Fig.winding_temperature not in rows[0]
     for row, e, p_extra in zip(rows, elec, extra, strict=True) if not batch else ():
-        i_rms = e["rms_current"]
-        row["runaway_number"] = P.thermal.runaway_number(i_rms, r20, r_wh, r_ha)
+        i_rms = e[Fig.rms_current]
+        row[Fig.runaway_number] = P.thermal.runaway_number(i_rms, r20, r_wh, r_ha)
         # a calibrated PWM loss heats its node: exactly an ambient higher by P R_node
         # in the two-node steady state (docs/pwm-losses.md)
-        ambient = row["point_ambient"] + p_extra * node
+        ambient = row[Fig.point_ambient] + p_extra * node
         t_w = P.thermal.winding_temperature_steady(i_rms, r20, r_wh, r_ha, ambient)
         if not math.isfinite(t_w):
             runaway = True
         else:
-            row["winding_temperature"] = t_w
+            row[Fig.winding_temperature] = t_w
             copper = i_rms * i_rms * float(P.thermal.resistance_at_temperature(r20, KELVIN_20C, t_w))
-            row["copper_loss"] = copper
-            row["housing_temperature"] = row["point_ambient"] + (copper + p_extra) * r_ha
+            row[Fig.copper_loss] = copper
+            row[Fig.housing_temperature] = row[Fig.point_ambient] + (copper + p_extra) * r_ha
             if limit is not None:
-                row["winding_margin"] = limit - t_w
+                row[Fig.winding_margin] = limit - t_w
         if limit is not None:
             i_max = P.thermal.current_continuous_max(limit, ambient, r20, r_wh, r_ha)
-            row["continuous_current_max"] = i_max
-            row["rms_current_ratio"] = i_rms / maximum(i_max, 1e-300)
+            row[Fig.continuous_current_max] = i_max
+            row[Fig.rms_current_ratio] = i_rms / maximum(i_max, 1e-300)
     if runaway:
         # a figure is present at every point or absent with its reason
         for row in rows:
-            for name in ("winding_temperature", "winding_margin", "copper_loss", "housing_temperature"):
+            for name in (Fig.winding_temperature, Fig.winding_margin, Fig.copper_loss, Fig.housing_temperature):
                 row.pop(name, None)
-        missing["copper_loss"] = "thermal runaway at some operating point: no steady state"
-        missing["housing_temperature"] = missing["copper_loss"]
-        missing["winding_temperature"] = "thermal runaway at some operating point: no steady state"
-        missing["winding_margin"] = missing["winding_temperature"]
-    axis["runaway_current"] = float(P.thermal.runaway_current(r20, r_wh, r_ha))
+        missing[Fig.copper_loss] = "thermal runaway at some operating point: no steady state"
+        missing[Fig.housing_temperature] = missing[Fig.copper_loss]
+        missing[Fig.winding_temperature] = "thermal runaway at some operating point: no steady state"
+        missing[Fig.winding_margin] = missing[Fig.winding_temperature]
+    axis[Fig.runaway_current] = float(P.thermal.runaway_current(r20, r_wh, r_ha))
     if limit is None:
-        for name in ("winding_margin", "continuous_current_max", "rms_current_ratio", "profile_margin"):
-            missing[name] = ax.missing.get("winding_temperature_limit", "no temperature limit")
+        for name in (Fig.winding_margin, Fig.continuous_current_max, Fig.rms_current_ratio, Fig.profile_margin):
+            missing[name] = ax.missing.get(Fig.winding_temperature_limit, "no temperature limit")
     else:
-        axis["winding_temperature_limit"] = limit
+        axis[Fig.winding_temperature_limit] = limit
     profile = spec.profile
     profile_names = (
-        "profile_peak_temperature",
-        "profile_mean_temperature",
-        "profile_margin",
-        "profile_start_temperature",
-        "profile_pwm_loss_temperature_rise",
+        Fig.profile_peak_temperature,
+        Fig.profile_mean_temperature,
+        Fig.profile_margin,
+        Fig.profile_start_temperature,
+        Fig.profile_pwm_loss_temperature_rise,
     )
     if profile is None:
         for name in profile_names:
@@ -110,23 +112,25 @@ def _thermal(spec, ax, elec, rows, axis, missing, notes, pwm: _PwmLoss | None = 
         for name in profile_names:
             missing[name] = "thermal runaway over the profile: no periodic steady state"
         return
-    axis["profile_peak_temperature"] = float(cycle.peak_winding_temperature)
-    axis["profile_start_temperature"] = float(cycle.start_winding_temperature)
-    axis["profile_mean_temperature"] = float(cycle.mean_winding_temperature)
+    axis[Fig.profile_peak_temperature] = float(cycle.peak_winding_temperature)
+    axis[Fig.profile_start_temperature] = float(cycle.start_winding_temperature)
+    axis[Fig.profile_mean_temperature] = float(cycle.mean_winding_temperature)
     if limit is not None:
-        axis["profile_margin"] = limit - float(cycle.peak_winding_temperature)
-    notes["profile_peak_temperature"] = "two-node model, periodic steady state of the repeated profile"
+        axis[Fig.profile_margin] = limit - float(cycle.peak_winding_temperature)
+    notes[Fig.profile_peak_temperature] = "two-node model, periodic steady state of the repeated profile"
     if pwm is not None and pwm.law is not None:
         # the calibrated PWM loss is in the cycle; its share of the peak, shown apart
         copper_only = [seg._replace(housing_loss=0.0, winding_loss=0.0) for seg in segments]
         bare = P.thermal.winding_temperature_cyclic(copper_only, r20, c_w, c_h, r_wh, r_ha, profile.ambient)
         if not bare.runaway and math.isfinite(bare.peak_winding_temperature):
-            axis["profile_pwm_loss_temperature_rise"] = float(
+            axis[Fig.profile_pwm_loss_temperature_rise] = float(
                 cycle.peak_winding_temperature - bare.peak_winding_temperature
             )
-        notes["profile_peak_temperature"] += "; the calibrated PWM eddy loss of each segment included"
+        else:
+            missing[Fig.profile_pwm_loss_temperature_rise] = "thermal runaway over the profile without the PWM loss"
+        notes[Fig.profile_peak_temperature] += "; the calibrated PWM eddy loss of each segment included"
     else:
-        missing["profile_pwm_loss_temperature_rise"] = "the PWM loss is not calibrated (motor.pwm_loss)"
+        missing[Fig.profile_pwm_loss_temperature_rise] = "the PWM loss is not calibrated (motor.pwm_loss)"
 
 
 def _thermal_points_batch(rows, elec, extra, node, r20, r_wh, r_ha, limit) -> None:
@@ -134,32 +138,32 @@ def _thermal_points_batch(rows, elec, extra, node, r20, r_wh, r_ha, limit) -> No
     whose winding runs away at some point has no steady figures at any point (NaN)."""
     import numpy as np
 
-    shape = next(np.shape(v) for e in elec for v in (e["rms_current"],) if is_vector(v))
+    shape = next(np.shape(v) for e in elec for v in (e[Fig.rms_current],) if is_vector(v))
     runaway = np.zeros(shape, dtype=bool)
     for row, e, p_extra in zip(rows, elec, extra, strict=True):
-        i_rms = np.broadcast_to(e["rms_current"], shape)
-        row["runaway_number"] = P.thermal.runaway_number(i_rms, r20, r_wh, r_ha)
-        ambient = row["point_ambient"] + p_extra * node
+        i_rms = np.broadcast_to(e[Fig.rms_current], shape)
+        row[Fig.runaway_number] = P.thermal.runaway_number(i_rms, r20, r_wh, r_ha)
+        ambient = row[Fig.point_ambient] + p_extra * node
         t_w = P.thermal.winding_temperature_steady(i_rms, r20, r_wh, r_ha, ambient)
         finite = np.isfinite(t_w)
         runaway |= ~finite
         t_safe = np.where(finite, t_w, KELVIN_20C)
-        row["winding_temperature"] = np.where(finite, t_w, np.nan)
+        row[Fig.winding_temperature] = np.where(finite, t_w, np.nan)
         copper = i_rms * i_rms * P.thermal.resistance_at_temperature(r20, KELVIN_20C, t_safe)
-        row["copper_loss"] = np.where(finite, copper, np.nan)
-        row["housing_temperature"] = np.where(finite, row["point_ambient"] + (copper + p_extra) * r_ha, np.nan)
+        row[Fig.copper_loss] = np.where(finite, copper, np.nan)
+        row[Fig.housing_temperature] = np.where(finite, row[Fig.point_ambient] + (copper + p_extra) * r_ha, np.nan)
         if limit is not None:
-            row["winding_margin"] = np.where(finite, limit - t_safe, np.nan)
+            row[Fig.winding_margin] = np.where(finite, limit - t_safe, np.nan)
             i_max = P.thermal.current_continuous_max(limit, ambient, r20, r_wh, r_ha)
-            row["continuous_current_max"] = i_max
-            row["rms_current_ratio"] = i_rms / np.maximum(i_max, 1e-300)
+            row[Fig.continuous_current_max] = i_max
+            row[Fig.rms_current_ratio] = i_rms / np.maximum(i_max, 1e-300)
     if runaway.all():
         for row in rows:
-            for name in ("winding_temperature", "winding_margin", "copper_loss", "housing_temperature"):
+            for name in (Fig.winding_temperature, Fig.winding_margin, Fig.copper_loss, Fig.housing_temperature):
                 row.pop(name, None)
         return
     for row in rows:
-        for name in ("winding_temperature", "winding_margin", "copper_loss", "housing_temperature"):
+        for name in (Fig.winding_temperature, Fig.winding_margin, Fig.copper_loss, Fig.housing_temperature):
             if name in row:
                 row[name] = np.where(runaway, np.nan, row[name])
 
@@ -171,17 +175,17 @@ def _profile_batch(segments, r20, c_w, c_h, r_wh, r_ha, ambient, limit, pwm, axi
 
     cycle = P.thermal.winding_temperature_cyclic(segments, r20, c_w, c_h, r_wh, r_ha, ambient)
     ok = ~np.asarray(cycle.runaway) & np.isfinite(cycle.peak_winding_temperature)
-    names = ("profile_peak_temperature", "profile_start_temperature", "profile_mean_temperature")
+    names = (Fig.profile_peak_temperature, Fig.profile_start_temperature, Fig.profile_mean_temperature)
     if not ok.any():
-        for name in (*names, "profile_margin", "profile_pwm_loss_temperature_rise"):
+        for name in (*names, Fig.profile_margin, Fig.profile_pwm_loss_temperature_rise):
             missing[name] = "thermal runaway over the profile: no periodic steady state"
         return
     values = (cycle.peak_winding_temperature, cycle.start_winding_temperature, cycle.mean_winding_temperature)
     for name, value in zip(names, values, strict=True):
         axis[name] = np.where(ok, value, np.nan)
     if limit is not None:
-        axis["profile_margin"] = np.where(ok, limit - cycle.peak_winding_temperature, np.nan)
-    notes["profile_peak_temperature"] = "two-node model, periodic steady state of the repeated profile"
+        axis[Fig.profile_margin] = np.where(ok, limit - cycle.peak_winding_temperature, np.nan)
+    notes[Fig.profile_peak_temperature] = "two-node model, periodic steady state of the repeated profile"
     if pwm is not None and pwm.law is not None:
         bare = P.thermal.winding_temperature_cyclic(
             [seg._replace(housing_loss=0.0, winding_loss=0.0) for seg in segments], r20, c_w, c_h, r_wh, r_ha, ambient
@@ -189,10 +193,10 @@ def _profile_batch(segments, r20, c_w, c_h, r_wh, r_ha, ambient, limit, pwm, axi
         both = ok & ~np.asarray(bare.runaway) & np.isfinite(bare.peak_winding_temperature)
         with np.errstate(invalid="ignore"):
             rise = cycle.peak_winding_temperature - bare.peak_winding_temperature
-        axis["profile_pwm_loss_temperature_rise"] = np.where(both, rise, np.nan)
-        notes["profile_peak_temperature"] += "; the calibrated PWM eddy loss of each segment included"
+        axis[Fig.profile_pwm_loss_temperature_rise] = np.where(both, rise, np.nan)
+        notes[Fig.profile_peak_temperature] += "; the calibrated PWM eddy loss of each segment included"
     else:
-        missing["profile_pwm_loss_temperature_rise"] = "the PWM loss is not calibrated (motor.pwm_loss)"
+        missing[Fig.profile_pwm_loss_temperature_rise] = "the PWM loss is not calibrated (motor.pwm_loss)"
 
 
 def _profile_segments(spec: Spec, ax: _Axis, pwm: _PwmLoss | None = None) -> list:
@@ -205,9 +209,9 @@ def _profile_segments(spec: Spec, ax: _Axis, pwm: _PwmLoss | None = None) -> lis
         e = _electrical(spec, ax, s.speed, s.torque)
         extra = pwm.law(e) if pwm is not None and pwm.law is not None else 0.0
         if pwm is not None and pwm.winding_node:
-            out.append(P.thermal.Segment(s.duration, e["rms_current"], 0.0, extra))
+            out.append(P.thermal.Segment(s.duration, e[Fig.rms_current], 0.0, extra))
         else:
-            out.append(P.thermal.Segment(s.duration, e["rms_current"], extra, 0.0))
+            out.append(P.thermal.Segment(s.duration, e[Fig.rms_current], extra, 0.0))
     return out
 
 

@@ -35,6 +35,7 @@ from dataclasses import dataclass
 from typing import Any
 
 from ..model.units import format_si, parse_quantity
+from .registry import Rem
 
 # A choke fitted where none exists needs a resistance for the loop and the copper
 # loss: about 1 mohm per uH for small power chokes of a few amperes (common
@@ -465,28 +466,28 @@ def cost_weights(settings) -> Mapping[str, float] | None:
 
 
 def _lever_for(remedy_name: str, spec, pwm_frequency_max: float) -> Lever | None:
-    if remedy_name == "added_inductance":
+    if remedy_name == Rem.added_inductance:
         return AddedInductance(topology(spec))
-    if remedy_name in ("pwm_frequency", "pwm_frequency_inaudible"):
+    if remedy_name in (Rem.pwm_frequency, Rem.pwm_frequency_inaudible):
         pwm = spec.stage.pwm
         per_leg = 2.0 if pwm.scheme == "unipolar-phase-shifted" and pwm.frequency_is != "leg" else 1.0
         note = " (re-check the inductance table there)" if spec.motor.inductance_vs_frequency else ""
         return PwmFrequency(per_leg, note, pwm_frequency_max)
-    if remedy_name in ("supply_voltage_for_ripple", "supply_voltage_for_duty"):
+    if remedy_name in (Rem.supply_voltage_for_ripple, Rem.supply_voltage_for_duty):
         return SupplyVoltage(at_least=False)
-    if remedy_name in ("supply_voltage_min", "supply_voltage_for_modulation"):
+    if remedy_name in (Rem.supply_voltage_min, Rem.supply_voltage_for_modulation):
         return SupplyVoltage(at_least=True)
-    if remedy_name == "choke_saturation_current":
+    if remedy_name == Rem.choke_saturation_current:
         return ChokeSaturation()
-    if remedy_name in ("loop_bandwidth", "loop_bandwidth_for_margin"):
+    if remedy_name in (Rem.loop_bandwidth, Rem.loop_bandwidth_for_margin):
         return LoopBandwidth()
-    if remedy_name == "brake_resistor":
+    if remedy_name == Rem.brake_resistor:
         return BrakeResistorLever()
-    if remedy_name == "pwm_scheme":
+    if remedy_name == Rem.pwm_scheme:
         return PwmScheme()
-    if remedy_name == "stage_continuous_current":
+    if remedy_name == Rem.stage_continuous_current:
         return StageCurrentRating("continuous")
-    if remedy_name == "stage_peak_current":
+    if remedy_name == Rem.stage_peak_current:
         return StageCurrentRating("peak")
     return None
 

@@ -28,6 +28,7 @@ from .axis import (
     _lowest_supply,
     _torque_constant_model,
 )
+from .registry import Fig
 
 
 def _electrical(spec: Spec, ax: _Axis, speed: float, torque: float) -> dict[str, float]:
@@ -58,18 +59,18 @@ def _electrical(spec: Spec, ax: _Axis, speed: float, torque: float) -> dict[str,
         )
         return {
             "current": current,
-            "terminal_voltage": v_term,
-            "modulation": m,
-            "duty": P.hbridge.leg_duty(m_clip, ax.scheme),
-            "modulation_ratio": m / m_max,
-            "ripple_modulation": m_top,
-            "ripple_pp": ripple.peak_to_peak,
-            "ripple_rms": ripple.ripple_rms,
-            "ripple_pp_catalogue": ripple_cat,
-            "rms_current": hypot(current, ripple.ripple_rms),
+            Fig.terminal_voltage: v_term,
+            Fig.modulation: m,
+            Fig.duty: P.hbridge.leg_duty(m_clip, ax.scheme),
+            Fig.modulation_ratio: m / m_max,
+            Fig.ripple_modulation: m_top,
+            Fig.ripple_pp: ripple.peak_to_peak,
+            Fig.ripple_rms: ripple.ripple_rms,
+            Fig.ripple_pp_catalogue: ripple_cat,
+            Fig.rms_current: hypot(current, ripple.ripple_rms),
             "peak": real(ripple.maximum),
-            "current_min": real(ripple.minimum),
-            "ripple_pp_linear": real(ripple.linear_peak_to_peak),
+            Fig.current_min: real(ripple.minimum),
+            Fig.ripple_pp_linear: real(ripple.linear_peak_to_peak),
         }
     # sinusoidal (dq, i_d = 0)
     p = motor.pole_pairs or 1
@@ -100,19 +101,19 @@ def _electrical(spec: Spec, ax: _Axis, speed: float, torque: float) -> dict[str,
     i_heat = i_q if held else i_rms
     return {
         "current": i_rms,
-        "standstill_hold": held,
-        "terminal_voltage": v_ph * SQRT3,  # peak line-to-line
-        "modulation": M,
-        "duty": duty,
-        "modulation_ratio": (v_ph + dead_loss) / v_ph_duty,
-        "ripple_modulation": M_top,
-        "electrical_speed": p * speed,
-        "voltage_d": real(v_d),
-        "voltage_q": real(v_q),
-        "ripple_pp": ripple_pp,
-        "ripple_rms": ripple_rms,
-        "ripple_pp_catalogue": ripple_cat,
-        "rms_current": hypot(i_heat, ripple_rms),
+        Fig.standstill_hold: held,
+        Fig.terminal_voltage: v_ph * SQRT3,  # peak line-to-line
+        Fig.modulation: M,
+        Fig.duty: duty,
+        Fig.modulation_ratio: (v_ph + dead_loss) / v_ph_duty,
+        Fig.ripple_modulation: M_top,
+        Fig.electrical_speed: p * speed,
+        Fig.voltage_d: real(v_d),
+        Fig.voltage_q: real(v_q),
+        Fig.ripple_pp: ripple_pp,
+        Fig.ripple_rms: ripple_rms,
+        Fig.ripple_pp_catalogue: ripple_cat,
+        Fig.rms_current: hypot(i_heat, ripple_rms),
         "peak": i_q + ripple_pp / 2.0,
         "phase_voltage_peak": v_ph,
     }
@@ -135,11 +136,11 @@ def _current_loop(stage, ax: _Axis, settings: FigureSettings, axis, missing) -> 
     the policy's phase margin, the margin it has, and a detuned crossover."""
     loop = stage.current_loop
     loop_names = (
-        "loop_bandwidth_ratio",
-        "loop_bandwidth_max",
-        "loop_phase_margin",
-        "loop_crossover_shift",
-        "loop_tuned_inductance",
+        Fig.loop_bandwidth_ratio,
+        Fig.loop_bandwidth_max,
+        Fig.loop_phase_margin,
+        Fig.loop_crossover_shift,
+        Fig.loop_tuned_inductance,
     )
     if loop is None:
         for name in loop_names:
@@ -152,19 +153,19 @@ def _current_loop(stage, ax: _Axis, settings: FigureSettings, axis, missing) -> 
         sampling_frequency = loop.sampling_frequency or ax.f_leg * (2.0 if double else 1.0)
         delay = real(P.control.loop_total_delay(sampling_frequency, loop.computation_delay))
         ratio = (loop.tuned_for_inductance / ax.inductance) if loop.tuned_for_inductance is not None else 1.0
-        axis["loop_bandwidth_ratio"] = loop.bandwidth / sampling_frequency
+        axis[Fig.loop_bandwidth_ratio] = loop.bandwidth / sampling_frequency
         margin = math.radians(settings.phase_margin_deg)
-        axis["loop_bandwidth_max"] = real(
+        axis[Fig.loop_bandwidth_max] = real(
             P.control.loop_bandwidth_max_for_margin(delay, margin, loop.feedback_filter, ratio)
         )
-        axis["loop_phase_margin"] = real(
+        axis[Fig.loop_phase_margin] = real(
             P.control.loop_phase_margin(loop.bandwidth, delay, loop.feedback_filter, ratio)
         )
         if loop.tuned_for_inductance is not None:
-            axis["loop_crossover_shift"] = maximum(ratio, 1.0 / ratio)
-            axis["loop_tuned_inductance"] = loop.tuned_for_inductance
+            axis[Fig.loop_crossover_shift] = maximum(ratio, 1.0 / ratio)
+            axis[Fig.loop_tuned_inductance] = loop.tuned_for_inductance
         else:
-            for name in ("loop_crossover_shift", "loop_tuned_inductance"):
+            for name in (Fig.loop_crossover_shift, Fig.loop_tuned_inductance):
                 missing[name] = "stage.current_loop does not say which inductance the gains were tuned for"
 
 
@@ -175,20 +176,20 @@ def _pulse_windows(ax, pwm, rows, missing) -> None:
     judged."""
     period = 1.0 / ax.f_leg
     for name, window, why in (
-        ("pulse_window_ratio", pwm.min_pulse, "the spec does not give stage.pwm.min_pulse"),
-        ("sense_window_ratio", pwm.current_sense_window, "the spec does not give stage.pwm.current_sense_window"),
+        (Fig.pulse_window_ratio, pwm.min_pulse, "the spec does not give stage.pwm.min_pulse"),
+        (Fig.sense_window_ratio, pwm.current_sense_window, "the spec does not give stage.pwm.current_sense_window"),
     ):
         if window is None:
             missing[name] = why
             continue
         for row in rows:
-            if is_vector(row["duty"], period):
-                row[name] = _pulse_window_batch(name, row["duty"], ax.f_leg, period, window)
+            if is_vector(row[Fig.duty], period):
+                row[name] = _pulse_window_batch(name, row[Fig.duty], ax.f_leg, period, window)
                 continue
-            duty = float(row["duty"])
+            duty = float(row[Fig.duty])
             on = float(P.control.pulse_on_time(duty, ax.f_leg)) if duty > 0 else period
             off = float(P.control.pulse_off_time(duty, ax.f_leg)) if duty < 1 else period
-            if name == "pulse_window_ratio":
+            if name == Fig.pulse_window_ratio:
                 switching = [t for t in (on, off) if 0.0 < t < period]
                 row[name] = (min(switching) / window) if switching else math.inf
             else:
@@ -202,7 +203,7 @@ def _pulse_window_batch(name: str, duty, f_leg, period, window):
     duty, period = np.broadcast_arrays(np.asarray(duty, dtype=float), np.asarray(period, dtype=float))
     on = np.where(duty > 0, P.control.pulse_on_time(np.clip(duty, 0.0, 1.0), f_leg), period)
     off = np.where(duty < 1, P.control.pulse_off_time(np.clip(duty, 0.0, 1.0), f_leg), period)
-    if name == "pulse_window_ratio":
+    if name == Fig.pulse_window_ratio:
         on_ok = (on > 0.0) & (on < period)
         off_ok = (off > 0.0) & (off < period)
         shortest = np.minimum(np.where(on_ok, on, np.inf), np.where(off_ok, off, np.inf))

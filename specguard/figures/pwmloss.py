@@ -18,6 +18,7 @@ from ._vec import (
     smallest,
 )
 from .axis import KELVIN_20C, _Axis
+from .registry import Fig
 
 
 class MixedRegimes(ValueError):
@@ -65,8 +66,8 @@ def _ripple_load(ax: _Axis, e: Mapping[str, float]) -> tuple[float, float]:
     if ax.topology == "sinusoidal":
         duty = 0.5  # a sinusoidal axis' ripple duty sweeps the period; its mean is taken
     else:
-        duty = real(P.hbridge.load_wave_duty(clip(e["ripple_modulation"], 0.0, 1.0), ax.scheme))
-    return real(e["ripple_pp"]), clip(duty, 1e-6, 1.0 - 1e-6)
+        duty = real(P.hbridge.load_wave_duty(clip(e[Fig.ripple_modulation], 0.0, 1.0), ax.scheme))
+    return real(e[Fig.ripple_pp]), clip(duty, 1e-6, 1.0 - 1e-6)
 
 
 def _pwm_regime(motor, ax: _Axis, axis, notes) -> str:
@@ -83,7 +84,7 @@ def _pwm_regime(motor, ax: _Axis, axis, notes) -> str:
     rho = part.resistivity if part.resistivity is not None else rho_default
     mu = part.relative_permeability if part.relative_permeability is not None else mu_default
     depth = real(P.eddy.skin_depth(ax.f_ripple, rho, mu))
-    axis["eddy_path_thickness_ratio"] = 0.5 * part.thickness / depth
+    axis[Fig.eddy_path_thickness_ratio] = 0.5 * part.thickness / depth
     if is_vector(ax.f_ripple):
         # a batch is split so that its variants share one regime (specguard.figures.batch)
         import numpy as np
@@ -93,10 +94,10 @@ def _pwm_regime(motor, ax: _Axis, axis, notes) -> str:
         if len(regimes) != 1:
             raise MixedRegimes("a batch of variants spans more than one eddy-loss regime")
         regime = regimes.pop()
-        notes["eddy_path_thickness_ratio"] = f"{part.material}, {regime} at the ripple frequency"
+        notes[Fig.eddy_path_thickness_ratio] = f"{part.material}, {regime} at the ripple frequency"
         return regime
     regime = str(P.eddy.plate_regime(ax.f_ripple, part.thickness, rho, mu))
-    notes["eddy_path_thickness_ratio"] = (
+    notes[Fig.eddy_path_thickness_ratio] = (
         f"{part.material}, {regime} at the ripple frequency (skin depth {depth * 1e3:.3g} mm)"
     )
     return regime
@@ -107,14 +108,15 @@ def _pwm_loss(spec, ax, elec, rows, axis, missing, notes) -> _PwmLoss | None:
     motor = spec.motor
     thermal = motor.thermal
     names = (
-        "pwm_eddy_loss",
-        "pwm_loss_low",
-        "pwm_loss_to_copper",
-        "pwm_loss_temperature_rise",
-        "pwm_loss_margin_share",
+        Fig.pwm_eddy_loss,
+        Fig.pwm_loss_low,
+        Fig.pwm_loss_to_copper,
+        Fig.pwm_loss_temperature_rise,
+        Fig.pwm_loss_margin_share,
+        Fig.pwm_loss_estimated,
     )
     if motor.eddy_path is None:
-        missing["eddy_path_thickness_ratio"] = "the spec has no motor.eddy_path"
+        missing[Fig.eddy_path_thickness_ratio] = "the spec has no motor.eddy_path"
     if thermal is None:
         for name in names:
             missing[name] = "the spec has no motor.thermal data"
@@ -144,7 +146,8 @@ def _pwm_loss(spec, ax, elec, rows, axis, missing, notes) -> _PwmLoss | None:
         )
         law_fn = _LossLaw(cals if len(cals) > 1 else cals[0], regime, ax)
         values = tuple(law_fn(e) for e in elec)
-        notes["pwm_eddy_loss"] = f"calibrated from motor.pwm_loss ({regime}); in the thermal budget"
+        notes[Fig.pwm_eddy_loss] = f"calibrated from motor.pwm_loss ({regime}); in the thermal budget"
+        axis[Fig.pwm_loss_estimated] = False
         return _PwmLoss(values, values, values, False, node, law_fn, winding_node)
     lows, highs = [], []
     for law in laws:
@@ -157,12 +160,12 @@ def _pwm_loss(spec, ax, elec, rows, axis, missing, notes) -> _PwmLoss | None:
         )
     low = tuple(smallest(v) for v in zip(*lows, strict=True))
     high = tuple(largest(v) for v in zip(*highs, strict=True))
-    notes["pwm_eddy_loss"] = (
+    notes[Fig.pwm_eddy_loss] = (
         f"estimate for a {motor.winding} winding ({regime}; common practice, no published source): not in the "
         "thermal budget; give motor.pwm_loss from one bench measurement"
     )
-    notes["pwm_loss_low"] = notes["pwm_eddy_loss"]
-    axis["pwm_loss_estimated"] = True
+    notes[Fig.pwm_loss_low] = notes[Fig.pwm_eddy_loss]
+    axis[Fig.pwm_loss_estimated] = True
     return _PwmLoss(tuple(0.0 for _ in loads), high, low, True, node, None, winding_node)
 
 
@@ -171,32 +174,32 @@ def _pwm_loss_effect(spec, ax, rows, pwm: _PwmLoss | None, missing) -> None:
     if pwm is None:
         return
     if not pwm.estimated:
-        missing["pwm_loss_low"] = "the PWM loss is calibrated (motor.pwm_loss): one value"
+        missing[Fig.pwm_loss_low] = "the PWM loss is calibrated (motor.pwm_loss): one value"
     for row, high, low in zip(rows, pwm.high, pwm.low, strict=True):
-        row["pwm_eddy_loss"] = high
+        row[Fig.pwm_eddy_loss] = high
         if pwm.estimated:
-            row["pwm_loss_low"] = low
+            row[Fig.pwm_loss_low] = low
         rise = high * pwm.node_resistance
-        row["pwm_loss_temperature_rise"] = rise
-        t_w = row.get("winding_temperature")
+        row[Fig.pwm_loss_temperature_rise] = rise
+        t_w = row.get(Fig.winding_temperature)
         if t_w is not None:
             r_hot = real(P.thermal.resistance_at_temperature(ax.loss_resistance_20, KELVIN_20C, t_w))
-            copper = real(row["rms_current"]) ** 2 * r_hot
+            copper = real(row[Fig.rms_current]) ** 2 * r_hot
             if is_vector(copper):
-                row["pwm_loss_to_copper"] = masked(high / maximum(copper, 1e-300), copper > 0)
+                row[Fig.pwm_loss_to_copper] = masked(high / maximum(copper, 1e-300), copper > 0)
             elif copper > 0:
-                row["pwm_loss_to_copper"] = high / copper
-        margin = row.get("winding_margin")
+                row[Fig.pwm_loss_to_copper] = high / copper
+        margin = row.get(Fig.winding_margin)
         if margin is not None:
             # the share of the margin the loss takes: of the margin it would have without it
             before = margin + (0.0 if pwm.estimated else rise)
             if is_vector(before):
                 import numpy as np
 
-                row["pwm_loss_margin_share"] = masked(rise / np.where(before > 0, before, 1.0), before > 0)
+                row[Fig.pwm_loss_margin_share] = masked(rise / np.where(before > 0, before, 1.0), before > 0)
             elif before > 0:
-                row["pwm_loss_margin_share"] = rise / before
-    for name in ("pwm_loss_to_copper", "pwm_loss_margin_share"):
+                row[Fig.pwm_loss_margin_share] = rise / before
+    for name in (Fig.pwm_loss_to_copper, Fig.pwm_loss_margin_share):
         if not all(name in row for row in rows):
             for row in rows:
                 row.pop(name, None)

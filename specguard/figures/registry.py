@@ -13,6 +13,7 @@ from dataclasses import dataclass
 from typing import Literal
 
 Scope = Literal["axis", "point"]
+Form = Literal["count", "number", "factor", "under", "over"]
 
 
 @dataclass(frozen=True)
@@ -23,21 +24,52 @@ class FigureDef:
     scope: Scope
     meaning: str
     paths: tuple[tuple[str | int, ...], ...] = ()
+    # how the figure reads in a message where its dimension alone does not say it
+    # (specguard.engine.pack.figure_form): "count", "number", "factor", "under", "over"
+    form: Form | None = None
 
 
-def _d(name, dimension, unit, scope, meaning, *paths) -> FigureDef:
-    return FigureDef(name, dimension, unit, scope, meaning, tuple(tuple(p.split("/")) for p in paths))
+class _Entry:
+    """One row of the table :class:`Fig`: the attribute's name is the figure's name.
+    Read on the class it is that name (``Fig.ripple_ratio == "ripple_ratio"``), so the
+    code that fills and reads figure mappings names a figure through the table, where a
+    misspelt name fails at import and in the type check instead of leaving a figure
+    silently absent."""
+
+    __slots__ = ("_args", "definition")
+
+    def __init__(self, dimension: str, unit: str, scope: Scope, meaning: str, paths, form: Form | None) -> None:
+        self._args = (dimension, unit, scope, meaning, tuple(tuple(p.split("/")) for p in paths), form)
+
+    def __set_name__(self, owner: type, name: str) -> None:
+        self.definition = FigureDef(name, *self._args)
+
+    def __get__(self, obj: object, owner: type | None = None) -> str:
+        return self.definition.name
+
+
+def _d(dimension: str, unit: str, scope: Scope, meaning: str, *paths: str, form: Form | None = None) -> _Entry:
+    return _Entry(dimension, unit, scope, meaning, paths, form)
 
 
 _PWM = ("stage/pwm/frequency", "stage/pwm/scheme", "stage/supply/voltage")
 _L = ("motor/terminal_inductance", "motor/inductance_vs_frequency", "chokes/inductance")
 
-FIGURES: tuple[FigureDef, ...] = (
+
+class Fig:
+    """The figure table: one entry per figure, its name written once (the attribute).
+
+    Adding a figure is one entry here and the code in a domain module of
+    :mod:`specguard.figures` that computes it (``axis[Fig.name] = ...`` or, for a point
+    figure, ``row[Fig.name] = ...``; when the spec lacks what it needs,
+    ``missing[Fig.name] = why``). tests/test_figure_table.py keeps every other module
+    from spelling a figure's name as a string.
+    """
+
     # --- inputs repeated as figures so that messages and reports can quote them
-    _d("motor_rated_current", "current", "A", "axis", "rated (continuous) current of the motor", "motor/rated_current"),
-    _d("supply_voltage", "voltage", "V", "axis", "nominal supply (bus) voltage", "stage/supply/voltage"),
-    _d(
-        "supply_voltage_high",
+    motor_rated_current = _d("current", "A", "axis", "rated (continuous) current of the motor", "motor/rated_current")
+    supply_voltage = _d("voltage", "V", "axis", "nominal supply (bus) voltage", "stage/supply/voltage")
+    supply_voltage_high = _d(
         "voltage",
         "V",
         "axis",
@@ -45,9 +77,8 @@ FIGURES: tuple[FigureDef, ...] = (
         "ripple, choke peak and braking are judged there",
         "stage/supply/range",
         "stage/supply/voltage",
-    ),
-    _d(
-        "supply_voltage_low",
+    )
+    supply_voltage_low = _d(
         "voltage",
         "V",
         "axis",
@@ -55,56 +86,50 @@ FIGURES: tuple[FigureDef, ...] = (
         "and headroom are judged there",
         "stage/supply/range",
         "stage/supply/voltage",
-    ),
-    _d("point_speed", "speed", "rad/s", "point", "motor speed at the operating point", "operating_points"),
-    _d("point_torque", "torque", "N*m", "point", "motor torque at the operating point", "operating_points"),
-    _d("point_ambient", "temperature", "K", "point", "ambient temperature at the operating point", "operating_points"),
+    )
+    point_speed = _d("speed", "rad/s", "point", "motor speed at the operating point", "operating_points")
+    point_torque = _d("torque", "N*m", "point", "motor torque at the operating point", "operating_points")
+    point_ambient = _d("temperature", "K", "point", "ambient temperature at the operating point", "operating_points")
     # --- PWM and inductance (axis)
-    _d(
-        "ripple_frequency",
+    ripple_frequency = _d(
         "frequency",
         "Hz",
         "axis",
         "fundamental frequency of the current ripple seen by the motor",
         *_PWM[:2],
         "stage/pwm/frequency_is",
-    ),
-    _d(
-        "pwm_frequency_leg",
+    )
+    pwm_frequency_leg = _d(
         "frequency",
         "Hz",
         "axis",
         "switching frequency of each half-bridge leg",
         "stage/pwm/frequency",
         "stage/pwm/frequency_is",
-    ),
-    _d(
-        "pwm_frequency_ambiguous",
+    )
+    pwm_frequency_ambiguous = _d(
         "flag",
         "",
         "axis",
         "the spec gives a PWM frequency for a phase-shifted scheme without saying leg or ripple",
         "stage/pwm/frequency",
         "stage/pwm/frequency_is",
-    ),
-    _d(
-        "loop_inductance",
+    )
+    loop_inductance = _d(
         "inductance",
         "H",
         "axis",
         "inductance of the ripple loop at the ripple frequency (motor, possibly derated, plus chokes and stage)",
         *_L,
-    ),
-    _d(
-        "loop_inductance_catalogue",
+    )
+    loop_inductance_catalogue = _d(
         "inductance",
         "H",
         "axis",
         "the same loop inductance with the catalogue motor value, not derated",
         *_L,
-    ),
-    _d(
-        "motor_inductance_ripple",
+    )
+    motor_inductance_ripple = _d(
         "inductance",
         "H",
         "axis",
@@ -112,18 +137,16 @@ FIGURES: tuple[FigureDef, ...] = (
         "the catalogue value, derated to an estimate when it was measured well below the ripple frequency",
         "motor/terminal_inductance",
         "motor/inductance_vs_frequency",
-    ),
-    _d(
-        "motor_inductance_catalogue",
+    )
+    motor_inductance_catalogue = _d(
         "inductance",
         "H",
         "axis",
         "the motor's catalogue terminal inductance (else the first row of its measured table)",
         "motor/terminal_inductance",
         "motor/inductance_vs_frequency",
-    ),
-    _d(
-        "loop_resistance_hot",
+    )
+    loop_resistance_hot = _d(
         "resistance",
         "ohm",
         "axis",
@@ -132,62 +155,56 @@ FIGURES: tuple[FigureDef, ...] = (
         "chokes/resistance",
         "cable/resistance",
         "stage/switch_resistance",
-    ),
-    _d("electrical_time_constant", "time", "s", "axis", "L/R of the ripple loop", *_L, "motor/terminal_resistance"),
-    _d(
-        "inductance_estimated",
+    )
+    electrical_time_constant = _d("time", "s", "axis", "L/R of the ripple loop", *_L, "motor/terminal_resistance")
+    inductance_estimated = _d(
         "flag",
         "",
         "axis",
         "no measured inductance table: the motor inductance at the ripple frequency is a derated estimate",
         "motor/terminal_inductance",
-    ),
-    _d(
-        "inductance_extrapolated",
+    )
+    inductance_extrapolated = _d(
         "flag",
         "",
         "axis",
         "the ripple frequency lies outside the measured inductance table (end value held)",
         "motor/inductance_vs_frequency",
-    ),
-    _d(
-        "inductance_table_rising",
+    )
+    inductance_table_rising = _d(
         "flag",
         "",
         "axis",
         "the measured inductance rises with frequency somewhere in the table",
         "motor/inductance_vs_frequency",
-    ),
-    _d(
-        "inductance_table_rise",
+    )
+    inductance_table_rise = _d(
         "ratio",
         "",
         "axis",
         "largest rise of the measured inductance from one table row to the next, relative (0 when it never rises)",
         "motor/inductance_vs_frequency",
-    ),
-    _d(
-        "ripple_period_over_tau",
+    )
+    ripple_period_over_tau = _d(
         "ratio",
         "1",
         "axis",
         "ripple period divided by the electrical time constant (above 1: exponential regime)",
         *_L,
         *_PWM[:1],
-    ),
+        form="factor",
+    )
     # --- ripple
-    _d("ripple_pp", "current", "A", "point", "peak-to-peak current ripple (exact periodic solution)", *_PWM, *_L),
-    _d(
-        "ripple_pp_catalogue",
+    ripple_pp = _d("current", "A", "point", "peak-to-peak current ripple (exact periodic solution)", *_PWM, *_L)
+    ripple_pp_catalogue = _d(
         "current",
         "A",
         "point",
         "peak-to-peak ripple with the catalogue inductance (lower end of the range)",
         *_PWM,
         *_L,
-    ),
-    _d(
-        "ripple_ratio",
+    )
+    ripple_ratio = _d(
         "ratio",
         "1",
         "point",
@@ -195,9 +212,8 @@ FIGURES: tuple[FigureDef, ...] = (
         *_PWM,
         *_L,
         "motor/rated_current",
-    ),
-    _d(
-        "ripple_ratio_worst_catalogue",
+    )
+    ripple_ratio_worst_catalogue = _d(
         "ratio",
         "1",
         "axis",
@@ -205,18 +221,16 @@ FIGURES: tuple[FigureDef, ...] = (
         "inductance at the ripple frequency (an estimate, or a measured table)",
         *_PWM,
         *_L,
-    ),
-    _d(
-        "ripple_pp_worst",
+    )
+    ripple_pp_worst = _d(
         "current",
         "A",
         "axis",
         "largest peak-to-peak ripple over the envelope of duty cycles or modulation indices the axis can reach",
         *_PWM,
         *_L,
-    ),
-    _d(
-        "ripple_ratio_worst",
+    )
+    ripple_ratio_worst = _d(
         "ratio",
         "1",
         "axis",
@@ -224,29 +238,26 @@ FIGURES: tuple[FigureDef, ...] = (
         *_PWM,
         *_L,
         "motor/rated_current",
-    ),
-    _d("ripple_rms", "current", "A", "point", "RMS of the ripple component alone", *_PWM, *_L),
-    _d(
-        "conduction_margin",
+    )
+    ripple_rms = _d("current", "A", "point", "RMS of the ripple component alone", *_PWM, *_L)
+    conduction_margin = _d(
         "ratio",
         "1",
         "point",
         "average current divided by half the ripple (below 1 with diode freewheeling: discontinuous conduction)",
         "stage/pwm/freewheeling",
         *_PWM,
-    ),
+    )
     # --- voltage and duty
-    _d(
-        "operating_current",
+    operating_current = _d(
         "current",
         "A",
         "point",
         "average (DC or phase rms) current at the operating point",
         "motor/torque_constant",
         "operating_points",
-    ),
-    _d(
-        "terminal_voltage",
+    )
+    terminal_voltage = _d(
         "voltage",
         "V",
         "point",
@@ -254,9 +265,8 @@ FIGURES: tuple[FigureDef, ...] = (
         "motor/back_emf_constant",
         "motor/terminal_resistance",
         "operating_points",
-    ),
-    _d(
-        "modulation",
+    )
+    modulation = _d(
         "ratio",
         "1",
         "point",
@@ -264,9 +274,8 @@ FIGURES: tuple[FigureDef, ...] = (
         "bus voltage; M for three-phase)",
         "stage/supply/voltage",
         "operating_points",
-    ),
-    _d(
-        "current_max",
+    )
+    current_max = _d(
         "current",
         "A",
         "point",
@@ -275,9 +284,8 @@ FIGURES: tuple[FigureDef, ...] = (
         *_PWM,
         *_L,
         "operating_points",
-    ),
-    _d(
-        "current_min",
+    )
+    current_min = _d(
         "current",
         "A",
         "point",
@@ -285,9 +293,8 @@ FIGURES: tuple[FigureDef, ...] = (
         *_PWM,
         *_L,
         "operating_points",
-    ),
-    _d(
-        "ripple_pp_linear",
+    )
+    ripple_pp_linear = _d(
         "current",
         "A",
         "point",
@@ -295,9 +302,8 @@ FIGURES: tuple[FigureDef, ...] = (
         *_PWM,
         *_L,
         "operating_points",
-    ),
-    _d(
-        "loop_phase_margin",
+    )
+    loop_phase_margin = _d(
         "angle",
         "rad",
         "axis",
@@ -305,9 +311,8 @@ FIGURES: tuple[FigureDef, ...] = (
         "inductance its gains were tuned for (first-order loop with a pure delay)",
         "stage/current_loop",
         "stage/pwm/frequency",
-    ),
-    _d(
-        "loop_crossover_shift",
+    )
+    loop_crossover_shift = _d(
         "ratio",
         "1",
         "axis",
@@ -315,17 +320,15 @@ FIGURES: tuple[FigureDef, ...] = (
         "tuned for against the loop inductance at the ripple frequency, the larger over the smaller",
         "stage/current_loop/tuned_for_inductance",
         *_L,
-    ),
-    _d(
-        "loop_tuned_inductance",
+    )
+    loop_tuned_inductance = _d(
         "inductance",
         "H",
         "axis",
         "the loop inductance the current-loop gains were tuned for",
         "stage/current_loop/tuned_for_inductance",
-    ),
-    _d(
-        "pulse_window_ratio",
+    )
+    pulse_window_ratio = _d(
         "ratio",
         "1",
         "point",
@@ -333,9 +336,8 @@ FIGURES: tuple[FigureDef, ...] = (
         "stage/pwm/min_pulse",
         "stage/pwm/frequency",
         "operating_points",
-    ),
-    _d(
-        "sense_window_ratio",
+    )
+    sense_window_ratio = _d(
         "ratio",
         "1",
         "point",
@@ -343,89 +345,79 @@ FIGURES: tuple[FigureDef, ...] = (
         "stage/pwm/current_sense_window",
         "stage/pwm/frequency",
         "operating_points",
-    ),
-    _d(
-        "copper_loss",
+    )
+    copper_loss = _d(
         "power",
         "W",
         "point",
         "copper loss of the RMS current (ripple included) in the winding at its steady temperature",
         "motor/terminal_resistance",
         "operating_points",
-    ),
-    _d(
-        "housing_temperature",
+    )
+    housing_temperature = _d(
         "temperature",
         "K",
         "point",
         "steady housing temperature (two-node model: ambient plus the losses through the housing)",
         "motor/thermal",
         "operating_points",
-    ),
-    _d(
-        "runaway_current",
+    )
+    runaway_current = _d(
         "current",
         "A",
         "axis",
         "RMS current at which the winding has no steady temperature (copper loss outgrows the cooling)",
         "motor/thermal",
         "motor/terminal_resistance",
-    ),
-    _d(
-        "profile_start_temperature",
+    )
+    profile_start_temperature = _d(
         "temperature",
         "K",
         "axis",
         "winding temperature at the start of the repeated motion profile, in its periodic steady state",
         "profile",
         "motor/thermal",
-    ),
-    _d(
-        "electrical_speed",
+    )
+    electrical_speed = _d(
         "speed",
         "rad/s",
         "point",
         "electrical angular speed (pole pairs times the mechanical speed) of a three-phase point",
         "motor/pole_pairs",
         "operating_points",
-    ),
-    _d(
-        "voltage_d",
+    )
+    voltage_d = _d(
         "voltage",
         "V",
         "point",
         "d-axis component of the peak phase voltage (i_d = 0 control)",
         "operating_points",
-    ),
-    _d(
-        "voltage_q",
+    )
+    voltage_q = _d(
         "voltage",
         "V",
         "point",
         "q-axis component of the peak phase voltage (i_d = 0 control)",
         "operating_points",
-    ),
-    _d(
-        "standstill_hold",
+    )
+    standstill_hold = _d(
         "flag",
         "",
         "point",
         "a three-phase point holding torque at standstill: one phase carries the amplitude continuously, and the "
         "thermal and stage checks use it",
         "operating_points",
-    ),
-    _d(
-        "ripple_modulation",
+    )
+    ripple_modulation = _d(
         "ratio",
         "1",
         "point",
         "modulation at the top of the supply range, where the ripple is computed (equals modulation without a range)",
         "stage/supply/range",
         "operating_points",
-    ),
-    _d("duty", "ratio", "1", "point", "duty cycle of the switching leg at the operating point", "stage/pwm/scheme"),
-    _d(
-        "modulation_ratio",
+    )
+    duty = _d("ratio", "1", "point", "duty cycle of the switching leg at the operating point", "stage/pwm/scheme")
+    modulation_ratio = _d(
         "ratio",
         "1",
         "point",
@@ -433,41 +425,37 @@ FIGURES: tuple[FigureDef, ...] = (
         "stage/pwm/max_duty",
         "stage/supply/voltage",
         "operating_points",
-    ),
-    _d(
-        "modulation_max",
+    )
+    modulation_max = _d(
         "ratio",
         "1",
         "axis",
         "highest modulation needed over the operating points (low: supply oversized)",
         "stage/supply/voltage",
-    ),
-    _d(
-        "supply_min",
+    )
+    supply_min = _d(
         "voltage",
         "V",
         "axis",
         "lowest supply voltage that reaches every operating point with control headroom",
         "stage/supply/voltage",
-    ),
-    _d(
-        "supply_max",
+    )
+    supply_max = _d(
         "voltage",
         "V",
         "axis",
         "highest supply voltage that keeps the duty above its floor and the ripple within its limit",
         "stage/supply/voltage",
-    ),
-    _d(
-        "supply_window_width",
+    )
+    supply_window_width = _d(
         "voltage",
         "V",
         "axis",
         "supply_max minus supply_min (negative: no supply voltage satisfies both)",
         "stage/supply/voltage",
-    ),
-    _d(
-        "supply_min_static",
+        form="over",
+    )
+    supply_min_static = _d(
         "voltage",
         "V",
         "axis",
@@ -475,18 +463,17 @@ FIGURES: tuple[FigureDef, ...] = (
         "headroom for a current step (what the points need to be reached at all)",
         "operating_points",
         "stage/supply/voltage",
-    ),
-    _d(
-        "supply_window_width_static",
+    )
+    supply_window_width_static = _d(
         "voltage",
         "V",
         "axis",
         "supply_max minus supply_min_static (negative: no supply voltage reaches the points within the ripple "
         "and duty limits)",
         "stage/supply/voltage",
-    ),
-    _d(
-        "control_headroom_voltage",
+        form="over",
+    )
+    control_headroom_voltage = _d(
         "voltage",
         "V",
         "axis",
@@ -495,65 +482,59 @@ FIGURES: tuple[FigureDef, ...] = (
         "stage/current_loop/bandwidth",
         "motor/terminal_inductance",
         "motor/rated_current",
-    ),
+    )
     # --- audible, control
-    _d(
-        "loop_bandwidth_ratio",
+    loop_bandwidth_ratio = _d(
         "ratio",
         "1",
         "axis",
         "current-loop bandwidth divided by the PWM (sampling) frequency",
         "stage/current_loop/bandwidth",
         "stage/pwm/frequency",
-    ),
-    _d(
-        "loop_bandwidth_max",
+    )
+    loop_bandwidth_max = _d(
         "frequency",
         "Hz",
         "axis",
         "highest current-loop bandwidth for 45 degrees phase margin with the sampling delay",
         "stage/current_loop",
         "stage/pwm/frequency",
-    ),
-    _d(
-        "constant_mismatch",
+    )
+    constant_mismatch = _d(
         "ratio",
         "1",
         "axis",
         "relative mismatch between the torque constant and the back-EMF constant in SI under the declared conventions",
         "motor/torque_constant",
         "motor/back_emf_constant",
-    ),
+    )
     # --- thermal
-    _d(
-        "winding_temperature_limit",
+    winding_temperature_limit = _d(
         "temperature",
         "K",
         "axis",
         "permitted winding temperature (declared, or insulation class minus 10 K)",
         "motor/thermal/max_winding_temperature",
         "motor/thermal/insulation_class",
-    ),
-    _d("rms_current", "current", "A", "point", "RMS current including the ripple", "operating_points"),
-    _d(
-        "winding_temperature",
+    )
+    rms_current = _d("current", "A", "point", "RMS current including the ripple", "operating_points")
+    winding_temperature = _d(
         "temperature",
         "K",
         "point",
         "steady-state winding temperature at the operating point with ripple and ambient",
         "motor/thermal",
         "operating_points",
-    ),
-    _d(
-        "winding_margin",
+    )
+    winding_margin = _d(
         "temperature_difference",
         "K",
         "point",
         "permitted winding temperature minus the steady-state winding temperature",
         "motor/thermal",
-    ),
-    _d(
-        "pwm_eddy_loss",
+        form="under",
+    )
+    pwm_eddy_loss = _d(
         "power",
         "W",
         "point",
@@ -562,54 +543,48 @@ FIGURES: tuple[FigureDef, ...] = (
         "motor/pwm_loss",
         "motor/winding",
         "operating_points",
-    ),
-    _d(
-        "pwm_loss_low",
+    )
+    pwm_loss_low = _d(
         "power",
         "W",
         "point",
         "low end of the estimated PWM eddy loss (no calibration)",
         "motor/winding",
         "operating_points",
-    ),
-    _d(
-        "pwm_loss_to_copper",
+    )
+    pwm_loss_to_copper = _d(
         "ratio",
         "1",
         "point",
         "PWM eddy loss over the copper loss (RMS current, ripple included, in the hot winding)",
         "motor/pwm_loss",
         "operating_points",
-    ),
-    _d(
-        "pwm_loss_temperature_rise",
+    )
+    pwm_loss_temperature_rise = _d(
         "temperature_difference",
         "K",
         "point",
         "winding temperature rise the PWM eddy loss causes (through the node it heats)",
         "motor/pwm_loss",
         "motor/thermal",
-    ),
-    _d(
-        "pwm_loss_margin_share",
+    )
+    pwm_loss_margin_share = _d(
         "ratio",
         "1",
         "point",
         "share of the winding temperature margin (without the PWM loss) that the PWM eddy loss takes",
         "motor/pwm_loss",
         "motor/thermal",
-    ),
-    _d(
-        "profile_pwm_loss_temperature_rise",
+    )
+    profile_pwm_loss_temperature_rise = _d(
         "temperature_difference",
         "K",
         "axis",
         "part of the profile's peak winding temperature that the calibrated PWM eddy loss causes",
         "motor/pwm_loss",
         "profile",
-    ),
-    _d(
-        "eddy_path_thickness_ratio",
+    )
+    eddy_path_thickness_ratio = _d(
         "ratio",
         "1",
         "axis",
@@ -617,120 +592,109 @@ FIGURES: tuple[FigureDef, ...] = (
         "resistance-limited, at least 2: skin-limited)",
         "motor/eddy_path",
         "stage/pwm/frequency",
-    ),
-    _d(
-        "pwm_loss_estimated",
+        form="factor",
+    )
+    pwm_loss_estimated = _d(
         "flag",
         "",
         "axis",
         "the PWM eddy loss is an estimate (no motor.pwm_loss calibration): kept out of the thermal budget",
         "motor/winding",
-    ),
-    _d(
-        "runaway_number",
+    )
+    runaway_number = _d(
         "ratio",
         "1",
         "point",
         "thermal runaway number alpha*R_th*I^2*R20 (1 or more: no steady state)",
         "motor/thermal",
-    ),
-    _d(
-        "continuous_current_max",
+        form="number",
+    )
+    continuous_current_max = _d(
         "current",
         "A",
         "point",
         "highest continuous RMS current at the operating point's ambient",
         "motor/thermal",
-    ),
-    _d(
-        "rms_current_ratio",
+    )
+    rms_current_ratio = _d(
         "ratio",
         "1",
         "point",
         "RMS current divided by the highest continuous current at the ambient",
         "motor/thermal",
-    ),
-    _d(
-        "profile_peak_temperature",
+    )
+    profile_peak_temperature = _d(
         "temperature",
         "K",
         "axis",
         "peak winding temperature over the periodic steady state of the motion profile",
         "profile",
         "motor/thermal",
-    ),
-    _d(
-        "profile_mean_temperature",
+    )
+    profile_mean_temperature = _d(
         "temperature",
         "K",
         "axis",
         "mean winding temperature over the periodic steady state of the motion profile",
         "profile",
         "motor/thermal",
-    ),
-    _d(
-        "profile_margin",
+    )
+    profile_margin = _d(
         "temperature_difference",
         "K",
         "axis",
         "permitted winding temperature minus the profile's peak winding temperature",
         "profile",
         "motor/thermal",
-    ),
+        form="under",
+    )
     # --- currents against limits
-    _d(
-        "peak_current_reached",
+    peak_current_reached = _d(
         "current",
         "A",
         "axis",
         "largest instantaneous current over the operating points: the maximum of the exact periodic current "
         "(H-bridge, six-step), the phase current amplitude plus half its ripple (sinusoidal)",
         "operating_points",
-    ),
-    _d(
-        "peak_current_ratio_stage",
+    )
+    peak_current_ratio_stage = _d(
         "ratio",
         "1",
         "axis",
         "peak current divided by the stage's peak current limit (else the continuous one; its amplitude "
         "on a sinusoidal axis)",
         "stage/current_limit",
-    ),
-    _d(
-        "peak_current_ratio_motor",
+    )
+    peak_current_ratio_motor = _d(
         "ratio",
         "1",
         "axis",
         "peak current divided by the motor's peak current (else the rated one; its amplitude on a sinusoidal axis)",
         "motor/peak_current",
-    ),
-    _d(
-        "choke_peak_current",
+    )
+    choke_peak_current = _d(
         "current",
         "A",
         "axis",
         "peak choke current: the motor's or stage's peak current plus half the ripple",
         "chokes",
-    ),
-    _d(
-        "choke_saturation_ratio",
+    )
+    choke_saturation_ratio = _d(
         "ratio",
         "1",
         "axis",
         "peak choke current divided by the choke's saturation current",
         "chokes/saturation_current",
-    ),
-    _d(
-        "choke_rms_ratio",
+    )
+    choke_rms_ratio = _d(
         "ratio",
         "1",
         "axis",
         "largest RMS choke current divided by the choke's rated current",
         "chokes/rated_current",
-    ),
+    )
     # --- braking
-    _d(
-        "braking_energy",
+    braking_energy = _d(
         "energy",
         "J",
         "axis",
@@ -738,9 +702,8 @@ FIGURES: tuple[FigureDef, ...] = (
         "load/inertia",
         "motor/rotor_inertia",
         "operating_points",
-    ),
-    _d(
-        "bus_absorbable_energy",
+    )
+    bus_absorbable_energy = _d(
         "energy",
         "J",
         "axis",
@@ -748,17 +711,15 @@ FIGURES: tuple[FigureDef, ...] = (
         "supply's back-voltage limit, when lower)",
         "stage/bus_capacitance",
         "stage/overvoltage_trip",
-    ),
-    _d(
-        "braking_energy_ratio",
+    )
+    braking_energy_ratio = _d(
         "ratio",
         "1",
         "axis",
         "braking energy divided by the energy the bus capacitance can absorb",
         "stage/supply/absorbs_braking_energy",
-    ),
-    _d(
-        "bus_voltage_after_braking",
+    )
+    bus_voltage_after_braking = _d(
         "voltage",
         "V",
         "axis",
@@ -767,27 +728,24 @@ FIGURES: tuple[FigureDef, ...] = (
         "stage/bus_capacitance",
         "stage/supply",
         "stage/brake_resistor",
-    ),
-    _d(
-        "braking_torque",
+    )
+    braking_torque = _d(
         "torque",
         "N*m",
         "axis",
         "motor torque braking the load from the fastest speed to standstill in load.stop_time",
         "load/stop_time",
         "load/inertia",
-    ),
-    _d(
-        "braking_power_peak",
+    )
+    braking_power_peak = _d(
         "power",
         "W",
         "axis",
         "power braking returns at its start (braking torque times the fastest speed)",
         "load/stop_time",
         "load/inertia",
-    ),
-    _d(
-        "braking_supply_energy",
+    )
+    braking_supply_energy = _d(
         "energy",
         "J",
         "axis",
@@ -795,18 +753,16 @@ FIGURES: tuple[FigureDef, ...] = (
         "charge current)",
         "stage/supply/returned_energy",
         "stage/supply/absorbs_braking_energy",
-    ),
-    _d(
-        "braking_resistor_energy",
+    )
+    braking_resistor_energy = _d(
         "energy",
         "J",
         "axis",
         "share of the braking energy the brake resistor takes per stop",
         "stage/brake_resistor",
-    ),
+    )
     # --- plausibility: values against each other and the usual ranges of small drives
-    _d(
-        "winding_electrical_time_constant",
+    winding_electrical_time_constant = _d(
         "time",
         "s",
         "axis",
@@ -814,61 +770,55 @@ FIGURES: tuple[FigureDef, ...] = (
         "motor/terminal_inductance",
         "motor/inductance_vs_frequency",
         "motor/terminal_resistance",
-    ),
-    _d(
-        "resistance_reference_temperature",
+    )
+    resistance_reference_temperature = _d(
         "temperature",
         "K",
         "axis",
         "winding temperature at which the terminal resistance is stated",
         "motor/terminal_resistance/at",
-    ),
-    _d(
-        "inductance_frequency_lowest",
+    )
+    inductance_frequency_lowest = _d(
         "frequency",
         "Hz",
         "axis",
         "lowest frequency at which the spec states a motor inductance (catalogue or table)",
         "motor/terminal_inductance/measured_at",
         "motor/inductance_vs_frequency",
-    ),
-    _d(
-        "inductance_frequency_highest",
+    )
+    inductance_frequency_highest = _d(
         "frequency",
         "Hz",
         "axis",
         "highest frequency at which the spec states a motor inductance (catalogue or table)",
         "motor/terminal_inductance/measured_at",
         "motor/inductance_vs_frequency",
-    ),
-    _d(
-        "table_resistance_ratio_min",
+    )
+    table_resistance_ratio_min = _d(
         "ratio",
         "1",
         "axis",
         "lowest series resistance of the inductance table divided by the terminal resistance",
         "motor/inductance_vs_frequency",
         "motor/terminal_resistance",
-    ),
-    _d(
-        "table_resistance_ratio_max",
+    )
+    table_resistance_ratio_max = _d(
         "ratio",
         "1",
         "axis",
         "highest series resistance of the inductance table divided by the terminal resistance",
         "motor/inductance_vs_frequency",
         "motor/terminal_resistance",
-    ),
-    _d(
-        "table_resistance_falling",
+        form="factor",
+    )
+    table_resistance_falling = _d(
         "flag",
         "",
         "axis",
         "the series resistance of the inductance table falls with frequency somewhere",
         "motor/inductance_vs_frequency",
-    ),
-    _d(
-        "torque_ratio",
+    )
+    torque_ratio = _d(
         "ratio",
         "1",
         "point",
@@ -876,28 +826,26 @@ FIGURES: tuple[FigureDef, ...] = (
         "operating_points",
         "motor/torque_constant",
         "motor/rated_current",
-    ),
-    _d(
-        "profile_torque_ratio_min",
+    )
+    profile_torque_ratio_min = _d(
         "ratio",
         "1",
         "axis",
         "smallest torque of the motion profile divided by the rated torque",
         "profile",
         "motor/rated_current",
-    ),
-    _d("profile_ambient", "temperature", "K", "axis", "ambient temperature of the motion profile", "profile/ambient"),
-    _d(
-        "motor_peak_ratio",
+    )
+    profile_ambient = _d("temperature", "K", "axis", "ambient temperature of the motion profile", "profile/ambient")
+    motor_peak_ratio = _d(
         "ratio",
         "1",
         "axis",
         "the motor's peak current divided by its rated current",
         "motor/peak_current",
         "motor/rated_current",
-    ),
-    _d(
-        "rated_current_thermal_ratio",
+        form="factor",
+    )
+    rated_current_thermal_ratio = _d(
         "ratio",
         "1",
         "axis",
@@ -905,36 +853,34 @@ FIGURES: tuple[FigureDef, ...] = (
         "motor/rated_current",
         "motor/thermal",
         "motor/terminal_resistance",
-    ),
-    _d(
-        "thermal_time_constant_ratio",
+    )
+    thermal_time_constant_ratio = _d(
         "ratio",
         "1",
         "axis",
         "thermal time constant of the winding divided by that of the whole motor",
         "motor/thermal/winding_time_constant",
         "motor/thermal/motor_time_constant",
-    ),
-    _d(
-        "thermal_resistance_ratio",
+    )
+    thermal_resistance_ratio = _d(
         "ratio",
         "1",
         "axis",
         "thermal resistance winding-to-housing divided by housing-to-ambient",
         "motor/thermal/winding_to_housing",
         "motor/thermal/housing_to_ambient",
-    ),
-    _d(
-        "winding_limit_over_class",
+        form="factor",
+    )
+    winding_limit_over_class = _d(
         "temperature_difference",
         "K",
         "axis",
         "declared maximum winding temperature minus the temperature of the declared insulation class",
         "motor/thermal/max_winding_temperature",
         "motor/thermal/insulation_class",
-    ),
-    _d(
-        "mechanical_time_constant_computed",
+        form="over",
+    )
+    mechanical_time_constant_computed = _d(
         "time",
         "s",
         "axis",
@@ -943,9 +889,8 @@ FIGURES: tuple[FigureDef, ...] = (
         "motor/rotor_inertia",
         "motor/terminal_resistance",
         "motor/torque_constant",
-    ),
-    _d(
-        "mechanical_time_constant_mismatch",
+    )
+    mechanical_time_constant_mismatch = _d(
         "ratio",
         "1",
         "axis",
@@ -955,9 +900,8 @@ FIGURES: tuple[FigureDef, ...] = (
         "motor/rotor_inertia",
         "motor/terminal_resistance",
         "motor/torque_constant",
-    ),
-    _d(
-        "mechanical_corner_frequency",
+    )
+    mechanical_corner_frequency = _d(
         "frequency",
         "Hz",
         "axis",
@@ -966,9 +910,8 @@ FIGURES: tuple[FigureDef, ...] = (
         "load/inertia",
         "motor/terminal_resistance",
         "motor/torque_constant",
-    ),
-    _d(
-        "loop_bandwidth_over_mechanical",
+    )
+    loop_bandwidth_over_mechanical = _d(
         "ratio",
         "1",
         "axis",
@@ -976,36 +919,34 @@ FIGURES: tuple[FigureDef, ...] = (
         "stage/current_loop/bandwidth",
         "motor/rotor_inertia",
         "load/inertia",
-    ),
-    _d(
-        "inertia_ratio",
+        form="factor",
+    )
+    inertia_ratio = _d(
         "ratio",
         "1",
         "axis",
         "load inertia divided by rotor inertia",
         "load/inertia",
         "motor/rotor_inertia",
-    ),
-    _d(
-        "speed_ratio",
+        form="factor",
+    )
+    speed_ratio = _d(
         "ratio",
         "1",
         "point",
         "speed at the operating point divided by the motor's maximum speed",
         "operating_points",
         "motor/max_speed",
-    ),
-    _d(
-        "profile_speed_ratio",
+    )
+    profile_speed_ratio = _d(
         "ratio",
         "1",
         "axis",
         "highest speed of the motion profile divided by the motor's maximum speed",
         "profile",
         "motor/max_speed",
-    ),
-    _d(
-        "max_speed_over_no_load",
+    )
+    max_speed_over_no_load = _d(
         "ratio",
         "1",
         "axis",
@@ -1013,9 +954,9 @@ FIGURES: tuple[FigureDef, ...] = (
         "motor/max_speed",
         "motor/back_emf_constant",
         "stage/supply",
-    ),
-    _d(
-        "pwm_periods_per_electrical_period",
+        form="factor",
+    )
+    pwm_periods_per_electrical_period = _d(
         "ratio",
         "1",
         "axis",
@@ -1023,9 +964,9 @@ FIGURES: tuple[FigureDef, ...] = (
         "stage/pwm/frequency",
         "motor/pole_pairs",
         "motor/max_speed",
-    ),
-    _d(
-        "profile_acceleration_ratio",
+        form="count",
+    )
+    profile_acceleration_ratio = _d(
         "ratio",
         "1",
         "axis",
@@ -1034,90 +975,85 @@ FIGURES: tuple[FigureDef, ...] = (
         "load/inertia",
         "motor/rotor_inertia",
         "motor/peak_current",
-    ),
-    _d(
-        "supply_range_high_ratio",
+    )
+    supply_range_high_ratio = _d(
         "ratio",
         "1",
         "axis",
         "highest supply voltage of the range divided by the nominal",
         "stage/supply/range",
         "stage/supply/voltage",
-    ),
-    _d(
-        "supply_range_low_margin",
+    )
+    supply_range_low_margin = _d(
         "voltage",
         "V",
         "axis",
         "lowest supply voltage of the range minus the lowest supply that reaches every operating point",
         "stage/supply/range",
-    ),
-    _d(
-        "trip_margin",
+        form="over",
+    )
+    trip_margin = _d(
         "voltage",
         "V",
         "axis",
         "over-voltage trip minus the highest supply voltage in operation",
         "stage/overvoltage_trip",
         "stage/supply",
-    ),
-    _d(
-        "rating_margin",
+        form="under",
+    )
+    rating_margin = _d(
         "voltage",
         "V",
         "axis",
         "the stage's highest rated supply voltage minus the highest supply voltage in operation",
         "stage/max_supply_voltage",
         "stage/supply",
-    ),
-    _d(
-        "stage_rating_over_supply",
+        form="under",
+    )
+    stage_rating_over_supply = _d(
         "ratio",
         "1",
         "axis",
         "the stage's highest rated supply voltage divided by the nominal supply",
         "stage/max_supply_voltage",
-    ),
-    _d(
-        "trip_over_rating",
+        form="factor",
+    )
+    trip_over_rating = _d(
         "ratio",
         "1",
         "axis",
         "over-voltage trip divided by the stage's highest rated supply voltage",
         "stage/overvoltage_trip",
         "stage/max_supply_voltage",
-    ),
-    _d("pwm_dead_time", "time", "s", "axis", "dead time per switching edge", "stage/pwm/dead_time"),
-    _d(
-        "dead_time_fraction",
+    )
+    pwm_dead_time = _d("time", "s", "axis", "dead time per switching edge", "stage/pwm/dead_time")
+    dead_time_fraction = _d(
         "ratio",
         "1",
         "axis",
         "two dead times divided by the PWM period of a leg",
         "stage/pwm/dead_time",
         "stage/pwm/frequency",
-    ),
-    _d(
-        "min_pulse_fraction",
+    )
+    min_pulse_fraction = _d(
         "ratio",
         "1",
         "axis",
         "shortest pulse divided by the PWM period of a leg",
         "stage/pwm/min_pulse",
         "stage/pwm/frequency",
-    ),
-    _d(
-        "min_pulse_over_dead_time",
+    )
+    min_pulse_over_dead_time = _d(
         "ratio",
         "1",
         "axis",
         "shortest pulse divided by the dead time",
         "stage/pwm/min_pulse",
         "stage/pwm/dead_time",
-    ),
-    _d("pwm_timer_clock", "frequency", "Hz", "axis", "clock of the PWM timer", "stage/pwm/timer_clock"),
-    _d(
-        "pwm_count_step",
+        form="factor",
+    )
+    pwm_timer_clock = _d("frequency", "Hz", "axis", "clock of the PWM timer", "stage/pwm/timer_clock")
+    pwm_count_step = _d(
         "ratio",
         "1",
         "axis",
@@ -1125,92 +1061,88 @@ FIGURES: tuple[FigureDef, ...] = (
         "stage/pwm/timer_clock",
         "stage/pwm/frequency",
         "stage/pwm/alignment",
-    ),
-    _d(
-        "stage_current_rms",
+    )
+    stage_current_rms = _d(
         "current",
         "A",
         "point",
         "RMS current of one stage output at the operating point, ripple included (a six-step phase conducts "
         "two thirds of the period while turning, all of it holding at standstill)",
         "operating_points",
-    ),
-    _d(
-        "stage_current_ratio",
+    )
+    stage_current_ratio = _d(
         "ratio",
         "1",
         "point",
         "RMS current of one stage output at the operating point divided by the stage's continuous current",
         "stage/current_limit",
-    ),
-    _d(
-        "stage_to_motor_current",
+    )
+    stage_to_motor_current = _d(
         "ratio",
         "1",
         "axis",
         "the stage's continuous current divided by the motor's rated current",
         "stage/current_limit/continuous",
-    ),
-    _d(
-        "stage_peak_over_continuous",
+        form="factor",
+    )
+    stage_peak_over_continuous = _d(
         "ratio",
         "1",
         "axis",
         "the stage's peak current divided by its continuous current",
         "stage/current_limit",
-    ),
-    _d(
-        "current_loop_bandwidth",
+    )
+    current_loop_bandwidth = _d(
         "frequency",
         "Hz",
         "axis",
         "closed-loop current bandwidth",
         "stage/current_loop/bandwidth",
-    ),
-    _d(
-        "stage_switch_resistance",
+    )
+    stage_switch_resistance = _d(
         "resistance",
         "ohm",
         "axis",
         "on-resistance of one conducting switch",
         "stage/switch_resistance",
-    ),
-    _d(
-        "choke_to_motor_inductance",
+    )
+    choke_to_motor_inductance = _d(
         "ratio",
         "1",
         "axis",
         "inductance of one choke divided by the motor's catalogue terminal inductance",
         "chokes/inductance",
-    ),
-    _d(
-        "choke_time_constant",
+        form="factor",
+    )
+    choke_time_constant = _d(
         "time",
         "s",
         "axis",
         "inductance of one choke over its DC resistance",
         "chokes/inductance",
         "chokes/resistance",
-    ),
-    _d(
-        "choke_saturation_over_rated",
+    )
+    choke_saturation_over_rated = _d(
         "ratio",
         "1",
         "axis",
         "the choke's saturation current divided by its rated (thermal) current",
         "chokes/saturation_current",
         "chokes/rated_current",
-    ),
-    _d(
-        "cable_resistance_ratio",
+        form="factor",
+    )
+    cable_resistance_ratio = _d(
         "ratio",
         "1",
         "axis",
         "resistance of one cable conductor divided by that of a 1 mm^2 copper conductor of the same length",
         "cable/resistance",
         "cable/length",
-    ),
-)
+        form="factor",
+    )
+
+
+FIGURES: tuple[FigureDef, ...] = tuple(v.definition for v in vars(Fig).values() if isinstance(v, _Entry))
 
 FIGURE_DEFS: dict[str, FigureDef] = {f.name: f for f in FIGURES}
 
@@ -1221,34 +1153,60 @@ FIGURE_DEFS: dict[str, FigureDef] = {f.name: f for f in FIGURES}
 # may still name a figure by its former name; baseline digests keep the former names,
 # so existing baselines keep matching.
 FORMER_FIGURE_NAMES: dict[str, str] = {
-    "current": "operating_current",
-    "rated_current": "motor_rated_current",
-    "peak_current": "peak_current_reached",
-    "mechanical_time_constant": "mechanical_time_constant_computed",
-    "winding_time_constant": "winding_electrical_time_constant",
-    "pwm_loss": "pwm_eddy_loss",
-    "dead_time": "pwm_dead_time",
-    "timer_clock": "pwm_timer_clock",
-    "switch_resistance": "stage_switch_resistance",
-    "speed": "point_speed",
-    "torque": "point_torque",
-    "ambient": "point_ambient",
+    "current": Fig.operating_current,
+    "rated_current": Fig.motor_rated_current,
+    "peak_current": Fig.peak_current_reached,
+    "mechanical_time_constant": Fig.mechanical_time_constant_computed,
+    "winding_time_constant": Fig.winding_electrical_time_constant,
+    "pwm_loss": Fig.pwm_eddy_loss,
+    "dead_time": Fig.pwm_dead_time,
+    "timer_clock": Fig.pwm_timer_clock,
+    "switch_resistance": Fig.stage_switch_resistance,
+    "speed": Fig.point_speed,
+    "torque": Fig.point_torque,
+    "ambient": Fig.point_ambient,
 }
 
-# Remedies a rule can ask for: computed from the exact physics inverses.
-REMEDIES: dict[str, str] = {
-    "added_inductance": "the smallest added series inductance that brings the ripple to the limit",
-    "pwm_frequency": "the lowest PWM frequency that brings the ripple to the limit",
-    "supply_voltage_for_ripple": "the highest supply voltage that keeps the ripple within the limit",
-    "supply_voltage_for_duty": "the highest supply voltage that keeps the modulation above its floor",
-    "supply_voltage_min": "the lowest supply voltage that reaches the operating point with headroom",
-    "supply_voltage_for_modulation": "the lowest supply voltage at which the point's modulation meets the limit",
-    "pwm_frequency_inaudible": "the lowest PWM frequency whose ripple lies above the audible band",
-    "choke_saturation_current": "the saturation current a choke needs, with margin",
-    "loop_bandwidth": "the highest current-loop bandwidth the PWM frequency supports",
-    "loop_bandwidth_for_margin": "the highest current-loop bandwidth that keeps the phase margin, the loop as built",
-    "pwm_scheme": "three-level (unipolar, phase-shifted) PWM instead of two-level on an H-bridge",
-    "brake_resistor": "the largest brake resistor that takes the peak braking power, its turn-on voltage and energy",
-    "stage_continuous_current": "the continuous (RMS) current rating a stage needs for the operating point",
-    "stage_peak_current": "the peak current rating a stage needs for the largest current the axis reaches",
-}
+
+class _RemedyEntry:
+    """One row of the table :class:`Rem`, named like a row of :class:`Fig`."""
+
+    __slots__ = ("meaning", "name")
+
+    def __init__(self, meaning: str) -> None:
+        self.meaning = meaning
+
+    def __set_name__(self, owner: type, name: str) -> None:
+        self.name = name
+
+    def __get__(self, obj: object, owner: type | None = None) -> str:
+        return self.name
+
+
+class Rem:
+    """The remedies a rule can ask for, computed from the exact physics inverses (one
+    function each in specguard.figures.remedies, registered under the entry)."""
+
+    added_inductance = _RemedyEntry("the smallest added series inductance that brings the ripple to the limit")
+    pwm_frequency = _RemedyEntry("the lowest PWM frequency that brings the ripple to the limit")
+    supply_voltage_for_ripple = _RemedyEntry("the highest supply voltage that keeps the ripple within the limit")
+    supply_voltage_for_duty = _RemedyEntry("the highest supply voltage that keeps the modulation above its floor")
+    supply_voltage_min = _RemedyEntry("the lowest supply voltage that reaches the operating point with headroom")
+    supply_voltage_for_modulation = _RemedyEntry(
+        "the lowest supply voltage at which the point's modulation meets the limit"
+    )
+    pwm_frequency_inaudible = _RemedyEntry("the lowest PWM frequency whose ripple lies above the audible band")
+    choke_saturation_current = _RemedyEntry("the saturation current a choke needs, with margin")
+    loop_bandwidth = _RemedyEntry("the highest current-loop bandwidth the PWM frequency supports")
+    loop_bandwidth_for_margin = _RemedyEntry(
+        "the highest current-loop bandwidth that keeps the phase margin, the loop as built"
+    )
+    pwm_scheme = _RemedyEntry("three-level (unipolar, phase-shifted) PWM instead of two-level on an H-bridge")
+    brake_resistor = _RemedyEntry(
+        "the largest brake resistor that takes the peak braking power, its turn-on voltage and energy"
+    )
+    stage_continuous_current = _RemedyEntry("the continuous (RMS) current rating a stage needs for the operating point")
+    stage_peak_current = _RemedyEntry("the peak current rating a stage needs for the largest current the axis reaches")
+
+
+REMEDIES: dict[str, str] = {v.name: v.meaning for v in vars(Rem).values() if isinstance(v, _RemedyEntry)}

@@ -16,16 +16,17 @@ from ._vec import (
     per_variant,
     real,
 )
+from .registry import Fig
 
 
 def _most_demanding(elec: list[dict]) -> dict:
     """The operating point with the highest terminal voltage (the first of equals); for
     a batch, per variant: a point whose values are gathered from the points' arrays."""
-    if not any(is_vector(e["terminal_voltage"]) for e in elec):
-        return max(elec, key=lambda e: e["terminal_voltage"])
+    if not any(is_vector(e[Fig.terminal_voltage]) for e in elec):
+        return max(elec, key=lambda e: e[Fig.terminal_voltage])
     import numpy as np
 
-    index = np.argmax(np.stack([np.broadcast_to(e["terminal_voltage"], _shape(elec)) for e in elec]), axis=0)
+    index = np.argmax(np.stack([np.broadcast_to(e[Fig.terminal_voltage], _shape(elec)) for e in elec]), axis=0)
     out = {}
     for name in elec[0]:
         values = [e[name] for e in elec]
@@ -50,7 +51,13 @@ def _no_window(missing):
         missing[name] = why
 
 
-_WINDOW_NAMES = ("supply_min", "supply_max", "supply_window_width", "supply_min_static", "supply_window_width_static")
+_WINDOW_NAMES = (
+    Fig.supply_min,
+    Fig.supply_max,
+    Fig.supply_window_width,
+    Fig.supply_min_static,
+    Fig.supply_window_width_static,
+)
 
 
 def _supply_window(spec, ax, elec, settings, axis, missing):
@@ -66,9 +73,9 @@ def _supply_window(spec, ax, elec, settings, axis, missing):
     headroom = 0.0
     if loop is not None:
         headroom = real(P.control.current_step_headroom_voltage(loop.bandwidth, ax.inductance_catalogue, rated))
-        axis["control_headroom_voltage"] = headroom
+        axis[Fig.control_headroom_voltage] = headroom
     else:
-        missing["control_headroom_voltage"] = "the spec has no stage.current_loop"
+        missing[Fig.control_headroom_voltage] = "the spec has no stage.current_loop"
     ceiling = stage.max_supply_voltage if stage.max_supply_voltage is not None else math.inf
     worst = _most_demanding(elec)
     limit = settings.ripple_limit_ratio * rated
@@ -83,8 +90,8 @@ def _supply_window(spec, ax, elec, settings, axis, missing):
 
         def window(headroom_voltage: float) -> tuple[float, float]:
             found = P.operating.supply_voltage_window(
-                worst["terminal_voltage"],
-                worst["terminal_voltage"],
+                worst[Fig.terminal_voltage],
+                worst[Fig.terminal_voltage],
                 worst["current"],
                 worst["current"],
                 ax.max_duty,
@@ -115,7 +122,7 @@ def _supply_window(spec, ax, elec, settings, axis, missing):
                 v_max,
                 real(
                     P.operating.supply_voltage_max_ripple(
-                        e["terminal_voltage"],
+                        e[Fig.terminal_voltage],
                         ax.inductance,
                         ax.resistance_hot,
                         ax.f_leg,
@@ -159,17 +166,17 @@ def _supply_window(spec, ax, elec, settings, axis, missing):
                 ),
             )
     bounded = finite(v_max)
-    axis["supply_min"] = masked(v_min, keep)
-    axis["supply_min_static"] = masked(v_min_static, keep)
+    axis[Fig.supply_min] = masked(v_min, keep)
+    axis[Fig.supply_min_static] = masked(v_min_static, keep)
     if any_of(bounded):
         if is_vector(bounded, keep):
             import numpy as np
 
             keep = np.logical_and(keep, bounded)
-        axis["supply_max"] = masked(v_max, keep)
-        axis["supply_window_width"] = masked(v_max - v_min, keep)
-        axis["supply_window_width_static"] = masked(v_max - v_min_static, keep)
+        axis[Fig.supply_max] = masked(v_max, keep)
+        axis[Fig.supply_window_width] = masked(v_max - v_min, keep)
+        axis[Fig.supply_window_width_static] = masked(v_max - v_min_static, keep)
     else:
-        missing["supply_max"] = "no upper bound applies (no duty floor, ripple or controller limit reached)"
-        missing["supply_window_width"] = missing["supply_max"]
-        missing["supply_window_width_static"] = missing["supply_max"]
+        missing[Fig.supply_max] = "no upper bound applies (no duty floor, ripple or controller limit reached)"
+        missing[Fig.supply_window_width] = missing[Fig.supply_max]
+        missing[Fig.supply_window_width_static] = missing[Fig.supply_max]

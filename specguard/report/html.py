@@ -18,6 +18,8 @@ from __future__ import annotations
 
 from typing import TYPE_CHECKING
 
+from ..figures.registry import Fig
+
 if TYPE_CHECKING:  # the report model sits below the reporters
     from ..results import Report
 
@@ -485,9 +487,9 @@ def _supply_panel(ax, window, empty_finding: bool) -> None:
     elif low is not None and high is not None:
         ax.axhspan(low, high, facecolor=FILL, edgecolor="none", label="supply window")
     if low is not None:
-        ax.axhline(low, color=CURVE, linestyle="--", linewidth=1.2, label="supply_min")
+        ax.axhline(low, color=CURVE, linestyle="--", linewidth=1.2, label=Fig.supply_min)
     if high is not None:
-        ax.axhline(high, color=LIMIT, linestyle="-.", linewidth=1.2, label="supply_max")
+        ax.axhline(high, color=LIMIT, linestyle="-.", linewidth=1.2, label=Fig.supply_max)
     ax.plot([0.0], [volts], marker="o", color=INK, linestyle="none", label="supply as specified")
     if empty:
         ax.text(0.0, top * 0.94, "no supply voltage\nmeets both", ha="center", va="top", color=LIMIT, fontsize=8)
@@ -804,10 +806,10 @@ def feasibility(result, fail_level: str, ctx: _MapContext):
     findings_now, figures_now = now
     pwm = spec.stage.pwm
     per_leg = 2.0 if pwm.scheme == "unipolar-phase-shifted" and pwm.frequency_is != "leg" else 1.0
-    f_leg = float(figures_now.axis["pwm_frequency_leg"])
+    f_leg = float(figures_now.axis[Fig.pwm_frequency_leg])
     choke = AddedInductance(topology(spec))
     freq = PwmFrequency(per_leg)
-    motor_l = float(figures_now.axis.get("loop_inductance_catalogue") or figures_now.axis["loop_inductance"])
+    motor_l = float(figures_now.axis.get(Fig.loop_inductance_catalogue) or figures_now.axis[Fig.loop_inductance])
     fixes = fix_levers(result)
     f_fix = [v for k, v, _ in fixes if k == "frequency"]
     l_fix = [v for k, v, _ in fixes if k == "inductance"]
@@ -908,16 +910,16 @@ def _scheme_table(rows, fail_level: str) -> str:
     body = []
     for label, fs, found in rows:
         counts = {k: sum(1 for f in found if f.severity == k) for k in ("error", "warning")}
-        loss = _worst(fs, "pwm_eddy_loss")
+        loss = _worst(fs, Fig.pwm_eddy_loss)
         loss_text = DASH if loss is None else show_value(loss, "power")
-        if loss is not None and fs.axis.get("pwm_loss_estimated"):
-            low = _worst(fs, "pwm_loss_low")
+        if loss is not None and fs.axis.get(Fig.pwm_loss_estimated):
+            low = _worst(fs, Fig.pwm_loss_low)
             loss_text = f"{show_value(low, 'power')} to {loss_text} (estimate)" if low is not None else loss_text
-        hot = _worst(fs, "winding_temperature")
-        ripple = fs.axis.get("ripple_pp_worst", _worst(fs, "ripple_pp"))
+        hot = _worst(fs, Fig.winding_temperature)
+        ripple = fs.axis.get(Fig.ripple_pp_worst, _worst(fs, Fig.ripple_pp))
         cells = (
             text(label),
-            text(show_value(fs.axis.get("ripple_frequency"), "frequency")),
+            text(show_value(fs.axis.get(Fig.ripple_frequency), "frequency")),
             text(DASH if ripple is None else show_value(ripple, "current")),
             text(loss_text),
             text(DASH if hot is None else show_value(hot, "temperature")),

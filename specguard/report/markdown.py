@@ -16,6 +16,8 @@ from __future__ import annotations
 
 from typing import TYPE_CHECKING
 
+from ..figures.registry import Fig
+
 if TYPE_CHECKING:  # the report model sits below the reporters
     from ..results import Report
 
@@ -203,9 +205,9 @@ def render(report: Report, limit: int = LIMIT, full_report: str | None = None) -
         fs = getattr(r, "figures", None)
         ripple = duty = margin = "\u2013"
         if fs is not None:
-            duties = _figure_values(fs, "duty")
-            margins = _figure_values(fs, "winding_margin")
-            ripple = _ratio(fs.axis.get("ripple_ratio_worst"))
+            duties = _figure_values(fs, Fig.duty)
+            margins = _figure_values(fs, Fig.winding_margin)
+            ripple = _ratio(fs.axis.get(Fig.ripple_ratio_worst))
             duty = _ratio(max(duties) if duties else None)
             margin = _num(min(margins) if margins else None, "{:.3g} K")
         row = (
