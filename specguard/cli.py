@@ -615,8 +615,11 @@ def _run_explore(args, root: Path) -> int:
     target = targets[0] if targets else None
     if target is None or target.error is not None:
         return fail(f"{args.path}: {target.error if target else 'no such file'}", "input-unreadable")
+    from .debugging import enabled
+
     try:
-        result = explore(target.path, target.root, target.options)
+        with enabled(args.debug):
+            result = explore(target.path, target.root, target.options)
     except ValueError as exc:
         return fail(f"{args.path}: {exc}", "input-unreadable")
     emit(render_json(result) if args.format == "json" else render_text(result))

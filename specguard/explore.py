@@ -122,6 +122,9 @@ class _Judge:
                     )
                     result = (found, figures)
                 except Exception:  # a variant the figures cannot take is not an option
+                    from .debugging import went_on_without
+
+                    went_on_without("an explore variant")
                     result = None
             self.memo[key] = result
         return self.memo[key]

@@ -402,6 +402,7 @@ def _rule_findings(
     """Figures, then the rule pack, then the fixes verified on the changed spec:
     (findings, FigureSet or None). A failure of any is an internal-error finding
     (exit 3)."""
+    from .debugging import ACTIVE
     from .engine.evaluate import evaluate, load_pack
     from .figures import compute
 
@@ -411,15 +412,17 @@ def _rule_findings(
         overrides = _overrides(rel, options)
         settings = figure_settings(pack, overrides, options.config if options is not None else None)
     except Exception as exc:
+        _raise_when_debugging()
         text = " ".join(f"{type(exc).__name__}: {exc}".split())[:300]
         return [_internal(f"the rule pack could not be evaluated on this file: {text}", loc)], None
     try:
         figures = compute(spec, settings)
     except Exception as exc:
+        _raise_when_debugging()
         text = " ".join(f"{type(exc).__name__}: {exc}".split())[:300]
         return [_internal(f"the figures of this file could not be computed: {text}", loc)], None
     try:
-        judged = evaluate(spec, figures, locate, pack, overrides, remedy=_no_remedy)
+        judged = evaluate(spec, figures, locate, pack, overrides, remedy=_no_remedy, debug=ACTIVE.get())
         findings = _estimate_dependence(judged, spec, figures, locate, pack, overrides, settings)
         if data is not None:
             findings = _verified_fixes(
@@ -429,8 +432,18 @@ def _rule_findings(
 
         return group_consequences(findings, pack), figures
     except Exception as exc:
+        _raise_when_debugging()
         text = " ".join(f"{type(exc).__name__}: {exc}".split())[:300]
         return [_internal(f"the rule pack could not be evaluated on this file: {text}", loc)], figures
+
+
+def _raise_when_debugging() -> None:
+    """Inside an ``except`` block: under ``--debug`` the exception goes on to a
+    traceback instead of becoming an internal-error finding."""
+    from .debugging import ACTIVE
+
+    if ACTIVE.get():
+        raise
 
 
 def _internal(text: str, loc: Location) -> Finding:
@@ -507,6 +520,9 @@ def _estimate_dependence(findings, spec, figures, locate, pack, overrides, setti
     try:
         cat_figures = compute(spec, catalogue_settings)
     except Exception:  # the estimate's figures stand; nothing to compare with
+        from .debugging import went_on_without
+
+        went_on_without("the figures with the catalogue inductance")
         return findings
     at_catalogue: dict[tuple, int] = {}
     for f in evaluate(spec, cat_figures, locate, pack, overrides, remedy=_no_remedy, lean=True):
@@ -554,6 +570,7 @@ def _estimate_dependence(findings, spec, figures, locate, pack, overrides, setti
 
 
 def _verified_fixes(findings, data, spec, figures, locate, pack, overrides, options, settings, judged):
+    from .debugging import ACTIVE
     from .engine.evaluate import effective_bands, evaluate, resolved_overrides, top_severity
     from .engine.fixes import FixContext, verify
     from .figures import compute, remedy
@@ -581,8 +598,13 @@ def _verified_fixes(findings, data, spec, figures, locate, pack, overrides, opti
         try:
             figs = compute(variant, settings)
         except Exception:  # a change the figures cannot take is no fix
+            from .debugging import went_on_without
+
+            went_on_without("a fix variant's figures")
             return None
-        found = evaluate(variant, figs, locate, pack, overrides, remedy=_no_remedy, lean=True, rules=judging)
+        found = evaluate(
+            variant, figs, locate, pack, overrides, remedy=_no_remedy, lean=True, rules=judging, debug=ACTIVE.get()
+        )
         return built + found, figs, variant
 
     def candidate(name, spec_, figures_, *, point, limit):
@@ -843,8 +865,11 @@ def analyse_one(
 ) -> FileResult:
     """Analyse one read spec, turning a bug into an internal-error finding, and
     store a cacheable result."""
+    from .debugging import enabled
+
     try:
-        result, payload = analyse(raw, size, path, rel, root, cache, options)
+        with enabled(debug):
+            result, payload = analyse(raw, size, path, rel, root, cache, options)
     except (KeyboardInterrupt, SystemExit):
         raise
     except Exception as exc:  # a bug: report it as a finding, exit 3

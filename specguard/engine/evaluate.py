@@ -962,6 +962,9 @@ def evaluate_batch(
         except (KeyboardInterrupt, SystemExit, OverrideError):
             raise
         except Exception:
+            from ..debugging import went_on_without
+
+            went_on_without(f"rule '{prule.id}' on a batch of variants")
             rank = np.full(size, SEVERITY_ORDER["error"], dtype=int)  # internal-error, as in a check
         out[prule.id] = rank
     return out
