@@ -258,31 +258,30 @@ def _pwm_frequency_inaudible(c: _Case) -> Remedy | None:
     return Remedy(c.name, text, value, "Hz")
 
 
+def _rating(c: _Case, needed, words: str) -> Remedy | None:
+    """A current rating that takes ``needed`` with the band's margin (``needed`` over
+    the band's ratio); ``words`` holds ``{}`` for the rating."""
+    if needed is None or c.limit <= 0:
+        return None
+    value = float(needed) / c.limit
+    return Remedy(c.name, words.format(_fmt(value, "current")), value, "A")
+
+
 @_solves(Rem.stage_continuous_current)
 def _stage_continuous_current(c: _Case) -> Remedy | None:
     i_out = c.figures.value(Fig.stage_current_rms, c.point) if c.point is not None else None
-    if i_out is None or c.limit <= 0:
-        return None
-    value = float(i_out) / c.limit
-    return Remedy(c.name, f"use a stage rated for at least {_fmt(value, 'current')} continuous", value, "A")
+    return _rating(c, i_out, "use a stage rated for at least {} continuous")
 
 
 @_solves(Rem.stage_peak_current)
 def _stage_peak_current(c: _Case) -> Remedy | None:
-    peak = c.figures.value(Fig.peak_current_reached)
-    if peak is None or c.limit <= 0:
-        return None
-    value = float(peak) / c.limit
-    return Remedy(c.name, f"use a stage rated for at least {_fmt(value, 'current')} peak", value, "A")
+    return _rating(c, c.figures.value(Fig.peak_current_reached), "use a stage rated for at least {} peak")
 
 
 @_solves(Rem.choke_saturation_current)
 def _choke_saturation_current(c: _Case) -> Remedy | None:
-    i_pk = c.figures.value(Fig.choke_peak_current)
-    if i_pk is None or c.limit <= 0:
-        return None
-    value = float(i_pk) / c.limit
-    return Remedy(c.name, f"use chokes rated for at least {_fmt(value, 'current')} saturation current", value, "A")
+    words = "use chokes rated for at least {} saturation current"
+    return _rating(c, c.figures.value(Fig.choke_peak_current), words)
 
 
 @_solves(Rem.pwm_scheme)
