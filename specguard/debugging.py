@@ -29,6 +29,13 @@ def enabled(on: bool) -> Iterator[None]:
         ACTIVE.reset(token)
 
 
+def reraise_when_debugging() -> None:
+    """Call inside an ``except`` block that turns the exception into a finding: under
+    ``--debug`` the exception goes on to its traceback instead."""
+    if ACTIVE.get():
+        raise
+
+
 def went_on_without(what: str) -> None:
     """Call inside an ``except`` block that goes on without ``what``: under
     ``--debug`` the exception's traceback goes to stderr, else nothing."""

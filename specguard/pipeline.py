@@ -402,7 +402,7 @@ def _rule_findings(
     """Figures, then the rule pack, then the fixes verified on the changed spec:
     (findings, FigureSet or None). A failure of any is an internal-error finding
     (exit 3)."""
-    from .debugging import ACTIVE
+    from .debugging import ACTIVE, reraise_when_debugging
     from .engine.evaluate import evaluate, load_pack
     from .figures import compute
 
@@ -412,13 +412,13 @@ def _rule_findings(
         overrides = _overrides(rel, options)
         settings = figure_settings(pack, overrides, options.config if options is not None else None)
     except Exception as exc:
-        _raise_when_debugging()
+        reraise_when_debugging()
         text = " ".join(f"{type(exc).__name__}: {exc}".split())[:300]
         return [_internal(f"the rule pack could not be evaluated on this file: {text}", loc)], None
     try:
         figures = compute(spec, settings)
     except Exception as exc:
-        _raise_when_debugging()
+        reraise_when_debugging()
         text = " ".join(f"{type(exc).__name__}: {exc}".split())[:300]
         return [_internal(f"the figures of this file could not be computed: {text}", loc)], None
     try:
@@ -432,18 +432,9 @@ def _rule_findings(
 
         return group_consequences(findings, pack), figures
     except Exception as exc:
-        _raise_when_debugging()
+        reraise_when_debugging()
         text = " ".join(f"{type(exc).__name__}: {exc}".split())[:300]
         return [_internal(f"the rule pack could not be evaluated on this file: {text}", loc)], figures
-
-
-def _raise_when_debugging() -> None:
-    """Inside an ``except`` block: under ``--debug`` the exception goes on to a
-    traceback instead of becoming an internal-error finding."""
-    from .debugging import ACTIVE
-
-    if ACTIVE.get():
-        raise
 
 
 def _internal(text: str, loc: Location) -> Finding:
@@ -560,10 +551,9 @@ def _estimate_dependence(findings, spec, figures, locate, pack, overrides, setti
         aim = f.aim
         if aim is not None and prule is not None:
             # its fixes aim at the band it is shown at
-            from .engine.evaluate import effective_bands
+            from .engine.evaluate import band_of
 
-            bands = effective_bands(prule, overrides.get(prule.id))
-            band = next((b for b in bands if b.severity == softer), bands[-1])
+            band = band_of(prule, overrides.get(prule.id), softer)
             aim = (float(band.threshold), aim[1], aim[2])
         out.append(_replace(f, message=f.message + note, severity=softer, aim=aim))
     return out
@@ -571,7 +561,7 @@ def _estimate_dependence(findings, spec, figures, locate, pack, overrides, setti
 
 def _verified_fixes(findings, data, spec, figures, locate, pack, overrides, options, settings, judged):
     from .debugging import ACTIVE
-    from .engine.evaluate import effective_bands, evaluate, resolved_overrides, top_severity
+    from .engine.evaluate import band_of, evaluate, resolved_overrides, top_severity
     from .engine.fixes import FixContext, verify
     from .figures import compute, remedy
     from .figures.levers import cost_weights
@@ -627,9 +617,7 @@ def _verified_fixes(findings, data, spec, figures, locate, pack, overrides, opti
         prule = pack.get(rule_id)
         if prule is None:
             return None
-        bands = effective_bands(prule, resolved.get(prule.id))
-        # a severity the policy overrides is given by every band: clearing it takes the lowest
-        band = next((b for b in bands if b.severity == severity), bands[-1])
+        band = band_of(prule, resolved.get(prule.id), severity)
         if band.comparator == "is":
             return None
         return float(band.threshold)

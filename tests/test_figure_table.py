@@ -156,5 +156,7 @@ def test_every_figure_is_computed_or_says_why_not(which):
                 present = all(fdef.name in values for _, values in fs.points)
             if not present:
                 silent.add((prule.rule.id, fdef.name))
+    # the built-in pack has 85 rules, each with examples (docs/rules.md); all 85 build
+    # today, also stripped; 60 is a floor that leaves room for new rules' examples
     assert built >= 60
     assert sorted(silent) == []

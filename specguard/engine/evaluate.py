@@ -798,6 +798,13 @@ def _finding(
     )
 
 
+def band_of(prule: PackRule, override: RuleOverride | None, severity: str) -> CompiledBand:
+    """The band of ``severity`` in force under ``override``; where the policy gives
+    every band one severity, the lowest (clearing that severity takes it)."""
+    bands = effective_bands(prule, override)
+    return next((b for b in bands if b.severity == severity), bands[-1])
+
+
 def top_severity(prule: PackRule, override: RuleOverride | None) -> str:
     """The most severe finding the rule can give under ``override``."""
     if override is not None and override.severity:

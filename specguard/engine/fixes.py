@@ -351,12 +351,18 @@ def step_and_bisect(start: float, at_least: bool, attempt, steps=_STEPS, figure=
     return _bracketed(at_least, attempt, (edit, outcome), low, figure, target)
 
 
-def _side_effects(ctx: FixContext, edit, after: list[Finding] | None, before: list[Finding]) -> tuple[str, ...]:
-    out = []
-    gone = sorted({f.rule for f in before} - {f.rule for f in after or []})
-    if gone:
-        out.append("also clears " + ", ".join(gone))
-    return tuple(out)
+def _as_fix(ctx: FixContext, text: str, changes, after, findings: list[Finding], reached: str, cost: float) -> Fix:
+    """A verified change as the outputs give it: its edits located in the axis file,
+    the findings it clears, the band it reaches, the rules it also clears, its cost."""
+    gone = sorted({f.rule for f in findings} - {f.rule for f in after or []})
+    return Fix(
+        text=text,
+        changes=tuple(Change(p, v, ctx.region(_path(p))) for p, v in changes),
+        clears=tuple(sorted({f.rule for f in findings if _key(f) not in _keys(after)})),
+        reaches=reached,
+        side_effects=("also clears " + ", ".join(gone),) if gone else (),
+        cost=cost,
+    )
 
 
 def verify(
@@ -414,16 +420,7 @@ def verify(
             text = edit.text
             if reached != "clear" and lowest_threshold != band_threshold and not getattr(lever, "categorical", False):
                 text += _also_clears(ctx, lever, name, finding, lowest_threshold, lowest_band, edit, before_failing)
-            fixes.append(
-                Fix(
-                    text=text,
-                    changes=tuple(Change(p, v, ctx.region(_path(p))) for p, v in edit.changes),
-                    clears=tuple(sorted({f.rule for f in findings if _key(f) not in _keys(after)})),
-                    reaches=reached,
-                    side_effects=_side_effects(ctx, edit, after, findings),
-                    cost=edit.cost,
-                )
-            )
+            fixes.append(_as_fix(ctx, text, edit.changes, after, findings, reached, edit.cost))
         paired = False
         if not fixes and finding.severity != "info":
             pair = _pair(ctx, finding, names, before_failing, band_threshold)
@@ -431,16 +428,9 @@ def verify(
                 edit_a, edit_b, reached, sub = pair
                 after = _variant(sub, edit_b)
                 paired = True
-                fixes.append(
-                    Fix(
-                        text=f"{edit_a.text}, and {edit_b.text}",
-                        changes=tuple(Change(p, v, ctx.region(_path(p))) for p, v in edit_a.changes + edit_b.changes),
-                        clears=tuple(sorted({f.rule for f in findings if _key(f) not in _keys(after)})),
-                        reaches=reached,
-                        side_effects=_side_effects(ctx, edit_b, after, findings),
-                        cost=edit_a.cost + edit_b.cost,
-                    )
-                )
+                text = f"{edit_a.text}, and {edit_b.text}"
+                changes = edit_a.changes + edit_b.changes
+                fixes.append(_as_fix(ctx, text, changes, after, findings, reached, edit_a.cost + edit_b.cost))
         fixes.sort(key=lambda f: (f.cost, f.text))
         message = finding.message
         if unhelpful:
@@ -491,8 +481,9 @@ def _pair(ctx: FixContext, finding: Finding, names: tuple[str, ...], before_fail
             continue
         edit_a = first[0]
         after_a = _variant(ctx, edit_a) or []
+        raised = _failing(after_a, ctx.fail_level) - before_failing
         new = sorted(
-            (f for f in after_a if _key(f) in _failing(after_a, ctx.fail_level) - before_failing),
+            (f for f in after_a if _key(f) in raised),
             key=lambda f: (-SEVERITY_ORDER[f.severity], f.rule, f.operating_point or ""),
         )
         for other in new[:3]:

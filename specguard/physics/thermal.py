@@ -16,7 +16,6 @@ form from its two real eigenvalues (no scipy at run time).
 
 from __future__ import annotations
 
-import contextlib
 import functools
 import math
 from collections.abc import Sequence
@@ -502,8 +501,7 @@ def winding_temperature_cyclic(
             int(samples_per_segment),
         )
     # arrays: a runaway element overflows quietly to +inf (masked at the end)
-    quiet = np.errstate(over="ignore", invalid="ignore", divide="ignore") if xp.vector else contextlib.nullcontext()
-    with quiet:
+    with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
         return _cyclic(
             segments,
             resistance_20,

@@ -75,4 +75,5 @@ def test_a_fault_in_the_rules_is_a_finding_or_with_debug_a_traceback(monkeypatch
 def test_without_a_fault_the_lift_has_verified_fixes():
     """The control of the first test: the demo's lift does get fixes."""
     report = check_paths([str(LIFT)], root=ROOT / "examples" / "robot")
+    # the demo's golden text output (tests/golden/demo.txt) prints five fix lines for the lift
     assert len(_fixes(report)) >= 3
